@@ -1,0 +1,68 @@
+"""``volbench`` command line: a thin argparse front end over the core.
+
+Each sub-command lives in a module ``cmd_<name>.py`` in this package that defines
+``register(subparsers)``; :func:`main` discovers them, so adding a command touches no shared file.
+Exit codes: 0 success, 2 bad input (one line on stderr, no traceback), 1 internal error.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import pkgutil
+import sys
+
+from volbench import __version__
+from volbench.errors import VolbenchError
+
+EXIT_OK, EXIT_INTERNAL, EXIT_BAD_INPUT = 0, 1, 2
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that reports usage errors as one line and exit code 2."""
+
+    def error(self, message: str) -> None:  # pragma: no cover - exercised through main
+        self.print_usage(sys.stderr)
+        raise SystemExit(f"volbench: error: {message}")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(
+        prog="volbench",
+        description="Estimate, check and defend the volatility used to price an option, from price CSVs.",
+        epilog="Estimates are statistical and carry model risk; they are not advice. "
+               "Your firm's model-validation policy governs their use.",
+    )
+    parser.add_argument("--version", action="version", version=f"volbench {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    sub.required = True
+    for info in sorted(pkgutil.iter_modules(__path__), key=lambda m: m.name):
+        if info.name.startswith("cmd_"):
+            importlib.import_module(f"{__name__}.{info.name}").register(sub)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Run the command line; returns the exit code."""
+    parser = build_parser()
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as exc:
+        if isinstance(exc.code, str):
+            print(exc.code, file=sys.stderr)
+            return EXIT_BAD_INPUT
+        return int(exc.code or 0)
+    try:
+        return int(args.func(args) or 0)
+    except VolbenchError as exc:
+        print(f"volbench: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except BrokenPipeError:  # output piped into head etc.
+        return EXIT_OK
+    except KeyboardInterrupt:
+        print("volbench: interrupted", file=sys.stderr)
+        return EXIT_INTERNAL
+    except Exception as exc:  # an internal error: say so in one line, never a traceback
+        print(f"volbench: internal error ({type(exc).__name__}: {exc}); please report it "
+              "with the command and file that caused it", file=sys.stderr)
+        return EXIT_INTERNAL

@@ -1,0 +1,3 @@
+from volbench.cli import main
+
+raise SystemExit(main())

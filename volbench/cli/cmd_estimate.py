@@ -1,0 +1,107 @@
+"""``volbench estimate`` and ``volbench check``."""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import sys
+
+from volbench.cli.common import (
+    add_annualization, add_file_options, add_format, load_from_args, pct, print_json, render_table,
+)
+from volbench.estimators import REGISTRY, estimate_all
+from volbench.types import check_window
+
+
+def register(sub) -> None:
+    p = sub.add_parser(
+        "estimate", help="point estimates of every volatility estimator",
+        description="Annualized volatility of each estimator (close-to-close, Parkinson, Garman-Klass, "
+                    "Rogers-Satchell, Yang-Zhang, EWMA) over the last N bars or the whole file, "
+                    "with 95%% confidence intervals. Estimators whose columns are missing are listed "
+                    "with the reason.",
+    )
+    add_file_options(p)
+    p.add_argument("--window", default="all", metavar="N|all",
+                   help="bars in the estimation window ending at the as-of date, or 'all' (default)")
+    add_annualization(p)
+    p.add_argument("--as-of", metavar="YYYY-MM-DD", default=None,
+                   help="last date of the window (default: last row of each file)")
+    add_format(p, ("table", "json", "csv"))
+    p.set_defaults(func=run_estimate)
+
+    c = sub.add_parser(
+        "check", help="data-quality findings for price files",
+        description="List data-quality findings: missing or non-numeric values, non-positive prices, "
+                    "high below low, open/close outside the range, duplicate dates, calendar gaps, "
+                    "stale closes and jumps that look like unadjusted splits or bad ticks.",
+    )
+    add_file_options(c)
+    add_format(c)
+    c.set_defaults(func=run_check)
+
+
+def run_estimate(args: argparse.Namespace) -> int:
+    window = check_window(args.window, minimum=1)
+    histories = load_from_args(args)
+    reports = [estimate_all(h, window, as_of=args.as_of, annualization=args.annualization) for h in histories]
+    if args.format == "json":
+        print_json({"series": [r.as_dict() for r in reports]})
+        return 0
+    if args.format == "csv":
+        w = csv.writer(sys.stdout, lineterminator="\n")
+        w.writerow(["series", "as_of", "estimator", "window", "annualization", "vol", "ci_low", "ci_high", "n",
+                    "flagged_rows", "unavailable_reason"])
+        for r in reports:
+            win = "all" if r.window is None else r.window
+            flag = "excluded" if r.history.exclude_flagged else "kept"
+            for k in REGISTRY:
+                if k in r.estimates:
+                    e = r.estimates[k]
+                    w.writerow([r.history.name, r.as_of, k, win, r.annualization, f"{e.vol:.10g}",
+                                f"{e.ci_low:.10g}", f"{e.ci_high:.10g}", e.n, flag, ""])
+                elif k in r.unavailable:
+                    w.writerow([r.history.name, r.as_of, k, win, r.annualization, "", "", "", "", flag,
+                                r.unavailable[k]])
+        return 0
+    for i, r in enumerate(reports):
+        h = r.history
+        if i:
+            print()
+        win = "whole history" if r.window is None else f"last {r.window} bars"
+        print(f"{h.name}  ({h.source.name if h.source else ''}: {h.n} rows, {h.first_date} to {h.last_date})")
+        print(f"as of {r.as_of}, {win}, annualized with {r.annualization:g} bars/year; "
+              f"flagged rows {'excluded' if h.exclude_flagged else 'kept'}"
+              + (f" ({len([f for f in h.findings if f.severity != 'info'])} findings: run 'volbench check')"
+                 if any(f.severity != "info" for f in h.findings) else ""))
+        rows = []
+        for k, spec in REGISTRY.items():
+            if k in r.estimates:
+                e = r.estimates[k]
+                ci = f"{pct(e.ci_low)} - {pct(e.ci_high)}" + ("" if spec.ci_exact else " ~")
+                rows.append([spec.label, pct(e.vol), ci, e.n])
+            elif k in r.unavailable:
+                rows.append([spec.label, "n/a", r.unavailable[k], ""])
+        print(render_table(["estimator", "vol", "95% interval", "n"], rows, "lrlr"))
+    print("\n~ approximate interval (effective sample size). Estimates are statistical, not advice.")
+    return 0
+
+
+def run_check(args: argparse.Namespace) -> int:
+    histories = load_from_args(args)
+    if args.format == "json":
+        print_json({"series": [{"name": h.name, "source": str(h.source) if h.source else None,
+                                "rows": h.n, "findings": [f.as_dict() for f in h.findings]} for h in histories]})
+        return 0
+    for i, h in enumerate(histories):
+        if i:
+            print()
+        counts = {s: sum(f.severity == s for f in h.findings) for s in ("error", "warning", "info")}
+        print(f"{h.name}  ({h.source.name if h.source else ''}: {h.n} usable rows, {h.first_date} to {h.last_date}) "
+              f"- {counts['error']} errors, {counts['warning']} warnings, {counts['info']} notes")
+        if h.findings:
+            rows = [[f.severity, f.kind, f.line or "", f.date or "", f.column or "", f.message] for f in h.findings]
+            print(render_table(["severity", "kind", "line", "date", "column", "message"], rows, "llrlll"))
+        else:
+            print("no findings")
+    return 0

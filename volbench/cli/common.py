@@ -1,0 +1,102 @@
+"""Shared pieces for sub-commands: file and setting options, loading, and output formatting."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import math
+import sys
+from collections.abc import Sequence
+
+from volbench.data import load_many
+from volbench.data.history import PriceHistory
+from volbench.data.quality import QualitySettings
+from volbench.errors import VolbenchError
+from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
+
+
+def add_file_options(p: argparse.ArgumentParser, *, many: bool = True) -> None:
+    """FILE arguments and the import options every data command shares."""
+    p.add_argument("files", nargs="+" if many else 1, metavar="FILE",
+                   help="price CSV file(s): a date column and a close column at least; "
+                        "open/high/low enable the range estimators; a symbol column holds several series")
+    p.add_argument("--date-format", metavar="FMT", default=None,
+                   help="strftime format of the date column when it is not ISO, e.g. %%d/%%m/%%Y")
+    p.add_argument("--exclude-flagged", action="store_true",
+                   help="leave out rows flagged by data-quality warnings (kept by default; the choice is reported)")
+    p.add_argument("--adjusted", action="store_true",
+                   help="use the adjusted close (open/high/low scaled to match) when the file has one")
+    p.add_argument("--gap-days", type=int, default=QualitySettings.gap_days, metavar="D",
+                   help="report calendar gaps longer than D days (default %(default)s)")
+
+
+def add_annualization(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--annualization", type=float, default=DEFAULT_ANNUALIZATION, metavar="A",
+                   help="bars per year used to annualize (default %(default)g; 365 for markets open every day)")
+
+
+def add_format(p: argparse.ArgumentParser, choices: Sequence[str] = ("table", "json")) -> None:
+    p.add_argument("--format", choices=list(choices), default="table",
+                   help="output format (default table)")
+
+
+def load_from_args(args: argparse.Namespace) -> list[PriceHistory]:
+    """Load every FILE with the shared import options."""
+    if getattr(args, "annualization", None) is not None:
+        check_annualization(args.annualization)
+    return load_many(
+        args.files,
+        date_format=args.date_format,
+        exclude_flagged=args.exclude_flagged,
+        use_adjusted=args.adjusted,
+        quality=QualitySettings(gap_days=args.gap_days),
+    )
+
+
+def parse_int_list(text: str, what: str) -> list[int]:
+    """``"1,2,5"`` -> ``[1, 2, 5]`` with a clear error naming ``what``."""
+    try:
+        values = [int(x) for x in text.replace(" ", "").split(",") if x]
+    except ValueError:
+        raise VolbenchError(f"{what} must be whole numbers separated by commas, e.g. 5,21,63; got {text!r}") from None
+    if not values or any(v < 1 for v in values):
+        raise VolbenchError(f"{what} must be positive whole numbers separated by commas; got {text!r}")
+    return values
+
+
+def _clean(obj):
+    """Make a structure JSON-safe: NaN/inf become null (never passed off as numbers)."""
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, dict):
+        return {str(k): _clean(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_clean(v) for v in obj]
+    if hasattr(obj, "item") and callable(obj.item):  # numpy scalars
+        return _clean(obj.item())
+    return obj
+
+
+def print_json(obj) -> None:
+    json.dump(_clean(obj), sys.stdout, indent=2, allow_nan=False)
+    sys.stdout.write("\n")
+
+
+def render_table(headers: Sequence[str], rows: Sequence[Sequence], align: str | None = None) -> str:
+    """Plain fixed-width text table; ``align`` per column 'l' or 'r' (numbers right by default)."""
+    cells = [[("" if c is None else str(c)) for c in row] for row in rows]
+    widths = [max([len(h)] + [len(r[i]) for r in cells]) for i, h in enumerate(headers)]
+    if align is None:
+        align = "l" + "r" * (len(headers) - 1)
+    def fmt(row):
+        return "  ".join(c.ljust(w) if a == "l" else c.rjust(w) for c, w, a in zip(row, widths, align)).rstrip()
+    lines = [fmt(headers), "  ".join("-" * w for w in widths)]
+    lines += [fmt(r) for r in cells]
+    return "\n".join(lines)
+
+
+def pct(x: float | None, digits: int = 2) -> str:
+    """0.2345 -> '23.45%'; None/NaN -> 'n/a'."""
+    if x is None or not math.isfinite(x):
+        return "n/a"
+    return f"{100 * x:.{digits}f}%"

@@ -1,0 +1,258 @@
+"""The immutable price-history object every estimator, check and pane works on."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, replace
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from volbench.errors import VolbenchError
+from volbench.types import Column, Severity
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One data-quality finding.
+
+    Attributes
+    ----------
+    severity
+        ``"error"``: the row is unusable (missing, non-numeric or non-positive price) and is always
+        left out, which the finding says. ``"warning"``: suspicious but computable; the row is kept
+        unless the caller excludes flagged rows. ``"info"``: context only (e.g. a calendar gap).
+    kind
+        Machine-readable kind, one of :data:`FINDING_KINDS`.
+    line
+        1-based line number in the source file (the header is line 1), or ``None``.
+    date
+        ISO date of the row concerned, or ``None`` when the date itself is unreadable.
+    column
+        Column concerned (canonical name such as ``"close"``), or ``None``.
+    message
+        One plain sentence: what was found and what it means / what to do.
+    lines
+        Every file line this finding flags (for row exclusion); usually ``(line,)``.
+    """
+
+    severity: Severity
+    kind: str
+    line: int | None
+    date: str | None
+    column: str | None
+    message: str
+    lines: tuple[int, ...] = ()
+
+    def as_dict(self) -> dict:
+        return {
+            "severity": self.severity,
+            "kind": self.kind,
+            "line": self.line,
+            "date": self.date,
+            "column": self.column,
+            "message": self.message,
+        }
+
+
+FINDING_KINDS = (
+    "missing_value",
+    "non_numeric",
+    "non_positive",
+    "bad_date",
+    "high_below_low",
+    "outside_range",
+    "duplicate_date",
+    "gap",
+    "stale_run",
+    "jump",
+    "sorted",
+)
+
+
+def _ro(a: np.ndarray | None, dtype) -> np.ndarray | None:
+    if a is None:
+        return None
+    out = np.array(a, dtype=dtype, copy=True)
+    out.setflags(write=False)
+    return out
+
+
+@dataclass(frozen=True, eq=False)
+class PriceHistory:
+    """One price series: dates and OHLC arrays, ascending, all values finite and positive.
+
+    Rows with unusable values never reach this object (they are reported as ``error`` findings).
+    Rows with ``warning`` findings are present unless :meth:`select` was called with
+    ``exclude_flagged=True``; the choice and the excluded lines are recorded here so results can
+    carry them.
+
+    Attributes
+    ----------
+    name, source
+        Series name (symbol, or file stem) and the file it came from.
+    dates
+        ``datetime64[ns]`` array, strictly increasing.
+    open, high, low, close, volume
+        float64 arrays aligned with ``dates``; ``None`` where the file has no such column.
+    lines
+        File line number of each row.
+    findings
+        Every data-quality finding for this series.
+    exclude_flagged
+        Whether rows flagged by ``warning`` findings have been removed.
+    excluded_lines
+        File lines removed by that choice (empty when flagged rows are kept).
+    price_basis
+        ``"close"`` or ``"adjusted close"``: which close column the prices come from.
+    """
+
+    name: str
+    source: Path | None
+    dates: np.ndarray
+    close: np.ndarray
+    open: np.ndarray | None = None
+    high: np.ndarray | None = None
+    low: np.ndarray | None = None
+    volume: np.ndarray | None = None
+    lines: np.ndarray | None = None
+    findings: tuple[Finding, ...] = ()
+    exclude_flagged: bool = False
+    excluded_lines: tuple[int, ...] = ()
+    price_basis: str = "close"
+    _sha256: str | None = field(default=None, repr=False)
+
+    def __post_init__(self) -> None:
+        n = len(self.close)
+        set_ = object.__setattr__
+        set_(self, "dates", _ro(np.asarray(self.dates, dtype="datetime64[ns]"), "datetime64[ns]"))
+        for col in ("open", "high", "low", "close", "volume"):
+            arr = getattr(self, col)
+            if arr is not None:
+                if len(arr) != n:
+                    raise VolbenchError(f"{self.name}: column {col} has {len(arr)} values, close has {n}")
+                set_(self, col, _ro(arr, np.float64))
+        if len(self.dates) != n:
+            raise VolbenchError(f"{self.name}: {len(self.dates)} dates but {n} closes")
+        lines = np.arange(2, n + 2) if self.lines is None else self.lines
+        set_(self, "lines", _ro(lines, np.int64))
+        set_(self, "findings", tuple(self.findings))
+        set_(self, "excluded_lines", tuple(int(x) for x in self.excluded_lines))
+        if n > 1 and not np.all(np.diff(self.dates.astype(np.int64)) > 0):
+            raise VolbenchError(f"{self.name}: dates must be strictly increasing")
+
+    # ------------------------------------------------------------------ basic facts
+    def __len__(self) -> int:
+        return len(self.close)
+
+    @property
+    def n(self) -> int:
+        return len(self.close)
+
+    @property
+    def columns(self) -> frozenset[Column]:
+        """Canonical columns present (always includes ``"close"``)."""
+        return frozenset(
+            c for c in ("open", "high", "low", "close", "volume") if getattr(self, c) is not None
+        )
+
+    def has(self, *cols: str) -> bool:
+        return all(getattr(self, c, None) is not None for c in cols)
+
+    @property
+    def first_date(self) -> str | None:
+        return _iso(self.dates[0]) if self.n else None
+
+    @property
+    def last_date(self) -> str | None:
+        return _iso(self.dates[-1]) if self.n else None
+
+    @property
+    def index(self) -> pd.DatetimeIndex:
+        return pd.DatetimeIndex(self.dates, name="date")
+
+    @property
+    def flagged_lines(self) -> frozenset[int]:
+        """File lines flagged by ``warning`` findings (the rows the caller may exclude)."""
+        out: set[int] = set()
+        for f in self.findings:
+            if f.severity == "warning":
+                out.update(f.lines)
+        return frozenset(out)
+
+    @property
+    def sha256(self) -> str | None:
+        """SHA-256 of the source file's bytes at load time (provenance)."""
+        return self._sha256
+
+    def log_returns(self) -> np.ndarray:
+        """Close-to-close log returns r_t = ln(C_t / C_{t-1}), length n - 1."""
+        return np.diff(np.log(self.close))
+
+    def to_frame(self) -> pd.DataFrame:
+        data = {c: getattr(self, c) for c in ("open", "high", "low", "close", "volume") if getattr(self, c) is not None}
+        return pd.DataFrame(data, index=self.index)
+
+    # ------------------------------------------------------------------ derived histories
+    def select(self, exclude_flagged: bool) -> "PriceHistory":
+        """The same series with rows flagged by warnings removed (or restored).
+
+        Always derived from the rows as loaded: calling ``select(False)`` on an excluded history
+        is not possible (the rows are gone), so keep the loaded object and select from it.
+        """
+        if exclude_flagged == self.exclude_flagged:
+            return self
+        if not exclude_flagged:
+            raise VolbenchError(
+                f"{self.name}: flagged rows were already excluded; select from the history as loaded"
+            )
+        flagged = self.flagged_lines
+        keep = ~np.isin(self.lines, np.fromiter(flagged, dtype=np.int64, count=len(flagged)))
+        return self.take(keep, exclude_flagged=True, excluded_lines=tuple(sorted(int(x) for x in self.lines[~keep])))
+
+    def take(self, mask: np.ndarray, **changes) -> "PriceHistory":
+        """A copy keeping the rows where ``mask`` is true (findings and provenance carried over)."""
+        cols = {c: (None if getattr(self, c) is None else getattr(self, c)[mask]) for c in ("open", "high", "low", "close", "volume")}
+        return replace(self, dates=self.dates[mask], lines=self.lines[mask], **cols, **changes)
+
+    def up_to(self, as_of: str | np.datetime64 | pd.Timestamp | None) -> "PriceHistory":
+        """Rows dated on or before ``as_of`` (inclusive); the whole history when ``None``."""
+        if as_of is None:
+            return self
+        ts = parse_as_of(as_of)
+        mask = self.dates <= np.datetime64(ts.to_datetime64(), "ns") + np.timedelta64(1, "D") - np.timedelta64(1, "ns")
+        if not mask.any():
+            raise VolbenchError(
+                f"{self.name}: as-of date {ts.date()} is before the first row ({self.first_date}); "
+                f"choose a date between {self.first_date} and {self.last_date}"
+            )
+        return self if mask.all() else self.take(mask)
+
+    def provenance(self) -> dict:
+        return {
+            "series": self.name,
+            "source": str(self.source) if self.source else None,
+            "source_file": self.source.name if self.source else None,
+            "sha256": self.sha256,
+            "rows": self.n,
+            "first_date": self.first_date,
+            "last_date": self.last_date,
+            "price_basis": self.price_basis,
+            "flagged_rows": "excluded" if self.exclude_flagged else "kept",
+            "excluded_lines": list(self.excluded_lines),
+        }
+
+
+def _iso(d: np.datetime64) -> str:
+    ts = pd.Timestamp(d)
+    return ts.strftime("%Y-%m-%d") if ts == ts.normalize() else ts.isoformat()
+
+
+def parse_as_of(as_of) -> pd.Timestamp:
+    try:
+        ts = pd.Timestamp(as_of)
+    except (ValueError, TypeError):
+        raise VolbenchError(f"as-of date must look like YYYY-MM-DD, got {as_of!r}") from None
+    if ts is pd.NaT:
+        raise VolbenchError(f"as-of date must look like YYYY-MM-DD, got {as_of!r}")
+    return ts.tz_localize(None) if ts.tzinfo else ts

@@ -1,0 +1,83 @@
+"""Close-only estimators: close-to-close and EWMA."""
+
+from __future__ import annotations
+
+import numpy as np
+from scipy.signal import lfilter
+
+from volbench.data.history import PriceHistory
+from volbench.errors import VolbenchError
+from volbench.estimators.base import EstimatorSpec, pad_front, rolling_mean, rolling_var
+
+EWMA_LAMBDA = 0.94
+"""RiskMetrics decay for daily data (J.P. Morgan/Reuters RiskMetrics Technical Document, 1996)."""
+
+
+def close_to_close_variance(h: PriceHistory, window: int, *, zero_mean: bool = False) -> np.ndarray:
+    """Per-bar variance of close-to-close log returns over trailing windows of ``window`` returns.
+
+    Notes
+    -----
+    r_t = ln(C_t / C_{t-1}); variance = sum (r - rbar)^2 / (n - 1), or with ``zero_mean``
+    sum r^2 / n (common practice; e.g. Hull, *Options, Futures and Other Derivatives*).
+    The value at bar t uses returns r_{t-n+1} .. r_t, i.e. closes t-n .. t.
+    """
+    r = h.log_returns()
+    v = rolling_mean(r * r, window) if zero_mean else rolling_var(r, window, ddof=1)
+    return pad_front(v, 1)
+
+
+def ewma_variance(h: PriceHistory, window: int, *, lam: float = EWMA_LAMBDA) -> np.ndarray:
+    """Exponentially weighted per-bar variance, seeded with the sample variance of the first window.
+
+    Notes
+    -----
+    RiskMetrics (1996): s2_t = lambda s2_{t-1} + (1 - lambda) r_{t-1}^2. The value reported at bar t
+    is the variance forecast made at the close of bar t, so it includes r_t:
+    v_t = lambda v_{t-1} + (1 - lambda) r_t^2, with v at the end of the first ``window`` returns
+    equal to their sample variance (divisor n - 1). The window only sets the seed; every later
+    return is used. Computed as a first-order linear filter (O(n)).
+    """
+    if not 0 < lam < 1:
+        raise VolbenchError(f"EWMA lambda must be between 0 and 1 (exclusive), got {lam}")
+    r = h.log_returns()
+    out = np.full(h.n, np.nan)
+    if len(r) < window:
+        return out
+    seed = float(np.var(r[:window], ddof=1))
+    tail = lfilter([1.0 - lam], [1.0, -lam], r[window:] ** 2, zi=[lam * seed])[0]
+    out[window] = seed
+    out[window + 1:] = tail
+    return out
+
+
+def ewma_effective_n(lam: float = EWMA_LAMBDA) -> float:
+    """Effective sample size (1 + lambda) / (1 - lambda) of an EWMA variance (common practice, no source)."""
+    return (1.0 + lam) / (1.0 - lam)
+
+
+CLOSE_TO_CLOSE = EstimatorSpec(
+    key="close_to_close",
+    label="Close-to-close",
+    short="C2C",
+    needs=frozenset({"close"}),
+    extra_bars=1,
+    variance=close_to_close_variance,
+    efficiency=1.0,
+    ci_exact=True,
+    source="Common practice; e.g. Hull, Options, Futures and Other Derivatives",
+    assumes="i.i.d. normal log returns; uses closes only, so intraday range information is ignored.",
+)
+
+EWMA = EstimatorSpec(
+    key="ewma",
+    label="EWMA (lambda 0.94)",
+    short="EWMA",
+    needs=frozenset({"close"}),
+    extra_bars=1,
+    variance=ewma_variance,
+    efficiency=1.0,
+    whole_sample_window=20,
+    source="J.P. Morgan/Reuters RiskMetrics Technical Document (1996)",
+    assumes="Zero-mean returns whose variance drifts; recent returns weigh most (half-life about 11 bars).",
+)

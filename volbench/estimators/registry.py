@@ -1,0 +1,232 @@
+"""One registry of estimators, and the functions every front end calls.
+
+The GUI, CLI and exports list estimators, labels and requirements from :data:`REGISTRY`, and
+compute through :func:`rolling_vol`, :func:`point_estimate` and :func:`estimate_all`, so that every
+surface shows the same number for the same settings.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+from scipy import stats
+
+from volbench.data.history import PriceHistory, _iso
+from volbench.errors import EstimatorUnavailable, VolbenchError
+from volbench.estimators.base import Estimate, EstimatorSpec, RollingVol
+from volbench.estimators.close_based import CLOSE_TO_CLOSE, EWMA, EWMA_LAMBDA, ewma_effective_n
+from volbench.estimators.range_based import GARMAN_KLASS, PARKINSON, ROGERS_SATCHELL, YANG_ZHANG
+from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_window
+
+REGISTRY: dict[str, EstimatorSpec] = {
+    s.key: s for s in (CLOSE_TO_CLOSE, PARKINSON, GARMAN_KLASS, ROGERS_SATCHELL, YANG_ZHANG, EWMA)
+}
+ESTIMATOR_KEYS: tuple[str, ...] = tuple(REGISTRY)
+
+
+def get_spec(key: str) -> EstimatorSpec:
+    """The spec for ``key``; a clear error listing the choices otherwise."""
+    try:
+        return REGISTRY[key]
+    except KeyError:
+        raise VolbenchError(f"unknown estimator {key!r}; choose one of: {', '.join(REGISTRY)}") from None
+
+
+def availability(history: PriceHistory, key: str, window: int | None) -> str | None:
+    """Why ``key`` cannot be computed on ``history`` with ``window`` (``None`` when it can)."""
+    spec = get_spec(key)
+    missing = sorted(spec.needs - history.columns)
+    if missing:
+        return f"needs {'/'.join(missing)} column{'s' if len(missing) > 1 else ''}"
+    w = _resolve_window(spec, history, window)
+    if w < max(spec.min_window, 2 if spec.ci_exact or spec.extra_bars else 1):
+        need = spec.bars_needed(max(spec.min_window, 2))
+        return f"needs at least {need} rows, file has {history.n}"
+    if window is not None and history.n < spec.bars_needed(window):
+        return f"window {window} needs {spec.bars_needed(window)} rows, history has {history.n}"
+    return None
+
+
+def _resolve_window(spec: EstimatorSpec, history: PriceHistory, window: int | None) -> int:
+    if window is not None:
+        return window
+    if spec.whole_sample_window is not None:
+        return min(spec.whole_sample_window, history.n - spec.extra_bars)
+    return history.n - spec.extra_bars
+
+
+def _check(history: PriceHistory, key: str, window: int | None) -> tuple[EstimatorSpec, int]:
+    spec = get_spec(key)
+    reason = availability(history, key, window)
+    if reason:
+        raise EstimatorUnavailable(key, reason)
+    return spec, _resolve_window(spec, history, window)
+
+
+def _variance(spec: EstimatorSpec, history: PriceHistory, window: int, options: dict) -> np.ndarray:
+    opts = {k: v for k, v in options.items() if v is not None}
+    if spec.key == "ewma":
+        opts = {"lam": opts["lam"]} if "lam" in opts else {}
+    elif spec.key == "close_to_close":
+        opts = {"zero_mean": opts["zero_mean"]} if "zero_mean" in opts else {}
+    else:
+        opts = {}
+    return spec.variance(history, window, **opts)
+
+
+def rolling_vol(
+    history: PriceHistory,
+    key: str,
+    window: int,
+    *,
+    annualization: float = DEFAULT_ANNUALIZATION,
+    **options,
+) -> RollingVol:
+    """Rolling annualized volatility of estimator ``key`` over trailing windows of ``window`` bars.
+
+    Parameters
+    ----------
+    history
+        Price history (rows already selected for the quality policy).
+    key
+        Estimator key from :data:`REGISTRY`.
+    window
+        Bars per window (returns for close-based estimators).
+    annualization
+        Bars per year; vol = sqrt(per-bar variance x annualization).
+    **options
+        ``zero_mean`` (close-to-close) and ``lam`` (EWMA).
+
+    Raises
+    ------
+    EstimatorUnavailable
+        Missing columns or too few rows for the window.
+    """
+    a = check_annualization(annualization)
+    w = check_window(window, minimum=1)
+    if w is None:
+        raise VolbenchError("a rolling series needs a window in bars, not 'all'")
+    spec, w = _check(history, key, w)
+    var = _variance(spec, history, w, options)
+    first = spec.bars_needed(w) - 1
+    seg = var[first:]
+    bad = ~(seg >= 0)
+    idx = history.index[first:]
+    values = pd.Series(np.sqrt(np.where(bad, np.nan, seg) * a), index=idx, name=spec.key)
+    invalid = tuple(_iso(d) for d in history.dates[first:][bad])
+    return RollingVol(spec.key, spec.label, w, a, values[~bad] if bad.any() else values, invalid)
+
+
+def point_estimate(
+    history: PriceHistory,
+    key: str,
+    window: int | str | None = None,
+    *,
+    as_of=None,
+    annualization: float = DEFAULT_ANNUALIZATION,
+    confidence: float = 0.95,
+    **options,
+) -> Estimate:
+    """Annualized volatility of ``key`` over ``window`` bars ending at ``as_of`` (inclusive).
+
+    ``window`` ``None``/``"all"`` uses every row up to ``as_of``. The confidence interval is the
+    chi-square interval for close-to-close (exact under i.i.d. normal returns) and an approximation
+    with effective sample size n x efficiency for the others (labelled approximate).
+
+    Raises
+    ------
+    EstimatorUnavailable
+        Missing columns, too few rows, or a negative variance from inconsistent OHLC rows.
+    VolbenchError
+        Bad window, annualization, confidence or as-of date.
+    """
+    a = check_annualization(annualization)
+    w = check_window(window, minimum=1)
+    if not 0 < confidence < 1:
+        raise VolbenchError(f"confidence must be between 0 and 1, got {confidence}")
+    h = history.up_to(as_of)
+    spec, w_eff = _check(h, key, w)
+    var = float(_variance(spec, h, w_eff, options)[-1])
+    if not var >= 0:
+        raise EstimatorUnavailable(key, "negative variance in this window: some bars have high below low "
+                                        "or prices outside their range; exclude flagged rows")
+    s = np.sqrt(var)
+    if spec.key == "ewma":
+        n = h.n - 1
+        lam = options.get("lam") or EWMA_LAMBDA
+        dof = ewma_effective_n(lam)
+        method = f"approximate: chi-square with effective n {dof:.1f}"
+    else:
+        n = w_eff
+        zero_mean = spec.key == "close_to_close" and bool(options.get("zero_mean"))
+        if spec.ci_exact:
+            dof = float(n if zero_mean else n - 1)
+            method = "chi-square (exact under i.i.d. normal returns)"
+        else:
+            dof = n * spec.efficiency
+            method = f"approximate: chi-square with effective n = {n} x efficiency {spec.efficiency:g}"
+    alpha = 1.0 - confidence
+    q_lo, q_hi = stats.chi2.ppf([alpha / 2, 1 - alpha / 2], dof)
+    ann = np.sqrt(a)
+    return Estimate(
+        key=spec.key, label=spec.label, vol=float(s * ann),
+        ci_low=float(s * np.sqrt(dof / q_hi) * ann), ci_high=float(s * np.sqrt(dof / q_lo) * ann),
+        n=int(n), window=w, as_of=h.last_date, annualization=a, confidence=confidence, ci_method=method,
+    )
+
+
+@dataclass(frozen=True)
+class EstimateReport:
+    """Every requested estimator for one history: estimates and, for the rest, why not."""
+
+    history: PriceHistory
+    window: int | None
+    as_of: str
+    annualization: float
+    estimates: dict[str, Estimate]
+    unavailable: dict[str, str] = field(default_factory=dict)
+
+    def as_dict(self) -> dict:
+        h = self.history
+        return {
+            "name": h.name,
+            "source": str(h.source) if h.source else None,
+            "rows": h.n,
+            "first_date": h.first_date,
+            "last_date": h.last_date,
+            "as_of": self.as_of,
+            "window": "all" if self.window is None else self.window,
+            "annualization": self.annualization,
+            "flagged_rows": "excluded" if h.exclude_flagged else "kept",
+            "estimates": {k: e.as_dict() for k, e in self.estimates.items()},
+            "unavailable": dict(self.unavailable),
+        }
+
+
+def estimate_all(
+    history: PriceHistory,
+    window: int | str | None = None,
+    *,
+    keys: tuple[str, ...] | None = None,
+    as_of=None,
+    annualization: float = DEFAULT_ANNUALIZATION,
+    confidence: float = 0.95,
+    **options,
+) -> EstimateReport:
+    """Point estimates of every (or the chosen) estimator; unavailable ones carry their reason."""
+    w = check_window(window, minimum=1)
+    a = check_annualization(annualization)
+    keys = tuple(keys) if keys else ESTIMATOR_KEYS
+    for k in keys:
+        get_spec(k)
+    h = history.up_to(as_of)
+    est: dict[str, Estimate] = {}
+    unavailable: dict[str, str] = {}
+    for k in keys:
+        try:
+            est[k] = point_estimate(h, k, w, annualization=a, confidence=confidence, **options)
+        except EstimatorUnavailable as exc:
+            unavailable[k] = exc.reason
+    return EstimateReport(h, w, h.last_date, a, est, unavailable)
