@@ -1,0 +1,378 @@
+"""Volatility cone: the historical distribution of rolling realized vol per window length.
+
+A pricing vol is placed by its percentile in the cone column matching the option's life
+(:meth:`Cone.place`), interpolated between the two bracketing windows.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from volbench.data.history import PriceHistory, _iso
+from volbench.errors import EstimatorUnavailable, VolbenchError
+from volbench.estimators import get_spec, rolling_vol
+from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_window
+
+DEFAULT_CONE_WINDOWS: tuple[int, ...] = (10, 20, 40, 60, 120, 250)
+PERCENTILES: dict[str, float] = {"min": 0, "p10": 10, "p25": 25, "p50": 50, "p75": 75, "p90": 90, "max": 100}
+"""Cone columns and the percentile each one is (numpy.percentile, linear interpolation)."""
+
+
+def hodges_tompkins_factor(window: int, n: int) -> float:
+    """Hodges-Tompkins factor for the standard deviation of vols from overlapping windows.
+
+    Parameters
+    ----------
+    window
+        Bars per window, h.
+    n
+        Number of overlapping windows, T - h + 1 for T observations.
+
+    Notes
+    -----
+    1 / sqrt(1 - h/n + (h^2 - 1) / (3 n^2)) (Hodges & Tompkins 2002, J. of Derivatives 10(1)).
+    Greater than 1 when h is small against n: overlapping windows share returns, so their vols
+    disperse less than independent ones would and the spread is widened to compensate. The paper
+    derives it for n large against h; the cone notes columns with fewer than two independent windows.
+    """
+    h, n = float(window), float(n)
+    return 1.0 / math.sqrt(1.0 - h / n + (h * h - 1.0) / (3.0 * n * n))
+
+
+def percentile_rank(sorted_values: np.ndarray, vol) -> float | np.ndarray:
+    """Percentile (0-100) of ``vol`` in a sample: the inverse of ``numpy.percentile`` (linear).
+
+    Notes
+    -----
+    For sorted x_0 <= ... <= x_{m-1}, ``numpy.percentile(x, p)`` interpolates at position
+    (m - 1) p / 100. This returns the p whose percentile is ``vol``: 100 pos / (m - 1), with pos
+    found by linear interpolation between neighbours; a value equal to a run of ties gets the
+    middle of the run; below the minimum 0, above the maximum 100 (common practice, no source).
+    """
+    x = np.asarray(sorted_values, dtype=float)
+    v = np.asarray(vol, dtype=float)
+    m = len(x)
+    lo = np.searchsorted(x, v, side="left")
+    hi = np.searchsorted(x, v, side="right")
+    tie = hi > lo
+    j = np.clip(lo, 1, m - 1)
+    left, right = x[j - 1], x[j]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        between = (j - 1) + np.where(right > left, (v - left) / np.where(right > left, right - left, 1.0), 0.0)
+    pos = np.where(tie, (lo + hi - 1) / 2.0, between)
+    pos = np.where(v < x[0], 0.0, np.where(v > x[-1], m - 1.0, pos))
+    out = 100.0 * pos / (m - 1)
+    return float(out) if out.ndim == 0 else out
+
+
+@dataclass(frozen=True)
+class ConePlacement:
+    """Where a vol sits in the cone for an option of ``days`` bars.
+
+    ``windows`` holds the one or two cone windows used and ``weights`` their interpolation weights;
+    ``clamped`` is true when ``days`` lies outside the cone's windows and the nearest end column
+    was used; ``adjusted`` when the Hodges-Tompkins-adjusted distribution was used; ``note`` says
+    all of this in a sentence.
+    """
+
+    vol: float
+    days: int
+    percentile: float
+    windows: tuple[int, ...]
+    weights: tuple[float, ...]
+    clamped: bool
+    adjusted: bool
+    note: str
+
+    def as_dict(self) -> dict:
+        return {"vol": self.vol, "days": self.days, "percentile": self.percentile,
+                "windows": list(self.windows), "weights": list(self.weights),
+                "clamped": self.clamped, "adjusted": self.adjusted, "note": self.note}
+
+
+@dataclass(frozen=True)
+class Cone:
+    """A volatility cone for one series and estimator.
+
+    Attributes
+    ----------
+    name, estimator, label
+        Series name, estimator key and label.
+    annualization
+        Bars per year used.
+    start, end, rows
+        First and last date and row count of the history the cone was built on (the selected range).
+    hodges_tompkins
+        Whether the adjusted columns are present and used by :meth:`place`.
+    table
+        Indexed by ``window``; columns min, p10, p25, p50, p75, p90, max (percentiles of the rolling
+        vols), mean, current (the last rolling value), current_percentile (its rank, 0-100, see
+        :func:`percentile_rank`), n_windows (overlapping windows = rolling values), n_independent
+        (non-overlapping windows, floor(observations / window)); with Hodges-Tompkins also
+        ht_factor and min_adj ... max_adj = mean + ht_factor x (column - mean), floored at 0.
+    dropped
+        Window -> reason, for windows that do not fit the history.
+    notes
+        Caveats a reader needs (few independent windows, EWMA, left-out bars, floored values).
+    rolling
+        Window -> rolling vol series (date index) behind each column.
+    """
+
+    name: str
+    estimator: str
+    label: str
+    annualization: float
+    start: str
+    end: str
+    rows: int
+    hodges_tompkins: bool
+    table: pd.DataFrame
+    dropped: dict[int, str] = field(default_factory=dict)
+    notes: tuple[str, ...] = ()
+    rolling: dict[int, pd.Series] = field(default_factory=dict, repr=False)
+
+    @property
+    def windows(self) -> tuple[int, ...]:
+        return tuple(int(w) for w in self.table.index)
+
+    def _sample(self, window: int, adjusted: bool) -> np.ndarray:
+        x = np.sort(self.rolling[window].to_numpy())
+        if adjusted:
+            mean = float(self.table.at[window, "mean"])
+            x = mean + float(self.table.at[window, "ht_factor"]) * (x - mean)
+        return x
+
+    def rank(self, vol: float, window: int) -> float:
+        """Percentile (0-100) of ``vol`` in the column for ``window`` (adjusted under Hodges-Tompkins)."""
+        if window not in self.rolling:
+            raise VolbenchError(f"window {window} is not in this cone; windows: "
+                                f"{', '.join(str(w) for w in self.windows)}")
+        return float(percentile_rank(self._sample(window, self.hodges_tompkins), vol))
+
+    def place(self, vol: float, days: int) -> ConePlacement:
+        """Percentile of ``vol`` at the cone window matching an option life of ``days`` bars.
+
+        Notes
+        -----
+        When ``days`` equals a window, that column's percentile; between two windows w1 < days < w2,
+        linear interpolation in days of the two columns' percentiles,
+        p = p1 + (days - w1) / (w2 - w1) (p2 - p1); outside the windows, the nearest end column
+        (clamped, and the note says so). With Hodges-Tompkins the adjusted distribution
+        mean + factor (x - mean) is used (common practice, no source, for the interpolation).
+        """
+        v = _check_vol(vol)
+        d = _check_days(days)
+        ws = self.windows
+        adj = self.hodges_tompkins
+        what = f"{self.label.lower()} vol" + (" (Hodges-Tompkins adjusted)" if adj else "")
+        if d in ws:
+            p = self.rank(v, d)
+            return ConePlacement(v, d, p, (d,), (1.0,), False, adj, f"{d}-bar {what}")
+        if d < ws[0] or d > ws[-1]:
+            w = ws[0] if d < ws[0] else ws[-1]
+            side = "shorter than the shortest" if d < ws[0] else "longer than the longest"
+            note = (f"{w}-bar {what}; the option life of {d} bars is {side} cone window, "
+                    f"so the {w}-bar column is used")
+            return ConePlacement(v, d, self.rank(v, w), (w,), (1.0,), True, adj, note)
+        i = int(np.searchsorted(ws, d))
+        w1, w2 = ws[i - 1], ws[i]
+        a = (d - w1) / (w2 - w1)
+        p = (1 - a) * self.rank(v, w1) + a * self.rank(v, w2)
+        note = f"{d}-bar {what}, interpolated between the {w1}- and {w2}-bar cone columns"
+        return ConePlacement(v, d, p, (w1, w2), (1 - a, a), False, adj, note)
+
+    def percentile_of(self, vol: float, days: int) -> float:
+        """Percentile (0-100) of ``vol`` for an option of ``days`` bars; see :meth:`place`."""
+        return self.place(vol, days).percentile
+
+    def as_dict(self) -> dict:
+        rows = []
+        for w, row in self.table.iterrows():
+            d = {"window": int(w)}
+            for k, v in row.items():
+                d[k] = int(v) if k in ("n_windows", "n_independent") else float(v)
+            rows.append(d)
+        return {
+            "name": self.name, "estimator": self.estimator, "label": self.label,
+            "annualization": self.annualization, "start": self.start, "end": self.end, "rows": self.rows,
+            "hodges_tompkins": self.hodges_tompkins,
+            "adjustment": ("adjusted = mean + ht_factor x (percentile - mean), floored at 0"
+                           if self.hodges_tompkins else None),
+            "windows": rows, "dropped": {str(w): r for w, r in self.dropped.items()}, "notes": list(self.notes),
+        }
+
+
+def _check_vol(vol) -> float:
+    try:
+        v = float(vol)
+    except (TypeError, ValueError):
+        raise VolbenchError(f"vol must be a positive decimal such as 0.25, got {vol!r}") from None
+    if not (math.isfinite(v) and v > 0):
+        raise VolbenchError(f"vol must be a positive decimal such as 0.25, got {vol!r}")
+    return v
+
+
+def _check_days(days) -> int:
+    if isinstance(days, bool) or not isinstance(days, (int, np.integer, float, np.floating)):
+        raise VolbenchError(f"days must be a whole number of bars >= 1, got {days!r}")
+    if days != int(days) or days < 1:
+        raise VolbenchError(f"days must be a whole number of bars >= 1, got {days!r}")
+    return int(days)
+
+
+def _check_windows(windows: Sequence[int]) -> tuple[int, ...]:
+    if isinstance(windows, (int, str)) or not len(windows):
+        raise VolbenchError(f"windows must be a non-empty list of bar counts, e.g. 10,20,60; got {windows!r}")
+    ws = [check_window(w, minimum=2) for w in windows]
+    if any(w is None for w in ws):
+        raise VolbenchError("cone windows must be bar counts, not 'all'")
+    seen = {w for w in ws if ws.count(w) > 1}
+    if seen:
+        raise VolbenchError(f"cone windows must not repeat; {', '.join(map(str, sorted(seen)))} given twice")
+    return tuple(sorted(ws))
+
+
+def _date(value, what: str) -> pd.Timestamp | None:
+    if value is None:
+        return None
+    try:
+        ts = pd.Timestamp(value)
+    except (TypeError, ValueError):
+        ts = pd.NaT
+    if ts is pd.NaT:
+        raise VolbenchError(f"{what} date must look like YYYY-MM-DD, got {value!r}")
+    return ts.tz_localize(None) if ts.tzinfo else ts
+
+
+def select_range(history: PriceHistory, start=None, end=None) -> PriceHistory:
+    """Rows dated from ``start`` to ``end`` inclusive (either may be ``None``); clear error if none."""
+    s, e = _date(start, "start"), _date(end, "end")
+    if s is None and e is None:
+        return history
+    if s is not None and e is not None and s > e:
+        raise VolbenchError(f"start date {s.date()} is after end date {e.date()}")
+    d = history.dates
+    mask = np.ones(history.n, dtype=bool)
+    if s is not None:
+        mask &= d >= s.to_datetime64()
+    if e is not None:
+        # a bare date includes that whole day
+        last = e + pd.Timedelta(days=1) - pd.Timedelta(1, "ns") if e == e.normalize() else e
+        mask &= d <= last.to_datetime64()
+    if not mask.any():
+        raise VolbenchError(f"{history.name}: no rows between {start or 'the start'} and {end or 'the end'}; "
+                            f"the file covers {history.first_date} to {history.last_date}")
+    return history if mask.all() else history.take(mask)
+
+
+def vol_cone(
+    history: PriceHistory,
+    estimator: str = "close_to_close",
+    windows: Sequence[int] = DEFAULT_CONE_WINDOWS,
+    *,
+    start=None,
+    end=None,
+    annualization: float = DEFAULT_ANNUALIZATION,
+    hodges_tompkins: bool = False,
+) -> Cone:
+    """Volatility cone of ``estimator`` over ``windows`` on the whole history or a date range.
+
+    Parameters
+    ----------
+    history
+        Price history.
+    estimator
+        Key in :data:`volbench.estimators.REGISTRY`.
+    windows
+        Window lengths in bars (each >= 2, no repeats).
+    start, end
+        Optional first and last date (inclusive). The cone is built on those rows only: every
+        window lies wholly inside the range and "current" is the last window ending at ``end``.
+    annualization
+        Bars per year.
+    hodges_tompkins
+        Add overlap-adjusted columns (and use them to place vols).
+
+    Returns
+    -------
+    Cone
+
+    Raises
+    ------
+    VolbenchError
+        Unknown estimator, bad windows, dates or annualization, an empty range, or no window fits.
+
+    Notes
+    -----
+    Burghardt & Lane (1990), J. of Portfolio Management 16(2): per window w, the rolling w-bar
+    vols (:func:`volbench.estimators.rolling_vol`) summarised by min, 10th, 25th, 50th, 75th, 90th
+    percentile and max (``numpy.percentile``, linear). Hodges & Tompkins (2002), J. of Derivatives
+    10(1): with n overlapping windows, the column's dispersion around its mean is scaled by
+    :func:`hodges_tompkins_factor`: adjusted = mean + factor x (value - mean), floored at 0.
+    A window needs at least two rolling values; one that does not fit is listed in ``dropped``.
+    """
+    a = check_annualization(annualization)
+    spec = get_spec(estimator)
+    ws = _check_windows(windows)
+    h = select_range(history, start, end)
+    obs = h.n - spec.extra_bars
+    rows: dict[int, dict] = {}
+    rolling: dict[int, pd.Series] = {}
+    dropped: dict[int, str] = {}
+    notes: list[str] = []
+    qs = np.fromiter(PERCENTILES.values(), dtype=float)
+    for w in ws:
+        try:
+            rv = rolling_vol(h, spec.key, w, annualization=a)
+        except EstimatorUnavailable as exc:
+            dropped[w] = exc.reason
+            continue
+        vals = rv.values.to_numpy()
+        n = len(vals)
+        if n < 2:
+            dropped[w] = (f"window {w} gives {n} rolling value{'s' if n != 1 else ''}; a cone column needs "
+                          f"at least 2, i.e. {spec.bars_needed(w) + 1} rows, history has {h.n}")
+            continue
+        if rv.invalid_dates:
+            notes.append(f"window {w}: {len(rv.invalid_dates)} rolling value(s) left out because bars have "
+                         "high below low or prices outside their range; exclude flagged rows")
+        if rv.values.index[-1] != h.index[-1]:
+            notes.append(f"window {w}: current value is from {_iso(rv.values.index[-1].to_datetime64())}, "
+                         f"the last valid window before {h.last_date}")
+        perc = np.percentile(vals, qs)
+        row = dict(zip(PERCENTILES, perc))
+        mean = float(np.mean(vals))
+        indep = obs // w
+        row.update(mean=mean, current=float(vals[-1]),
+                   current_percentile=float(percentile_rank(np.sort(vals), vals[-1])),
+                   n_windows=n, n_independent=indep)
+        if indep < 2:
+            notes.append(f"window {w}: only {indep} independent (non-overlapping) window behind this column; "
+                         "its spread describes one stretch of history")
+        if hodges_tompkins:
+            f = hodges_tompkins_factor(w, n)
+            adj = mean + f * (perc - mean)
+            if np.any(adj < 0):
+                notes.append(f"window {w}: adjusted values below zero were floored at 0")
+            row["ht_factor"] = f
+            row.update({f"{k}_adj": float(x) for k, x in zip(PERCENTILES, np.maximum(adj, 0.0))})
+        rows[w] = row
+        rolling[w] = rv.values
+    if not rows:
+        reasons = "; ".join(f"{w}: {r}" for w, r in dropped.items())
+        raise VolbenchError(f"{h.name}: no cone window fits the {h.n} rows from {h.first_date} to "
+                            f"{h.last_date} ({reasons}); use shorter windows or a longer range")
+    if spec.key == "ewma":
+        notes.append("EWMA weighs every past return (half-life about 11 bars); its window only sets the "
+                     "seed, so its columns differ little")
+    table = pd.DataFrame.from_dict(rows, orient="index")
+    table.index.name = "window"
+    table = table.astype({"n_windows": "int64", "n_independent": "int64"})
+    return Cone(name=h.name, estimator=spec.key, label=spec.label, annualization=a, start=h.first_date,
+                end=h.last_date, rows=h.n, hodges_tompkins=bool(hodges_tompkins), table=table,
+                dropped=dropped, notes=tuple(notes), rolling=rolling)
