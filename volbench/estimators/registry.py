@@ -40,10 +40,13 @@ def availability(history: PriceHistory, key: str, window: int | None) -> str | N
     missing = sorted(spec.needs - history.columns)
     if missing:
         return f"needs {'/'.join(missing)} column{'s' if len(missing) > 1 else ''}"
+    minimum = max(spec.min_window, 2 if spec.ci_exact or spec.extra_bars else 1)
+    if window is not None and window < minimum:
+        return f"window {window} is too small; needs a window of at least {minimum} bars"
     w = _resolve_window(spec, history, window)
-    if w < max(spec.min_window, 2 if spec.ci_exact or spec.extra_bars else 1):
-        need = spec.bars_needed(max(spec.min_window, 2))
-        return f"needs at least {need} rows, file has {history.n}"
+    if w < minimum:
+        need = spec.bars_needed(minimum)
+        return f"needs at least {need} row{'s' if need != 1 else ''}, history has {history.n}"
     if window is not None and history.n < spec.bars_needed(window):
         return f"window {window} needs {spec.bars_needed(window)} rows, history has {history.n}"
     return None
