@@ -110,7 +110,7 @@ def _parse_rows(table: RawTable, date_format: str | None, use_adjusted: bool):
     if getattr(dates.dt, "tz", None) is not None:
         dates = dates.dt.tz_convert(None)
     bad_date = dates.isna().to_numpy()
-    if bad_date.sum() > max(2, n // 2):
+    if bad_date.all() or bad_date.sum() > max(2, n // 2):
         example = next(t for t, b in zip(table.columns["date"], bad_date) if b)
         hint = (f"the date format {date_format!r} does not match" if date_format
                 else "dates are not ISO (YYYY-MM-DD); pass the format, e.g. --date-format %d/%m/%Y")
@@ -181,9 +181,10 @@ def _parse_rows(table: RawTable, date_format: str | None, use_adjusted: bool):
 def _looks_decimal_comma(table: RawTable, cols: list[str]) -> bool:
     """True when price cells use a comma as the decimal mark (common with ';' files)."""
     sample = [v for c in cols for v in table.columns[c][:50] if v]
-    with_comma = sum(1 for v in sample if "," in v)
-    with_dot = sum(1 for v in sample if "." in v and "," not in v)
-    return with_comma > 0 and with_comma >= with_dot
+    # the last separator in a number is its decimal mark: "1.010,5" decimal comma, "1,234.5" dot
+    comma_last = sum(1 for v in sample if "," in v and v.rfind(",") > v.rfind("."))
+    dot_last = sum(1 for v in sample if "." in v and v.rfind(".") > v.rfind(","))
+    return comma_last > 0 and comma_last >= dot_last
 
 
 def _build(table: RawTable, name: str, parsed: dict, mask: np.ndarray, findings: list[Finding],
