@@ -62,7 +62,7 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("volbench: interrupted", file=sys.stderr)
         return EXIT_INTERNAL
-    except Exception as exc:  # an internal error: say so in one line, never a traceback
+    except Exception as exc:  # noqa: BLE001 - an internal error: one line, never a traceback
         print(f"volbench: internal error ({type(exc).__name__}: {exc}); please report it "
               "with the command and file that caused it", file=sys.stderr)
         return EXIT_INTERNAL

@@ -7,7 +7,13 @@ import csv
 import sys
 
 from volbench.cli.common import (
-    add_annualization, add_file_options, add_format, load_from_args, pct, print_json, render_table,
+    add_annualization,
+    add_file_options,
+    add_format,
+    load_from_args,
+    pct,
+    print_json,
+    render_table,
 )
 from volbench.estimators import REGISTRY, estimate_all
 from volbench.types import check_window

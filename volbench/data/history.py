@@ -194,7 +194,7 @@ class PriceHistory:
         return pd.DataFrame(data, index=self.index)
 
     # ------------------------------------------------------------------ derived histories
-    def select(self, exclude_flagged: bool) -> "PriceHistory":
+    def select(self, exclude_flagged: bool) -> PriceHistory:
         """The same series with rows flagged by warnings removed (or restored).
 
         Always derived from the rows as loaded: calling ``select(False)`` on an excluded history
@@ -210,12 +210,12 @@ class PriceHistory:
         keep = ~np.isin(self.lines, np.fromiter(flagged, dtype=np.int64, count=len(flagged)))
         return self.take(keep, exclude_flagged=True, excluded_lines=tuple(sorted(int(x) for x in self.lines[~keep])))
 
-    def take(self, mask: np.ndarray, **changes) -> "PriceHistory":
+    def take(self, mask: np.ndarray, **changes) -> PriceHistory:
         """A copy keeping the rows where ``mask`` is true (findings and provenance carried over)."""
         cols = {c: (None if getattr(self, c) is None else getattr(self, c)[mask]) for c in ("open", "high", "low", "close", "volume")}
         return replace(self, dates=self.dates[mask], lines=self.lines[mask], **cols, **changes)
 
-    def up_to(self, as_of: str | np.datetime64 | pd.Timestamp | None) -> "PriceHistory":
+    def up_to(self, as_of: str | np.datetime64 | pd.Timestamp | None) -> PriceHistory:
         """Rows dated on or before ``as_of`` (inclusive); the whole history when ``None``."""
         if as_of is None:
             return self
