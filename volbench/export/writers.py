@@ -1,0 +1,191 @@
+"""Lay an :class:`~volbench.export.bundle.ExportBundle` out as CSV, XLSX or JSON, atomically.
+
+CSV holds one table (the estimates table by default, in the schema of
+:mod:`volbench.export.schema`); XLSX holds every table, one sheet each, plus a sheet per section
+that is not available saying why; JSON holds every table as records plus the provenance.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import os
+from collections.abc import Callable
+from pathlib import Path
+from typing import BinaryIO
+
+import pandas as pd
+
+from volbench import __version__
+from volbench.errors import VolbenchError
+from volbench.export.atomic import atomic_write
+from volbench.export.bundle import SECTIONS, ExportBundle
+from volbench.export.schema import SCHEMA_VERSION
+from volbench.export.tsv import cell_value
+
+FORMATS: tuple[str, ...] = (".csv", ".json", ".xlsx")
+"""File suffixes :func:`write_export` understands."""
+
+PERCENT_FORMAT = "0.00%"
+_MAX_WIDTH = 60
+
+
+def export_format(path: str | os.PathLike) -> str:
+    """The export format for ``path`` from its suffix; a clear error listing the allowed ones."""
+    suffix = Path(path).suffix.lower()
+    if suffix not in FORMATS:
+        got = f"suffix {suffix!r}" if suffix else "no suffix"
+        raise VolbenchError(f"cannot tell the export format of {path}: {got}; "
+                            f"use one of: {', '.join(FORMATS)}")
+    return suffix
+
+
+def write_export(path: str | os.PathLike, bundle: ExportBundle, *, overwrite: bool = False) -> Path:
+    """Write ``bundle`` to ``path`` in the format given by its suffix (.csv, .xlsx, .json).
+
+    Raises
+    ------
+    VolbenchError
+        Unknown suffix (the allowed ones are listed), the file exists and ``overwrite`` is false
+        (the message names the path and says to pass --force), or the write failed; an existing
+        file is left unchanged whenever an error is raised.
+    """
+    writer = {".csv": write_csv, ".json": write_json, ".xlsx": write_xlsx}[export_format(path)]
+    return writer(path, bundle, overwrite=overwrite)
+
+
+# ---------------------------------------------------------------------------------- CSV
+def csv_text(df: pd.DataFrame) -> str:
+    """CSV text of ``df`` (no index), numbers in the shortest form that reads back exactly.
+
+    Missing values are empty cells; booleans ``True``/``False``; the header is the column names.
+    """
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow([str(c) for c in df.columns])
+    w.writerows([_csv_cell(v) for v in row] for row in df.itertuples(index=False, name=None))
+    return buf.getvalue()
+
+
+def _csv_cell(v) -> str:
+    v = cell_value(v)
+    if v is None:
+        return ""
+    if isinstance(v, float):
+        return repr(v)  # shortest text that reads back as the same double
+    return str(v)
+
+
+def write_csv(path: str | os.PathLike, bundle: ExportBundle, *, overwrite: bool = False,
+              table: str = "estimates") -> Path:
+    """Write one table of ``bundle`` (default the estimates table) as UTF-8 CSV."""
+    return atomic_write(path, csv_text(bundle.table(table)), overwrite=overwrite)
+
+
+# ---------------------------------------------------------------------------------- JSON
+def json_document(bundle: ExportBundle) -> dict:
+    """The JSON export as a dict: ``schema_version``, ``volbench_version``, ``created``,
+    ``provenance``, ``sections`` and ``tables`` (name -> list of records; missing values null)."""
+    return {
+        "schema_version": SCHEMA_VERSION,
+        "volbench_version": __version__,
+        "created": bundle.created,
+        "provenance": _json_safe(dict(bundle.provenance)),
+        "sections": {k: {"status": s.status, "reason": s.reason} for k, s in bundle.sections.items()},
+        "tables": {name: _records(df) for name, df in bundle.tables.items()},
+    }
+
+
+def _records(df: pd.DataFrame) -> list[dict]:
+    cols = [str(c) for c in df.columns]
+    return [dict(zip(cols, (cell_value(v) for v in row))) for row in df.itertuples(index=False, name=None)]
+
+
+def _json_safe(obj):
+    if isinstance(obj, dict):
+        return {str(k): _json_safe(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_json_safe(v) for v in obj]
+    return cell_value(obj)
+
+
+def write_json(path: str | os.PathLike, bundle: ExportBundle, *, overwrite: bool = False) -> Path:
+    """Write ``bundle`` as one UTF-8 JSON document (see :func:`json_document`)."""
+    text = json.dumps(json_document(bundle), indent=2, allow_nan=False, ensure_ascii=False) + "\n"
+    return atomic_write(path, text, overwrite=overwrite)
+
+
+# ---------------------------------------------------------------------------------- XLSX
+def write_xlsx(path: str | os.PathLike, bundle: ExportBundle, *, overwrite: bool = False) -> Path:
+    """Write ``bundle`` as an Excel workbook, one sheet per table.
+
+    Sheets follow :data:`~volbench.export.bundle.TABLE_ORDER`; each section of
+    :data:`~volbench.export.bundle.SECTIONS` always has its sheet, holding a one-line note when
+    the section is not in the export. Every sheet is a table with a bold, frozen header row and a
+    filter; numbers are stored as numbers (doubles, exactly), missing values as empty cells, and
+    vol columns carry a percentage number format (the stored value stays the decimal).
+    """
+    return atomic_write(path, _xlsx_payload(bundle), overwrite=overwrite)
+
+
+def _xlsx_payload(bundle: ExportBundle) -> Callable[[BinaryIO], None]:
+    from openpyxl import Workbook
+    from openpyxl.styles import Font
+
+    def write(fh: BinaryIO) -> None:
+        wb = Workbook()
+        wb.remove(wb.active)
+        bold = Font(bold=True)
+        for name in _sheet_order(bundle):
+            ws = wb.create_sheet(title=name[:31])
+            if name in bundle.tables:
+                df = bundle.tables[name]
+            else:
+                df = pd.DataFrame({"section": [name], "status": [bundle.sections[name].status],
+                                   "reason": [bundle.sections[name].reason]})
+            _fill_sheet(ws, df, bundle.percent_columns.get(name, ()), bold)
+        wb.properties.creator = f"volbench {__version__}"
+        wb.properties.title = "volbench export"
+        buf = io.BytesIO()  # openpyxl seeks while zipping; write the finished bytes in one go
+        wb.save(buf)
+        fh.write(buf.getvalue())
+
+    return write
+
+
+def _sheet_order(bundle: ExportBundle) -> list[str]:
+    order = list(bundle.tables)
+    for i, name in enumerate(SECTIONS):
+        if name not in bundle.tables:
+            # put the note sheet where the section's table would have been
+            after = [s for s in SECTIONS[:i] if s in order]
+            pos = order.index(after[-1]) + 1 if after else 0
+            order.insert(pos, name)
+    return order
+
+
+def _fill_sheet(ws, df: pd.DataFrame, percent: tuple[str, ...], bold) -> None:
+    from openpyxl.utils import get_column_letter
+
+    headers = [str(c) for c in df.columns]
+    ws.append(headers)
+    for cell in ws[1]:
+        cell.font = bold
+    for row in df.itertuples(index=False, name=None):
+        ws.append([cell_value(v) for v in row])
+    n = len(df)
+    for j, col in enumerate(headers, start=1):
+        letter = get_column_letter(j)
+        if col in percent and n:
+            for (cell,) in ws.iter_rows(min_row=2, max_row=n + 1, min_col=j, max_col=j):
+                cell.number_format = PERCENT_FORMAT
+        if pd.api.types.is_numeric_dtype(df.iloc[:, j - 1]):
+            width = max(len(col), 10) + 2
+        else:
+            sample = [len(str(v)) for v in df.iloc[:200, j - 1] if v is not None]
+            width = max([len(col)] + sample) + 2
+        ws.column_dimensions[letter].width = min(width, _MAX_WIDTH)
+    ws.freeze_panes = "A2"
+    if headers:
+        ws.auto_filter.ref = ws.dimensions
