@@ -1,0 +1,115 @@
+"""``volbench scaling``: does each price history scale like the Brownian motion Black-Scholes assumes?"""
+
+from __future__ import annotations
+
+import argparse
+import math
+
+from volbench.cli.common import (
+    add_annualization,
+    add_file_options,
+    add_format,
+    load_from_args,
+    parse_int_list,
+    pct,
+    print_json,
+    render_table,
+)
+from volbench.scaling import DEFAULT_HORIZONS, ScalingResult, scaling_check
+from volbench.scaling.check import check_alpha
+
+_LABELS = {
+    "variance_proportional_to_horizon": "variance proportional to horizon",
+    "normal_increments": "normal increments",
+    "independent_increments": "independent increments",
+    "negligible_drift": "negligible drift",
+}
+
+
+def register(sub) -> None:
+    p = sub.add_parser(
+        "scaling", help="check that returns scale like Brownian motion (variance ratio, normality, ...)",
+        description="For each series: variance of h-bar log returns against horizon with a log-log fit "
+                    "(Hurst exponent), Lo-MacKinlay variance-ratio tests (plain and heteroskedasticity-robust) "
+                    "with the Chow-Denning joint test, skewness/kurtosis/Jarque-Bera by horizon, Ljung-Box on "
+                    "returns and squared returns, the drift t-test, the annualized vol each horizon actually "
+                    "saw against sqrt-time scaling of the 1-bar vol, and a verdict on each property.",
+        epilog="Verdicts: 'rejected' when p < alpha; 'doubtful' when p < 2 alpha or the effect is large "
+               "enough to matter for pricing; 'consistent' otherwise (the data do not contradict the "
+               "property; they do not prove it). Statistical evidence, not advice.",
+    )
+    add_file_options(p)
+    p.add_argument("--horizons", default=",".join(str(h) for h in DEFAULT_HORIZONS), metavar="H,H,...",
+                   help="horizons in bars (default %(default)s; 1 is always included as the base)")
+    p.add_argument("--alpha", type=float, default=0.05, metavar="P",
+                   help="significance level of the verdicts, between 0 and 0.5 (default %(default)s)")
+    add_annualization(p)
+    add_format(p)
+    p.set_defaults(func=run_scaling)
+
+
+def run_scaling(args: argparse.Namespace) -> int:
+    horizons = parse_int_list(args.horizons, "horizons")
+    alpha = check_alpha(args.alpha)
+    histories = load_from_args(args)
+    results = [scaling_check(h, horizons, alpha=alpha, annualization=args.annualization) for h in histories]
+    if args.format == "json":
+        print_json({"series": [r.as_dict() for r in results]})
+        return 0
+    for i, r in enumerate(results):
+        if i:
+            print("\n")
+        print(render_result(r))
+    print("\nStatistical evidence under stated assumptions, not advice.")
+    return 0
+
+
+def _f(x: float, digits: int = 2) -> str:
+    return "n/a" if x is None or not math.isfinite(x) else f"{x:.{digits}f}"
+
+
+def _p(x: float) -> str:
+    if x is None or not math.isfinite(x):
+        return "n/a"
+    return "<0.001" if x < 0.001 else f"{x:.3f}"
+
+
+def render_result(r: ScalingResult) -> str:
+    """Plain-text report of one series."""
+    prov = r.provenance
+    src = prov.get("source_file") or ""
+    head = (f"{r.name}  ({src}{': ' if src else ''}{prov.get('rows')} rows, {prov.get('first_date')} to "
+            f"{prov.get('last_date')}; {r.n_returns} returns; flagged rows "
+            f"{'excluded' if r.exclude_flagged else 'kept'})")
+    out = [head, f"annualized with {r.annualization:g} bars/year; significance level {r.alpha:g}"]
+    out += [f"note: {note}" for note in r.notes]
+    out.append("")
+    rows = []
+    for t in r.horizons.itertuples(index=False):
+        rows.append([t.h, pct(t.annualized_vol), pct(t.sqrt_time_vol), _f(t.vol_ratio, 3), _f(t.variance_ratio, 3),
+                     _f(t.z), _f(t.z_robust), _p(t.p_value_robust), t.n_nonoverlap, _f(t.skew), _f(t.excess_kurtosis),
+                     _p(t.jarque_bera_p)])
+    out.append("Horizon vol and variance ratio (z* robust to changing vol; skew/kurtosis on non-overlapping periods)")
+    out.append(render_table(["h", "h-bar vol", "sqrt-time", "vol ratio", "VR", "z", "z*", "p(z*)", "indep. periods",
+                             "skew", "ex.kurt", "JB p"], rows, "r" * 12))
+    for h, why in r.dropped.items():
+        out.append(f"horizon {h} left out: {why}")
+    out.append(f"log-log slope {_f(r.slope, 3)} ({1 - r.alpha:.0%} interval {_f(r.slope_ci[0], 3)} to "
+               f"{_f(r.slope_ci[1], 3)}), Hurst {_f(r.hurst, 3)} (Brownian: slope 1, Hurst 0.5); "
+               f"Chow-Denning joint test max|z*| {_f(r.chow_denning_stat)}, p {_p(r.chow_denning_p)}")
+    out.append("")
+    out.append("Ljung-Box (autocorrelation up to each lag)")
+    out.append(render_table(["lag", "Q returns", "p", "Q squared", "p"],
+                            [[t.lag, _f(t.q_returns), _p(t.p_returns), _f(t.q_squared), _p(t.p_squared)]
+                             for t in r.ljung_box.itertuples(index=False)], "rrrrr"))
+    d = r.drift
+    out.append("")
+    out.append(f"drift: mean {pct(d['mean_annualized'])} a year, t = {_f(d['t_stat'])}, p {_p(d['p_value'])}; "
+               f"vol {pct(d['vol_annualized'])} a year")
+    out.append("")
+    out.append("Verdicts")
+    for v in r.verdicts:
+        out.append(f"  {_LABELS.get(v.property, v.property)}: {v.status.upper()}  "
+                   f"(statistic {_f(v.statistic)}, p {_p(v.p_value)})")
+        out.append(f"    {v.message}")
+    return "\n".join(out)

@@ -1,0 +1,315 @@
+"""The Brownian-scaling check of one price history: validation, orchestration and the result."""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from volbench.data.history import PriceHistory
+from volbench.errors import VolbenchError
+from volbench.scaling.increments import drift as drift_stats
+from volbench.scaling.increments import independence, normality_table, qq_pairs
+from volbench.scaling.ratio import chow_denning, robust_deltas, variance_ratio_table
+from volbench.scaling.variance import loglog_fit, nonoverlapping_variance
+from volbench.scaling.verdicts import (
+    Verdict,
+    drift_verdict,
+    independence_verdict,
+    normality_verdict,
+    variance_verdict,
+)
+from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
+
+DEFAULT_HORIZONS: tuple[int, ...] = (1, 2, 5, 10, 20, 40, 60)
+DEFAULT_LJUNG_BOX_LAGS: tuple[int, ...] = (5, 10, 20)
+DEFAULT_ACF_LAGS = 20
+MIN_RETURNS = 30
+"""Fewer one-bar returns than this and no property can be judged."""
+MIN_PERIODS = 10
+"""A horizon h is kept only with at least this many non-overlapping h-bar returns."""
+
+HORIZON_COLUMNS = (
+    "h", "variance", "variance_nonoverlap", "n_nonoverlap", "annualized_vol", "sqrt_time_vol",
+    "vol_ratio", "variance_ratio", "z", "z_robust", "p_value", "p_value_robust", "skew",
+    "excess_kurtosis", "jarque_bera", "jarque_bera_p",
+)
+
+
+@dataclass(frozen=True, eq=False)
+class ScalingResult:
+    """Outcome of :func:`scaling_check` for one series.
+
+    Attributes
+    ----------
+    name
+        Series name.
+    horizons
+        One row per kept horizon (always including h = 1), columns :data:`HORIZON_COLUMNS`.
+        ``variance`` is the overlapping h-bar variance, ``annualized_vol`` = sqrt(variance x A / h),
+        ``sqrt_time_vol`` the annualized 1-bar vol (what sqrt-time scaling assumes at every h),
+        ``vol_ratio`` their ratio. Test statistics are NaN at h = 1 (the ratio is 1 by definition).
+    dropped
+        Horizon -> reason, for requested horizons the history is too short for.
+    slope, slope_ci, slope_se, hurst
+        Weighted log-log fit of variance on horizon, its interval at ``1 - alpha`` and H = slope / 2.
+    chow_denning_stat, chow_denning_p
+        Joint robust variance-ratio test over the kept horizons h >= 2.
+    ljung_box
+        Columns lag, q_returns, p_returns, q_squared, p_squared.
+    acf
+        Columns lag, acf_returns, acf_squared, band.
+    qq
+        Columns theoretical, sample (standardized 1-bar returns).
+    drift
+        See :func:`volbench.scaling.increments.drift`.
+    verdicts
+        One :class:`~volbench.scaling.verdicts.Verdict` per property, in a fixed order.
+    n_returns, alpha, annualization
+        Inputs of the check.
+    notes
+        Plain sentences about choices made on this data (dropped lags, rows left out at import).
+    provenance
+        ``PriceHistory.provenance()``: file, hash, dates and whether flagged rows were excluded.
+    """
+
+    name: str
+    horizons: pd.DataFrame
+    dropped: dict[int, str]
+    slope: float
+    slope_ci: tuple[float, float]
+    slope_se: float
+    hurst: float
+    chow_denning_stat: float
+    chow_denning_p: float
+    ljung_box: pd.DataFrame
+    acf: pd.DataFrame
+    qq: pd.DataFrame
+    drift: dict
+    verdicts: tuple[Verdict, ...]
+    n_returns: int
+    alpha: float
+    annualization: float
+    notes: tuple[str, ...] = ()
+    provenance: dict = field(default_factory=dict)
+
+    @property
+    def exclude_flagged(self) -> bool:
+        return self.provenance.get("flagged_rows") == "excluded"
+
+    def verdict(self, prop: str) -> Verdict:
+        """The verdict for one property name."""
+        for v in self.verdicts:
+            if v.property == prop:
+                return v
+        raise VolbenchError(f"unknown property {prop!r}; choose one of: "
+                            + ", ".join(v.property for v in self.verdicts))
+
+    def as_dict(self) -> dict:
+        """JSON-ready dict (NaN values are left as float NaN; the CLI writes them as null)."""
+        return {
+            "name": self.name,
+            "n_returns": self.n_returns,
+            "alpha": self.alpha,
+            "annualization": self.annualization,
+            "flagged_rows": "excluded" if self.exclude_flagged else "kept",
+            "exclude_flagged": self.exclude_flagged,
+            "horizons": _records(self.horizons),
+            "dropped": {str(h): r for h, r in self.dropped.items()},
+            "slope": self.slope,
+            "slope_ci": list(self.slope_ci),
+            "slope_ci_level": 1.0 - self.alpha,
+            "slope_se": self.slope_se,
+            "hurst": self.hurst,
+            "chow_denning_stat": self.chow_denning_stat,
+            "chow_denning_p": self.chow_denning_p,
+            "ljung_box": _records(self.ljung_box),
+            "acf": _records(self.acf),
+            "qq": _records(self.qq),
+            "drift": self.drift,
+            "verdicts": [v.as_dict() for v in self.verdicts],
+            "notes": list(self.notes),
+            "provenance": self.provenance,
+        }
+
+
+def _records(df: pd.DataFrame) -> list[dict]:
+    out = []
+    for rec in df.to_dict(orient="records"):
+        out.append({k: (int(v) if k in ("h", "lag", "n_nonoverlap") else float(v)) for k, v in rec.items()})
+    return out
+
+
+def check_horizons(horizons: Iterable[int]) -> tuple[int, ...]:
+    """Validate horizons: whole numbers of bars >= 1, at least one >= 2. Returns them sorted, with 1 added."""
+    try:
+        raw = list(horizons)
+    except TypeError:
+        raise VolbenchError(f"horizons must be a list of whole numbers of bars, got {horizons!r}") from None
+    out = set()
+    for h in raw:
+        if isinstance(h, bool) or not isinstance(h, (int, np.integer, float, np.floating)) or h != int(h):
+            raise VolbenchError(f"horizons must be whole numbers of bars, e.g. 1,2,5,10; got {h!r}")
+        if h < 1:
+            raise VolbenchError(f"horizons must be >= 1 bar, got {int(h)}")
+        out.add(int(h))
+    if not any(h >= 2 for h in out):
+        raise VolbenchError(f"horizons must include at least one horizon of 2 bars or more, got {raw!r}")
+    return tuple(sorted(out | {1}))
+
+
+def check_alpha(alpha: float) -> float:
+    try:
+        a = float(alpha)
+    except (TypeError, ValueError):
+        raise VolbenchError(f"alpha must be a significance level between 0 and 0.5, got {alpha!r}") from None
+    if not 0.0 < a < 0.5:
+        raise VolbenchError(f"alpha must be a significance level between 0 and 0.5 (e.g. 0.05), got {alpha!r}")
+    return a
+
+
+def scaling_check(
+    history: PriceHistory,
+    horizons: Sequence[int] = DEFAULT_HORIZONS,
+    *,
+    alpha: float = 0.05,
+    annualization: float = DEFAULT_ANNUALIZATION,
+    qq_points: int = 200,
+    ljung_box_lags: Sequence[int] = DEFAULT_LJUNG_BOX_LAGS,
+    acf_lags: int = DEFAULT_ACF_LAGS,
+) -> ScalingResult:
+    """Test whether a price history scales like the Brownian motion Black-Scholes assumes.
+
+    Parameters
+    ----------
+    history
+        Price history; close-to-close log returns are used. Rows excluded at import (unusable, or
+        flagged when the caller chose so) are simply absent, as recorded in the history.
+    horizons
+        Horizons in bars (default :data:`DEFAULT_HORIZONS`); 1 is always added as the base.
+    alpha
+        Significance level of the verdicts, 0 < alpha < 0.5; intervals are at 1 - alpha.
+    annualization
+        Bars per year.
+    qq_points
+        Maximum number of QQ pairs kept (>= 10).
+    ljung_box_lags, acf_lags
+        Ljung-Box lags and the number of autocorrelations; lags beyond a quarter of the returns
+        are dropped with a note.
+
+    Returns
+    -------
+    ScalingResult
+
+    Raises
+    ------
+    VolbenchError
+        Invalid horizons, alpha, annualization, qq_points or lags; fewer than :data:`MIN_RETURNS`
+        returns; constant prices; no horizon >= 2 with :data:`MIN_PERIODS` non-overlapping periods.
+
+    Notes
+    -----
+    Methods and sources: METHODS.md "Brownian-scaling check"; variance and fit in
+    :mod:`volbench.scaling.variance`, tests in :mod:`volbench.scaling.ratio`, increments in
+    :mod:`volbench.scaling.increments`, status rules in :mod:`volbench.scaling.verdicts`.
+    Horizon vol: sqrt(Var_h x A / h) against sqrt(Var_1 x A).
+    """
+    hs = check_horizons(horizons)
+    alpha = check_alpha(alpha)
+    a = check_annualization(annualization)
+    if isinstance(qq_points, bool) or not isinstance(qq_points, (int, np.integer)) or qq_points < 10:
+        raise VolbenchError(f"qq_points must be a whole number >= 10, got {qq_points!r}")
+    lb_lags = sorted({int(x) for x in ljung_box_lags})
+    if not lb_lags or lb_lags[0] < 1:
+        raise VolbenchError(f"Ljung-Box lags must be whole numbers >= 1, got {list(ljung_box_lags)!r}")
+    if isinstance(acf_lags, bool) or not isinstance(acf_lags, (int, np.integer)) or acf_lags < 1:
+        raise VolbenchError(f"acf_lags must be a whole number >= 1, got {acf_lags!r}")
+
+    name = history.name
+    r = history.log_returns()
+    n = r.shape[0]
+    if n < MIN_RETURNS:
+        raise VolbenchError(f"{name}: only {n} returns ({history.n} rows); the scaling check needs at least "
+                            f"{MIN_RETURNS}; load a longer history")
+    if not np.any(r != 0.0):
+        raise VolbenchError(f"{name}: prices are constant (every return is zero), so there is no variance to "
+                            "scale; check that the file holds the right price column")
+    y = np.log(history.close)
+
+    dropped = {h: (f"needs at least {MIN_PERIODS} non-overlapping {h}-bar returns ({MIN_PERIODS * h} returns); "
+                   f"the history has {n}") for h in hs if n // h < MIN_PERIODS}
+    kept = [h for h in hs if h not in dropped]
+    if len(kept) < 2:
+        raise VolbenchError(f"{name}: with {n} returns no requested horizon of 2 bars or more has "
+                            f"{MIN_PERIODS} non-overlapping periods; use horizons up to {n // MIN_PERIODS} bars")
+
+    notes = []
+    quarter = max(1, n // 4)
+    if lb_lags[-1] > quarter:
+        notes.append(f"Ljung-Box lags above {quarter} (a quarter of the {n} returns) left out: "
+                     + ", ".join(str(x) for x in lb_lags if x > quarter))
+        lb_lags = [x for x in lb_lags if x <= quarter] or [quarter]
+    if acf_lags > quarter:
+        notes.append(f"autocorrelations shown to lag {quarter} (a quarter of the {n} returns), not {acf_lags}")
+        acf_lags = quarter
+    unusable = [f for f in history.findings if f.severity == "error"]
+    if unusable:
+        notes.append(f"{len(unusable)} unusable rows were left out at import (see 'volbench check'); the returns "
+                     "spanning them cover more than one bar")
+    jumps = [f for f in history.findings if f.kind == "jump"]
+    if jumps:
+        notes.append(f"the data-quality check found {len(jumps)} price jump(s) that look like bad ticks or "
+                     "unadjusted splits (see 'volbench check'); one such jump dominates variances, kurtosis and "
+                     "every test here: correct or adjust the prices before reading them")
+    if history.exclude_flagged and history.excluded_lines:
+        notes.append(f"{len(history.excluded_lines)} rows flagged by data-quality warnings were excluded")
+
+    vr = variance_ratio_table(y, kept)
+    nonov = [nonoverlapping_variance(y, h) for h in kept]
+    var1 = float(vr["variance"].iloc[0])
+    tab = vr.assign(
+        variance_nonoverlap=[v for v, _ in nonov],
+        n_nonoverlap=np.array([c for _, c in nonov], dtype=np.int64),
+        annualized_vol=np.sqrt(vr["variance"] * a / vr["h"]),
+        sqrt_time_vol=np.sqrt(var1 * a),
+    )
+    tab["vol_ratio"] = tab["annualized_vol"] / tab["sqrt_time_vol"]
+    tab = tab.merge(normality_table(y, kept), on="h")[list(HORIZON_COLUMNS)]
+
+    deltas = robust_deltas(y, max(kept) - 1)
+    fit = loglog_fit(kept, tab["variance"].to_numpy(), n, deltas, level=1.0 - alpha)
+    cd_stat, cd_p = chow_denning(tab["z_robust"].to_numpy()[1:])
+    ljung, ac = independence(r, lb_lags, acf_lags, alpha)
+    dr = drift_stats(r, kept, a)
+    verdicts = (
+        variance_verdict(tab, cd_stat, cd_p, fit, alpha),
+        normality_verdict(tab, alpha),
+        independence_verdict(ljung, ac, alpha),
+        drift_verdict(dr, alpha),
+    )
+    return ScalingResult(
+        name=name, horizons=tab, dropped=dropped, slope=fit.slope, slope_ci=fit.ci, slope_se=fit.se,
+        hurst=fit.hurst, chow_denning_stat=cd_stat, chow_denning_p=cd_p, ljung_box=ljung, acf=ac,
+        qq=qq_pairs(r, int(qq_points)), drift=dr, verdicts=verdicts, n_returns=n, alpha=alpha,
+        annualization=a, notes=tuple(notes), provenance=history.provenance(),
+    )
+
+
+def horizon_vol(result: ScalingResult, days: float) -> float | None:
+    """Annualized vol for an option of ``days`` bars, from the check's horizon variances.
+
+    Total variance is interpolated linearly in h between the two bracketing kept horizons, then
+    annualized, sqrt(Var(days) x A / days); exact at a kept horizon. ``None`` outside the range of
+    kept horizons (extrapolation is exactly the sqrt-time assumption under test).
+    """
+    try:
+        d = float(days)
+    except (TypeError, ValueError):
+        raise VolbenchError(f"days must be a number of bars, got {days!r}") from None
+    h = result.horizons["h"].to_numpy(dtype=float)
+    if not np.isfinite(d) or d < h[0] or d > h[-1]:
+        return None
+    var = float(np.interp(d, h, result.horizons["variance"].to_numpy(dtype=float)))
+    return float(np.sqrt(var * result.annualization / d))
