@@ -102,13 +102,7 @@ def _parse_rows(table: RawTable, date_format: str | None, use_adjusted: bool):
     """Parse dates and prices for every row; report unusable cells as error findings."""
     path, lines = table.path, table.lines
     n = len(lines)
-    date_text = pd.Series(table.columns["date"], dtype=object)
-    if date_format:
-        dates = pd.to_datetime(date_text, format=date_format, errors="coerce")
-    else:
-        dates = pd.to_datetime(date_text, format="ISO8601", errors="coerce")
-    if getattr(dates.dt, "tz", None) is not None:
-        dates = dates.dt.tz_convert(None)
+    dates = parse_dates(pd.Series(table.columns["date"], dtype=object), date_format)
     bad_date = dates.isna().to_numpy()
     if bad_date.all() or bad_date.sum() > max(2, n // 2):
         example = next(t for t, b in zip(table.columns["date"], bad_date) if b)
@@ -176,6 +170,38 @@ def _parse_rows(table: RawTable, date_format: str | None, use_adjusted: bool):
         "basis": "adjusted close" if close_key == "adj_close" else "close",
     }
     return parsed, findings
+
+
+def parse_dates(text: pd.Series, date_format: str | None) -> pd.Series:
+    """Date cells to naive ``datetime64[ns]`` (NaT where unreadable).
+
+    ISO 8601 unless ``date_format`` is given. A time-zone offset is dropped and the local wall-clock
+    time kept, so a daily bar stamped ``2020-01-02T00:00+01:00`` stays on 2020-01-02. Mixed offsets
+    are parsed cell by cell. Dates outside the range ``datetime64[ns]`` can hold (years 1678-2261)
+    become NaT rather than wrapping around.
+    """
+    fmt = date_format or "ISO8601"
+    try:
+        dates = pd.to_datetime(text, format=fmt, errors="coerce")
+    except (ValueError, TypeError):  # mixed offsets, or offsets with naive cells
+        dates = pd.Series([_parse_one_date(t, fmt) for t in text], dtype=object)
+        dates = pd.to_datetime(dates, errors="coerce")
+    if getattr(dates.dt, "tz", None) is not None:
+        dates = dates.dt.tz_localize(None)
+    lo, hi = pd.Timestamp.min.ceil("D"), pd.Timestamp.max.floor("D")
+    dates = dates.where((dates >= lo) & (dates <= hi))
+    return dates.astype("datetime64[ns]")
+
+
+def _parse_one_date(text: str, fmt: str):
+    try:
+        ts = pd.to_datetime(text, format=fmt)
+    except (ValueError, TypeError, OverflowError):
+        return pd.NaT
+    if ts is pd.NaT:
+        return ts
+    ts = ts.tz_localize(None) if ts.tzinfo is not None else ts
+    return ts if pd.Timestamp.min.ceil("D") <= ts <= pd.Timestamp.max.floor("D") else pd.NaT
 
 
 def _looks_decimal_comma(table: RawTable, cols: list[str]) -> bool:
