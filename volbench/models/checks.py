@@ -1,0 +1,181 @@
+"""Checks on a GARCH-family fit, and its parameters converted from percent to decimal units.
+
+:func:`diagnose` decides whether a fit can be used for the forward vol (``warnings``, each of which
+sends the result to the EWMA fallback) and what a user should know about it (``notes``).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+
+import numpy as np
+import pandas as pd
+from scipy import stats
+
+SCALE = 100.0
+"""Fits run on 100 x log returns (percent), as the ``arch`` documentation advises."""
+_LN_SCALE2 = math.log(SCALE**2)
+BOUND_TOL = 1e-4
+"""A parameter within this distance of a bound (or persistence within it of 1) is on the bound."""
+NEAR_UNIT_Z = 1.645
+"""One-sided 5% normal quantile: persistence closer than this many standard errors to 1 gets a note."""
+_PERSISTENCE_WEIGHTS = {
+    "garch": {"alpha[1]": 1.0, "beta[1]": 1.0},
+    "gjr": {"alpha[1]": 1.0, "gamma[1]": 0.5, "beta[1]": 1.0},
+    "egarch": {"beta[1]": 1.0},
+}
+_RESPONSE = {"garch": ("alpha[1]",), "gjr": ("alpha[1]", "gamma[1]"), "egarch": ("alpha[1]", "gamma[1]")}
+_NU_BOUNDS = (2.05, 500.0)  # arch's bounds on the Student-t degrees of freedom
+
+
+def persistence_of(model: str, params: Mapping[str, float], cov: pd.DataFrame | None = None) -> tuple[float, float]:
+    """Persistence and its delta-method standard error (NaN when the covariance is unusable).
+
+    Notes
+    -----
+    GARCH: alpha + beta (Bollerslev 1986). GJR: alpha + gamma/2 + beta, using E[1(e<0) e^2] =
+    s2/2 for a symmetric innovation density (Glosten, Jagannathan & Runkle 1993). EGARCH: beta,
+    the AR(1) coefficient of log variance (Nelson 1991).
+    """
+    w = _PERSISTENCE_WEIGHTS[model]
+    p = float(sum(c * params[k] for k, c in w.items()))
+    se = float("nan")
+    if cov is not None:
+        keys = list(w)
+        vec = np.array([w[k] for k in keys])
+        var = float(vec @ cov.loc[keys, keys].to_numpy() @ vec)
+        if math.isfinite(var) and var >= 0:
+            se = math.sqrt(var)
+    return p, se
+
+
+def _clustering_p_value(model: str, params: Mapping[str, float], cov: pd.DataFrame | None) -> float:
+    """p-value of the Wald test that the shock-response parameters are all zero (NaN if not computable).
+
+    Notes
+    -----
+    W = theta' Sigma^-1 theta ~ chi-square(k) under theta = 0 (Wald test, common practice); for
+    GARCH alpha sits on its boundary under the null, so the test is approximate (conservative).
+    """
+    if cov is None:
+        return float("nan")
+    keys = list(_RESPONSE[model])
+    theta = np.array([params[k] for k in keys])
+    sigma = cov.loc[keys, keys].to_numpy()
+    try:
+        w = float(theta @ np.linalg.solve(sigma, theta))
+    except np.linalg.LinAlgError:
+        return float("nan")
+    return float(stats.chi2.sf(w, len(keys))) if math.isfinite(w) and w >= 0 else float("nan")
+
+
+def diagnose(
+    model: str,
+    params: Mapping[str, float],
+    cov: pd.DataFrame | None,
+    *,
+    convergence_flag: int,
+    optimizer_message: str,
+    omega_lower: float = 0.0,
+) -> tuple[float, float, list[str], list[str]]:
+    """Checks on a fit: ``(persistence, persistence_se, warnings, notes)``.
+
+    ``params`` and ``cov`` are on ``arch``'s scale (percent returns). Warnings (each one means the
+    forward vol falls back to EWMA): optimizer not converged; standard errors not computable;
+    persistence >= 1 - :data:`BOUND_TOL`; alpha (GARCH) or alpha + gamma (GJR) or beta on the
+    lower bound 0; omega on its lower bound; Student-t nu on its lower bound. Notes: GJR alpha on 0
+    with gamma carrying the response; nu on its upper bound; and, for fits without warnings, no
+    significant clustering (Wald test, p > 0.05) or else persistence not significantly below 1
+    (z = (1 - p) / se(p) < :data:`NEAR_UNIT_Z`); the EGARCH long-run approximation.
+    """
+    warn: list[str] = []
+    notes: list[str] = []
+    if any(not math.isfinite(v) for v in params.values()):
+        warn.append("some estimates are not finite numbers: the fit failed")
+        return float("nan"), float("nan"), warn, notes
+    if convergence_flag != 0:
+        warn.append(f"the optimizer did not converge (arch flag {convergence_flag}: {optimizer_message.strip()}); "
+                    "the estimates are not a maximum of the likelihood")
+    if cov is None or not np.all(np.isfinite(np.diag(cov.to_numpy()))) or np.any(np.diag(cov.to_numpy()) < 0):
+        warn.append("standard errors could not be computed (the information matrix is singular or not "
+                    "positive definite): the fit sits at a degenerate point")
+        cov = None
+    p, p_se = persistence_of(model, params, cov)
+    tol = BOUND_TOL
+    clustering_p = _clustering_p_value(model, params, cov)
+    if p >= 1 - tol:
+        warn.append(f"persistence {p:.4f} is at or above 1 (within {tol:g}): shocks never die out, so there is "
+                    "no long-run vol or half-life to revert to")
+    beta = params["beta[1]"]
+    if beta <= tol:
+        warn.append(f"beta[1] = {beta:.2g} is on its lower bound 0: variance does not carry over from bar to "
+                    "bar, so the GARCH term is not identified and its standard errors are unreliable")
+    if model in ("garch", "gjr"):
+        alpha = params["alpha[1]"]
+        response = alpha + (params["gamma[1]"] if model == "gjr" else 0.0)
+        what = "alpha[1]" if model == "garch" else "alpha[1] + gamma[1]"
+        if response <= tol:
+            warn.append(f"{what} = {response:.2g} is on its lower bound 0: the fit finds no volatility "
+                        "clustering, beta[1] is not identified and standard errors are unreliable; a "
+                        "constant-vol estimator may suit this series better")
+        elif model == "gjr" and alpha <= tol:
+            notes.append(f"alpha[1] = {alpha:.2g} is on its lower bound 0: only falling returns raise the "
+                         "variance (gamma[1] carries the whole response); the s.e. of alpha[1] is unreliable")
+        if params["omega"] <= 10 * omega_lower:
+            warn.append(f"omega = {params['omega']:.3g} (percent scale) is on its lower bound: the long-run "
+                        "variance is pinned near zero")
+    if "nu" in params:
+        nu = params["nu"]
+        if nu <= _NU_BOUNDS[0] + tol:
+            warn.append(f"nu = {nu:.4g} is on its lower bound {_NU_BOUNDS[0]}: the innovation variance is "
+                        "barely finite, the fit is degenerate")
+        elif nu >= _NU_BOUNDS[1] - 1e-2:
+            notes.append(f"nu = {nu:.4g} is on its upper bound {_NU_BOUNDS[1]:g}: tails look normal; the "
+                         "normal distribution fits as well with one parameter fewer")
+    # the two notes below concern usable fits; when there are warnings, those say what is wrong
+    if not warn and clustering_p > 0.05:
+        names = " and ".join(_RESPONSE[model])
+        notes.append(f"no significant volatility clustering (Wald test of {names} = 0: p = {clustering_p:.2f}): "
+                     "the series looks like constant volatility, persistence and half-life are poorly "
+                     "determined, and the term structure is close to flat at the long-run vol")
+    elif not warn and math.isfinite(p_se) and p_se > 0 and (1 - p) / p_se < NEAR_UNIT_Z:
+        notes.append(f"persistence {p:.4f} is not significantly below 1 (z = {(1 - p) / p_se:.2f} < "
+                     f"{NEAR_UNIT_Z}, one-sided 5%): the long-run vol and half-life are poorly determined, "
+                     "and forward vols at long horizons lean on them")
+    if model == "egarch":
+        notes.append("long-run vol for EGARCH is exp(omega / (1 - beta)) annualized: the level log variance "
+                     "reverts to (a geometric mean, below the average variance)")
+    return p, p_se, warn, notes
+
+
+def to_decimal(model: str, params: pd.Series, cov: pd.DataFrame | None) -> tuple[dict, dict]:
+    """Parameters and standard errors from ``arch``'s percent scale to decimal return units.
+
+    Notes
+    -----
+    With y = 100 r: mu_r = mu_y / 100; GARCH/GJR omega_r = omega_y / 100^2. For EGARCH
+    ln s2_r = ln s2_y - ln 100^2, so omega_r = omega_y - (1 - beta) ln 100^2 and
+    Var(omega_r) = Var(omega_y) + (ln 100^2)^2 Var(beta) + 2 ln 100^2 Cov(omega_y, beta) (delta method).
+    Other parameters are scale-free.
+    """
+    names = list(params.index)
+    p = {k: float(params[k]) for k in names}
+    if cov is None:
+        se = {k: float("nan") for k in names}
+    else:
+        d = np.diag(cov.to_numpy())
+        se = {k: (math.sqrt(v) if math.isfinite(v) and v >= 0 else float("nan")) for k, v in zip(names, d)}
+    if "mu" in p:
+        p["mu"] /= SCALE
+        se["mu"] /= SCALE
+    if model == "egarch":
+        p["omega"] = p["omega"] - (1.0 - p["beta[1]"]) * _LN_SCALE2
+        if cov is not None:
+            v = (cov.loc["omega", "omega"] + _LN_SCALE2**2 * cov.loc["beta[1]", "beta[1]"]
+                 + 2 * _LN_SCALE2 * cov.loc["omega", "beta[1]"])
+            se["omega"] = math.sqrt(v) if math.isfinite(v) and v >= 0 else float("nan")
+    else:
+        p["omega"] /= SCALE**2
+        se["omega"] /= SCALE**2
+    return p, se

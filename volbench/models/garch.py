@@ -1,0 +1,404 @@
+"""One GARCH-family fit with the ``arch`` library, turned into forward vols, failing honestly.
+
+:func:`fit_garch` fits GARCH(1,1), GJR-GARCH(1,1,1) or EGARCH(1,1) with normal or Student-t
+innovations to a history's close-to-close log returns, and returns a :class:`GarchFit`: parameters
+and standard errors in decimal units, likelihood and information criteria, persistence, long-run
+vol, half-life, the in-sample conditional vol and the forward-vol term structure. When the fit
+cannot be trusted (see :func:`diagnose`) the result says why in ``warnings`` and its forward vol
+falls back to EWMA, with the fallback named in ``fallback``.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+from typing import Literal
+
+import numpy as np
+import pandas as pd
+from arch import arch_model
+
+from volbench.data.history import PriceHistory
+from volbench.errors import VolbenchError
+from volbench.estimators import REGISTRY, point_estimate
+from volbench.models import term
+from volbench.models.checks import SCALE, diagnose, to_decimal
+from volbench.models.term import DEFAULT_TERM_HORIZONS
+from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
+
+ModelName = Literal["garch", "gjr", "egarch"]
+DistName = Literal["normal", "t"]
+MeanName = Literal["constant", "zero"]
+
+MODELS: tuple[str, ...] = ("garch", "gjr", "egarch")
+DISTS: tuple[str, ...] = ("normal", "t")
+MEANS: tuple[str, ...] = ("constant", "zero")
+MODEL_LABELS = {"garch": "GARCH(1,1)", "gjr": "GJR-GARCH(1,1,1)", "egarch": "EGARCH(1,1)"}
+DIST_LABELS = {"normal": "normal", "t": "Student-t"}
+
+MIN_RETURNS = 250
+"""Fewest returns we fit a GARCH model to (about a year of daily bars; common practice, no source)."""
+DEFAULT_SEED = 20_240_917
+DEFAULT_SIMULATIONS = 2000
+FALLBACK = REGISTRY["ewma"].label
+"""Name of the fallback stated in results: ``"EWMA (lambda 0.94)"``."""
+
+_ARCH_SPEC = {
+    "garch": {"vol": "GARCH", "p": 1, "o": 0, "q": 1},
+    "gjr": {"vol": "GARCH", "p": 1, "o": 1, "q": 1},
+    "egarch": {"vol": "EGARCH", "p": 1, "o": 1, "q": 1},
+}
+
+
+def _choice(value, allowed: tuple[str, ...], what: str) -> str:
+    if not isinstance(value, str) or value.lower() not in allowed:
+        raise VolbenchError(f"unknown {what} {value!r}; choose one of: {', '.join(allowed)}")
+    return value.lower()
+
+
+def check_settings(
+    *,
+    dist: str = "normal",
+    mean: str = "constant",
+    horizons: Iterable[int] = DEFAULT_TERM_HORIZONS,
+    annualization: float = DEFAULT_ANNUALIZATION,
+    seed: int = DEFAULT_SEED,
+    simulations: int = DEFAULT_SIMULATIONS,
+    max_iterations: int | None = None,
+) -> dict:
+    """Validate the settings shared by every fit and return them normalised (keyword dict)."""
+    if isinstance(simulations, bool) or not isinstance(simulations, (int, np.integer)) or not 100 <= simulations <= 100_000:
+        raise VolbenchError(f"simulations must be a whole number between 100 and 100000, got {simulations!r}")
+    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
+        raise VolbenchError(f"seed must be a whole number >= 0, got {seed!r}")
+    if max_iterations is not None and (not isinstance(max_iterations, (int, np.integer)) or max_iterations < 1):
+        raise VolbenchError(f"max_iterations must be a whole number >= 1 or None, got {max_iterations!r}")
+    return {
+        "dist": _choice(dist, DISTS, "distribution"),
+        "mean": _choice(mean, MEANS, "mean"),
+        "horizons": term.check_horizons(horizons),
+        "annualization": check_annualization(annualization),
+        "seed": int(seed),
+        "simulations": int(simulations),
+        "max_iterations": None if max_iterations is None else int(max_iterations),
+    }
+
+
+def check_model(model) -> str:
+    return _choice(model, MODELS, "model")
+
+
+def _none_if_nan(x: float | None) -> float | None:
+    return None if x is None or not math.isfinite(x) else float(x)
+
+
+@dataclass(frozen=True, eq=False)
+class GarchFit:
+    """One GARCH-family fit of one series and the forward vols it implies.
+
+    Attributes
+    ----------
+    name, model, label, dist, mean
+        Series name; model key and label; innovation distribution; mean model.
+    annualization
+        Bars per year used for every annualized figure.
+    nobs
+        Returns used in the fit.
+    fitted
+        Whether ``arch`` produced estimates (False for too few or constant returns, or a crash
+        inside the optimizer).
+    converged
+        ``arch``'s convergence flag was 0.
+    params, std_errors
+        ``arch``'s parameter names (``mu``, ``omega``, ``alpha[1]``, ``gamma[1]``, ``beta[1]``,
+        ``nu``) in **decimal return units**: ``mu`` per bar; ``omega`` per-bar variance (GARCH, GJR)
+        or the constant of the log-variance equation (EGARCH). Robust (QMLE) standard errors;
+        NaN where they cannot be computed.
+    loglik, aic, bic
+        Log-likelihood of the decimal returns (``arch``'s percent-scale value + nobs ln 100) and
+        the criteria built on it; differences between models are unaffected by the shift.
+    persistence, persistence_se
+        alpha + beta (GARCH), alpha + gamma/2 + beta (GJR), beta (EGARCH), and its delta-method s.e.
+    long_run_vol
+        Annualized sqrt(omega / (1 - p)) (GARCH, GJR); for EGARCH sqrt(exp(omega / (1 - beta)))
+        annualized, the level log-variance reverts to (a geometric mean, so below the mean variance).
+        NaN when p >= 1.
+    half_life
+        ln(0.5) / ln(p) bars; NaN outside 0 < p < 1.
+    conditional_vol
+        In-sample conditional vol, annualized, indexed by return date (empty when not fitted).
+    term_structure
+        ``horizon`` (bars) and annualized ``vol``: sqrt of the average expected variance over
+        bars 1..horizon. Flat at the EWMA vol when ``fallback`` is set.
+    variance_path
+        Expected per-bar variance (decimal) of bars 1..H ahead, H = max(252, horizons); ``None``
+        under the fallback.
+    forecast_method, simulations, seed
+        ``"analytic"`` (GARCH, GJR), ``"simulation"`` (EGARCH, with the path count and seed) or
+        ``"fallback"``.
+    warnings
+        Why the fit cannot be used for the forward vol (each one triggers the fallback).
+    notes
+        Caveats that do not trigger the fallback.
+    fallback, fallback_vol
+        ``"EWMA (lambda 0.94)"`` and its latest annualized vol when warnings exist, else ``None``.
+    as_of
+        Date of the last bar (forecast origin).
+    """
+
+    name: str
+    model: str
+    dist: str
+    mean: str
+    annualization: float
+    nobs: int
+    fitted: bool
+    converged: bool
+    params: dict[str, float]
+    std_errors: dict[str, float]
+    loglik: float
+    aic: float
+    bic: float
+    persistence: float
+    persistence_se: float
+    long_run_vol: float
+    half_life: float
+    conditional_vol: pd.Series
+    term_structure: pd.DataFrame
+    variance_path: np.ndarray | None
+    forecast_method: str
+    warnings: tuple[str, ...] = ()
+    notes: tuple[str, ...] = ()
+    fallback: str | None = None
+    fallback_vol: float | None = None
+    simulations: int | None = None
+    seed: int | None = None
+    as_of: str | None = None
+    horizons: tuple[int, ...] = field(default=DEFAULT_TERM_HORIZONS)
+
+    @property
+    def label(self) -> str:
+        return MODEL_LABELS[self.model]
+
+    @property
+    def usable(self) -> bool:
+        """True when the model's own forecast is used (no fallback)."""
+        return self.fallback is None
+
+    @property
+    def max_days(self) -> int | None:
+        """Longest life ``forward_vol`` accepts (``None``: any, under the flat fallback)."""
+        return None if self.variance_path is None else int(self.variance_path.size)
+
+    def forward_vol(self, days: float) -> float:
+        """Annualized vol for an option living ``days`` bars (fractional bars interpolated).
+
+        Under the fallback this is the flat EWMA vol for any life.
+
+        Raises
+        ------
+        VolbenchError
+            ``days`` not positive, or beyond the forecast horizon :attr:`max_days`.
+        """
+        if self.variance_path is None:
+            d = float(days)
+            if not (math.isfinite(d) and d > 0):
+                raise VolbenchError(f"days must be a positive number of bars, got {days!r}")
+            return float(self.fallback_vol)
+        return math.sqrt(term.interpolate_average_variance(self.variance_path, days) * self.annualization)
+
+    @property
+    def next_bar_vol(self) -> float:
+        """Annualized vol expected for the next bar (the forward vol over one bar)."""
+        return self.forward_vol(1)
+
+    def as_dict(self) -> dict:
+        """The CLI JSON shape (NaN -> None)."""
+        return {
+            "model": self.model,
+            "label": self.label,
+            "dist": self.dist,
+            "mean": self.mean,
+            "fitted": self.fitted,
+            "converged": self.converged,
+            "nobs": self.nobs,
+            "params": {k: _none_if_nan(v) for k, v in self.params.items()},
+            "std_errors": {k: _none_if_nan(v) for k, v in self.std_errors.items()},
+            "loglik": _none_if_nan(self.loglik),
+            "aic": _none_if_nan(self.aic),
+            "bic": _none_if_nan(self.bic),
+            "persistence": _none_if_nan(self.persistence),
+            "persistence_se": _none_if_nan(self.persistence_se),
+            "long_run_vol": _none_if_nan(self.long_run_vol),
+            "half_life": _none_if_nan(self.half_life),
+            "next_bar_vol": _none_if_nan(self.next_bar_vol),
+            "term_structure": [{"horizon": int(h), "vol": _none_if_nan(float(v))}
+                               for h, v in zip(self.term_structure["horizon"], self.term_structure["vol"])],
+            "forecast_method": self.forecast_method,
+            "simulations": self.simulations,
+            "seed": self.seed,
+            "annualization": self.annualization,
+            "as_of": self.as_of,
+            "warnings": list(self.warnings),
+            "notes": list(self.notes),
+            "fallback": self.fallback,
+        }
+
+
+# ---------------------------------------------------------------------------------- fitting
+def fit_garch(
+    history: PriceHistory,
+    model: ModelName = "garch",
+    dist: DistName = "normal",
+    *,
+    mean: MeanName = "constant",
+    horizons: Iterable[int] = DEFAULT_TERM_HORIZONS,
+    annualization: float = DEFAULT_ANNUALIZATION,
+    seed: int = DEFAULT_SEED,
+    simulations: int = DEFAULT_SIMULATIONS,
+    max_iterations: int | None = None,
+) -> GarchFit:
+    """Fit one GARCH-family model to a history's log returns and derive its forward vols.
+
+    Parameters
+    ----------
+    history
+        Price history (rows already selected for the quality policy).
+    model
+        ``"garch"`` GARCH(1,1), ``"gjr"`` GJR-GARCH(1,1,1), ``"egarch"`` EGARCH(1,1).
+    dist
+        Innovation distribution, ``"normal"`` or ``"t"`` (standardized Student-t).
+    mean
+        ``"constant"`` or ``"zero"`` mean return.
+    horizons
+        Option lives in bars for the term structure.
+    annualization
+        Bars per year.
+    seed, simulations
+        Seed of the numpy Generator and number of paths of the EGARCH simulation forecast.
+    max_iterations
+        Optimizer iteration cap (``None``: ``arch``'s default).
+
+    Returns
+    -------
+    GarchFit
+        With ``warnings`` and an EWMA ``fallback`` when the fit cannot be used.
+
+    Raises
+    ------
+    VolbenchError
+        Bad settings, or fewer than 2 returns (no volatility of any kind can be computed).
+
+    Notes
+    -----
+    ``arch.arch_model`` on 100 x log returns (the library's advice), ``rescale=False``, fitted by
+    maximum likelihood with robust (QMLE) standard errors. Forecasts: ``arch``'s analytic
+    forecasts for GARCH and GJR, E[s2_{t+h}] = V_L + p^(h-1) (s2_{t+1} - V_L) (Bollerslev 1986;
+    METHODS.md); for EGARCH (Nelson 1991), whose multi-step forecast has no closed form, ``arch``'s
+    simulation forecast with ``simulations`` paths drawn by a seeded numpy Generator from the
+    fitted innovation distribution. Term structure vol(T) = sqrt(A mean_{h<=T} E[s2_{t+h}]).
+    """
+    model = check_model(model)
+    s = check_settings(dist=dist, mean=mean, horizons=horizons, annualization=annualization,
+                       seed=seed, simulations=simulations, max_iterations=max_iterations)
+    r = history.log_returns()
+    n = int(r.size)
+    if n < 2:
+        raise VolbenchError(f"{history.name}: {n} return{'s' if n != 1 else ''} (from {history.n} prices); "
+                            f"a volatility needs at least 2 returns and a GARCH fit at least {MIN_RETURNS}")
+    base = {"name": history.name, "model": model, "dist": s["dist"], "mean": s["mean"],
+            "annualization": s["annualization"], "nobs": n, "as_of": history.last_date,
+            "horizons": s["horizons"]}
+    if float(np.std(r)) <= 1e-12:
+        why = f"returns do not vary (all {n} equal {r[0]:.3g}): there is no volatility to model; check the price column"
+        return _fallback(history, base, [why], [], None)
+    if n < MIN_RETURNS:
+        why = (f"too few observations for a GARCH fit: {n} returns, at least {MIN_RETURNS} are needed "
+               "(about a year of daily bars)")
+        return _fallback(history, base, [why], [], None)
+    y = SCALE * r
+    spec = _ARCH_SPEC[model]
+    am = arch_model(y, mean="Constant" if s["mean"] == "constant" else "Zero", dist=s["dist"],
+                    rescale=False, **spec)
+    options = None if s["max_iterations"] is None else {"maxiter": s["max_iterations"]}
+    try:
+        res = am.fit(disp="off", show_warning=False, options=options)
+    except (ValueError, ArithmeticError, RuntimeError, np.linalg.LinAlgError) as exc:  # reported, never a crash
+        return _fallback(history, base, [f"the optimizer failed ({type(exc).__name__}: {exc})"], [], None)
+    try:
+        cov = res.param_cov
+    except (np.linalg.LinAlgError, ValueError, ZeroDivisionError):
+        cov = None
+    params_y = res.params
+    omega_lower = am.volatility.bounds(res.resid)[0][0] if model != "egarch" else -np.inf
+    p, p_se, warn, notes = diagnose(model, params_y.to_dict(), cov, convergence_flag=int(res.convergence_flag),
+                                    optimizer_message=str(res.optimization_result.message),
+                                    omega_lower=float(omega_lower))
+    params, se = to_decimal(model, params_y, cov)
+    a = s["annualization"]
+    shift = n * math.log(SCALE)  # Jacobian of y = 100 r
+    fit_info = {
+        "fitted": True,
+        "converged": int(res.convergence_flag) == 0,
+        "params": params,
+        "std_errors": se,
+        "loglik": float(res.loglikelihood) + shift,
+        "aic": float(res.aic) - 2 * shift,
+        "bic": float(res.bic) - 2 * shift,
+        "persistence": p,
+        "persistence_se": p_se,
+        "long_run_vol": _long_run_vol(model, params_y, p, a),
+        "half_life": term.half_life(p),
+        "conditional_vol": pd.Series(np.asarray(res.conditional_volatility) / SCALE * math.sqrt(a),
+                                     index=history.index[1:], name=model),
+    }
+    if warn:
+        return _fallback(history, base, warn, notes, fit_info)
+    horizon = max(252, max(s["horizons"]))
+    with np.errstate(over="ignore", invalid="ignore"):
+        if model == "egarch":
+            gen = np.random.default_rng(s["seed"])
+            dist_params = params_y.iloc[len(params_y) - am.distribution.num_params:].to_numpy()
+            rng = type(am.distribution)(seed=gen).simulate(dist_params)
+            fc = res.forecast(horizon=horizon, method="simulation", simulations=s["simulations"], rng=rng,
+                              reindex=False)
+            method, sims, seed_used = "simulation", s["simulations"], s["seed"]
+        else:
+            fc = res.forecast(horizon=horizon, reindex=False)
+            method, sims, seed_used = "analytic", None, None
+    path = fc.variance.to_numpy()[-1] / SCALE**2
+    if not (np.all(np.isfinite(path)) and np.all(path > 0)):
+        warn.append("the model's variance forecast is not finite and positive at every horizon")
+        return _fallback(history, base, warn, notes, fit_info)
+    path.setflags(write=False)
+    return GarchFit(**base, **fit_info, term_structure=term.term_structure(path, s["horizons"], a),
+                    variance_path=path, forecast_method=method, simulations=sims, seed=seed_used,
+                    warnings=(), notes=tuple(notes))
+
+
+def _long_run_vol(model: str, params_y: pd.Series, p: float, annualization: float) -> float:
+    """Annualized long-run vol in decimals (see :class:`GarchFit`); NaN when p >= 1."""
+    if not p < 1:
+        return float("nan")
+    if model == "egarch":
+        var_y = math.exp(params_y["omega"] / (1.0 - p))
+    else:
+        var_y = params_y["omega"] / (1.0 - p)
+    return math.sqrt(var_y * annualization) / SCALE
+
+
+def _fallback(history: PriceHistory, base: dict, warn: list[str], notes: list[str], fit_info: dict | None) -> GarchFit:
+    """A result whose forward vol is the latest EWMA vol, flat over every horizon."""
+    vol = point_estimate(history, "ewma", annualization=base["annualization"]).vol
+    nan = float("nan")
+    info = fit_info or {
+        "fitted": False, "converged": False, "params": {}, "std_errors": {}, "loglik": nan, "aic": nan,
+        "bic": nan, "persistence": nan, "persistence_se": nan, "long_run_vol": nan, "half_life": nan,
+        "conditional_vol": pd.Series([], index=pd.DatetimeIndex([], name="date"), dtype=float,
+                                     name=base["model"]),
+    }
+    warn = [*warn, f"forward vol falls back to {FALLBACK}: {vol:.2%} annualized, flat over every horizon"]
+    return GarchFit(**base, **info, term_structure=term.flat_term_structure(vol, base["horizons"]),
+                    variance_path=None, forecast_method="fallback", warnings=tuple(warn), notes=tuple(notes),
+                    fallback=FALLBACK, fallback_vol=vol)
