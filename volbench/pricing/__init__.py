@@ -2,7 +2,13 @@
 
 from volbench.pricing.bsm import Greeks, bsm_greeks, bsm_price, implied_vol, price_bounds
 from volbench.pricing.compare import Comparison, OptionSpec, compare
-from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, Cone, ConePlacement, hodges_tompkins_factor, vol_cone
+from volbench.pricing.cone import (
+    DEFAULT_CONE_WINDOWS,
+    Cone,
+    ConePlacement,
+    hodges_tompkins_factor,
+    vol_cone,
+)
 
 __all__ = [
     "DEFAULT_CONE_WINDOWS",

@@ -263,7 +263,7 @@ def implied_vol(price, spot, strike, years, rate, dividend_yield=0.0, kind: Opti
     ------
     VolbenchError
         Bad inputs; a price on or outside the no-arbitrage bounds (the message gives them); a price
-        so close to a bound that the vol is below 0.0001% or above 10,000%.
+        so close to a bound that the vol is below 0.0001% or above 10,000% (outside the search bracket).
 
     Notes
     -----
@@ -292,14 +292,14 @@ def implied_vol(price, spot, strike, years, rate, dividend_yield=0.0, kind: Opti
         return float(_price(s, k, t, r, v, q, kind)) - p
 
     if f(IV_LOW) >= 0:
-        raise VolbenchError(f"{kind} price {p:g} is within rounding of its lower bound {lo:.6g}: "
+        raise VolbenchError(f"{kind} price {p:g} is too close to its lower bound {lo:.6g}: "
                             f"the implied vol is below {IV_LOW:.0e} and cannot be resolved")
     high = IV_HIGH
     if f(high) <= 0:
         high = IV_HIGH_MAX
         if f(high) <= 0:
-            raise VolbenchError(f"{kind} price {p:g} is within rounding of its upper bound {hi:.6g}: "
-                                f"the implied vol is above {IV_HIGH_MAX:g} (10,000%)")
+            raise VolbenchError(f"{kind} price {p:g} is too close to its upper bound {hi:.6g}: "
+                                f"the implied vol is above {IV_HIGH_MAX:g} (10,000%) and cannot be resolved")
     root, info = brentq(f, IV_LOW, high, xtol=1e-13, maxiter=200, full_output=True, disp=False)
     if not info.converged:
         raise VolbenchError(f"implied vol search did not converge for {kind} price {p:g} ({info.flag})")

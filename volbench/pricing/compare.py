@@ -16,7 +16,7 @@ import pandas as pd
 
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
-from volbench.estimators import REGISTRY, estimate_all
+from volbench.estimators import REGISTRY, estimate_all, get_spec
 from volbench.pricing.bsm import bsm_greeks, check_kind, check_pricing_vol, check_rate
 from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, ConePlacement, _check_days, vol_cone
 from volbench.types import DEFAULT_ANNUALIZATION, OptionType, check_annualization, check_window
@@ -268,6 +268,7 @@ def compare(
         if w is None:
             raise VolbenchError("window must be a number of bars for a comparison, not 'all'")
         window_note = ""
+    get_spec(cone_estimator)
     spot, strike, rate, q, kind = _option(history, option)
     years = d / a
 
@@ -278,7 +279,7 @@ def compare(
         if key in report.estimates:
             note = window_note
             if key == "ewma":
-                note = "weighs every past return (half-life about 11 bars); the window only seeds it"
+                note = "all past returns, half-life ~11 bars"
             rows.append({"source": "estimator", "key": key, "label": spec.label, "window": w,
                          "vol": report.estimates[key].vol, "note": note})
         elif key in report.unavailable:
@@ -336,57 +337,71 @@ def ordinal(n: int) -> str:
 
 
 def _money(x: float) -> str:
-    return f"{abs(x):.2f}"
+    """Absolute amount to the cent; small non-zero amounts with two significant figures."""
+    x = abs(x)
+    return f"{x:.2g}" if 0 < x < 0.005 else f"{x:.2f}"
+
+
+def _cone_line(c: Comparison) -> list[str]:
+    if c.cone is None:
+        return []
+    p = c.cone.percentile
+    if p >= 100:
+        where = "above every value in the history of"
+    elif p <= 0:
+        where = "below every value in the history of"
+    else:
+        where = f"at the {ordinal(round(p))} percentile of"
+    return [f"pricing vol {100 * c.pricing_vol:.1f}% sits {where} {c.cone.note}"]
+
+
+def _reference_lines(c: Comparison, cand: pd.DataFrame) -> list[str]:
+    """Gap to the reference estimator and what it is worth on the option."""
+    ref = next((cand[cand["key"] == k].iloc[0] for k in REFERENCE_ESTIMATORS if (cand["key"] == k).any()),
+               cand.iloc[0])
+    name, rv = ref["label"], f"{100 * ref['vol']:.1f}%"
+    gap = -float(ref["gap_points"])
+    if abs(gap) < 0.05:
+        return [f"the pricing vol matches {name} ({rv}) within 0.1 vol point"]
+    span = f" over the last {c.window} bars" if ref["source"] == "estimator" else ""
+    lines = [f"the pricing vol is {abs(gap):.1f} vol points {'above' if gap > 0 else 'below'} {name} ({rv}{span})"]
+    if float(c.table["price"].max()) < 0.005:
+        lines.append(f"the {c.kind} is worth under 0.01 at every vol here, so the choice of vol barely moves its price")
+    else:
+        diff = float(ref["price_diff"])
+        more = "more" if diff > 0 else "less"
+        lines.append(f"the {c.kind} is worth {_money(diff)} {more} at {name}'s vol ({c.price:.2f} at the pricing "
+                     f"vol; the vega approximation says {_money(float(ref['vega_approx_diff']))} {more})")
+    return lines
+
+
+def _range_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
+    lo, hi = cand.loc[cand["vol"].idxmin()], cand.loc[cand["vol"].idxmax()]
+    n_below = int((cand["vol"] < c.pricing_vol).sum())
+    if n_below == len(cand):
+        pos = f"the pricing vol is above all {len(cand)} of them"
+    elif n_below == 0:
+        pos = f"the pricing vol is below all {len(cand)} of them"
+    else:
+        pos = f"the pricing vol is above {n_below} of {len(cand)}"
+    return [(f"candidate vols run from {100 * lo['vol']:.1f}% ({lo['label']}) to "
+            f"{100 * hi['vol']:.1f}% ({hi['label']}); {pos}")]
+
+
+def _garch_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
+    gar = cand[cand["source"] == "garch"]
+    if not len(gar):
+        return []
+    pref = gar[gar["note"].str.contains("preferred")]
+    row = pref.iloc[0] if len(pref) else gar.iloc[0]
+    side = "below" if row["gap_points"] < 0 else "above"
+    return [(f"{row['label']} forward vol over {c.days} bars is {100 * row['vol']:.1f}%, "
+            f"{abs(row['gap_points']):.1f} vol points {side} the pricing vol")]
 
 
 def _with_reading(c: Comparison) -> Comparison:
-    lines: list[str] = []
-    pv = f"{100 * c.pricing_vol:.1f}%"
-    if c.cone is not None:
-        pl = c.cone
-        p = pl.percentile
-        if p >= 100:
-            where = "above every value in the history of"
-        elif p <= 0:
-            where = "below every value in the history of"
-        else:
-            where = f"at the {ordinal(int(round(p)))} percentile of"
-        lines.append(f"pricing vol {pv} sits {where} {pl.note}")
     cand = c.candidates
+    lines = _cone_line(c)
     if len(cand):
-        ref = next((cand[cand["key"] == k].iloc[0] for k in REFERENCE_ESTIMATORS if (cand["key"] == k).any()),
-                   cand.iloc[0])
-        gap = -float(ref["gap_points"])
-        side = "above" if gap > 0 else "below"
-        if abs(gap) < 0.05:
-            lines.append(f"the pricing vol matches {ref['label']} ({100 * ref['vol']:.1f}%) within 0.1 vol point")
-        else:
-            lines.append(f"the pricing vol is {abs(gap):.1f} vol points {side} {ref['label']} "
-                         f"({100 * ref['vol']:.1f}% over the last {c.window} bars)"
-                         if ref["source"] == "estimator" else
-                         f"the pricing vol is {abs(gap):.1f} vol points {side} {ref['label']} "
-                         f"({100 * ref['vol']:.1f}%)")
-            diff = float(ref["price_diff"])
-            more = "more" if diff > 0 else "less"
-            lines.append(f"the {c.kind} is worth {_money(diff)} {more} at {ref['label']}'s vol "
-                         f"({c.price:.2f} at the pricing vol; the vega approximation says "
-                         f"{_money(float(ref['vega_approx_diff']))} {more})")
-        lo, hi = cand.loc[cand["vol"].idxmin()], cand.loc[cand["vol"].idxmax()]
-        n_below = int((cand["vol"] < c.pricing_vol).sum())
-        if n_below == len(cand):
-            pos = f"the pricing vol is above all {len(cand)} of them"
-        elif n_below == 0:
-            pos = f"the pricing vol is below all {len(cand)} of them"
-        else:
-            pos = f"the pricing vol is above {n_below} of {len(cand)}"
-        lines.append(f"candidate vols run from {100 * lo['vol']:.1f}% ({lo['label']}) to "
-                     f"{100 * hi['vol']:.1f}% ({hi['label']}); {pos}")
-    gar = cand[cand["source"] == "garch"]
-    if len(gar):
-        pref = gar[gar["note"].str.contains("preferred")]
-        row = pref.iloc[0] if len(pref) else gar.iloc[0]
-        lines.append(f"{row['label']} forward vol over {c.days} bars is {100 * row['vol']:.1f}%, "
-                     f"{abs(row['gap_points']):.1f} vol points {'below' if row['gap_points'] < 0 else 'above'} "
-                     "the pricing vol")
+        lines += _reference_lines(c, cand) + _range_line(c, cand) + _garch_line(c, cand)
     return replace(c, reading=tuple(lines))
-

@@ -24,24 +24,42 @@ PERCENTILES: dict[str, float] = {"min": 0, "p10": 10, "p25": 25, "p50": 50, "p75
 
 
 def hodges_tompkins_factor(window: int, n: int) -> float:
-    """Hodges-Tompkins factor for the standard deviation of vols from overlapping windows.
+    """Hodges-Tompkins factor for the dispersion of vols from ``n`` overlapping windows.
 
     Parameters
     ----------
     window
         Bars per window, h.
     n
-        Number of overlapping windows, T - h + 1 for T observations.
+        Number of overlapping windows (>= 2), T - h + 1 for T observations.
+
+    Raises
+    ------
+    VolbenchError
+        ``n`` below 2 or ``window`` below 1.
 
     Notes
     -----
-    1 / sqrt(1 - h/n + (h^2 - 1) / (3 n^2)) (Hodges & Tompkins 2002, J. of Derivatives 10(1)).
-    Greater than 1 when h is small against n: overlapping windows share returns, so their vols
-    disperse less than independent ones would and the spread is widened to compensate. The paper
-    derives it for n large against h; the cone notes columns with fewer than two independent windows.
+    Hodges & Tompkins (2002), J. of Derivatives 10(1): for h <= n the factor is
+    1 / sqrt(1 - h/n + (h^2 - 1) / (3 n^2)). It follows from the covariance of overlapping sums of
+    i.i.d. terms, Cov(X_i, X_j) = V (1 - |i - j| / h) for |i - j| < h: the expected dispersion of
+    the n estimates about their own mean (divisor n) is V (1 - h/n + (h^2 - 1)/(3 n^2)), and the
+    factor undoes that shrinkage. Greater than 1 when h is small against n: overlapping windows
+    share returns, so their vols disperse less than independent ones would.
+    For n < h (fewer overlapping windows than bars in one) the same sum runs only to lag n - 1
+    and gives the ratio (n^2 - 1) / (3 h n) instead (our derivation by the same argument; checked by
+    simulation in the tests); the two agree at n = h. Such a column rests on a single independent
+    window and the cone notes it.
     """
-    h, n = float(window), float(n)
-    return 1.0 / math.sqrt(1.0 - h / n + (h * h - 1.0) / (3.0 * n * n))
+    h, m = int(window), int(n)
+    if h < 1 or m < 2:
+        raise VolbenchError(f"the Hodges-Tompkins factor needs window >= 1 and at least 2 overlapping "
+                            f"windows, got window {window} and {n}")
+    if m >= h:
+        ratio = 1.0 - h / m + (h * h - 1.0) / (3.0 * m * m)
+    else:
+        ratio = (m * m - 1.0) / (3.0 * h * m)
+    return 1.0 / math.sqrt(ratio)
 
 
 def percentile_rank(sorted_values: np.ndarray, vol) -> float | np.ndarray:
@@ -114,7 +132,8 @@ class Cone:
         vols), mean, current (the last rolling value), current_percentile (its rank, 0-100, see
         :func:`percentile_rank`), n_windows (overlapping windows = rolling values), n_independent
         (non-overlapping windows, floor(observations / window)); with Hodges-Tompkins also
-        ht_factor and min_adj ... max_adj = mean + ht_factor x (column - mean), floored at 0.
+        ht_factor, min_adj ... max_adj = mean + ht_factor x (column - mean), floored at 0, and
+        current_percentile_adj (today's rank in the adjusted distribution, the one :meth:`place` uses).
     dropped
         Window -> reason, for windows that do not fit the history.
     notes
@@ -361,10 +380,16 @@ def vol_cone(
                 notes.append(f"window {w}: adjusted values below zero were floored at 0")
             row["ht_factor"] = f
             row.update({f"{k}_adj": float(x) for k, x in zip(PERCENTILES, np.maximum(adj, 0.0))})
+            row["current_percentile_adj"] = float(percentile_rank(np.sort(mean + f * (vals - mean)),
+                                                                  mean + f * (vals[-1] - mean)))
         rows[w] = row
         rolling[w] = rv.values
     if not rows:
-        reasons = "; ".join(f"{w}: {r}" for w, r in dropped.items())
+        by_reason: dict[str, list[str]] = {}
+        for w, r in dropped.items():
+            by_reason.setdefault(r, []).append(str(w))
+        reasons = "; ".join(r if r.startswith("window ") else f"window{'s' if len(ws_) > 1 else ''} "
+                            f"{', '.join(ws_)}: {r}" for r, ws_ in by_reason.items())
         raise VolbenchError(f"{h.name}: no cone window fits the {h.n} rows from {h.first_date} to "
                             f"{h.last_date} ({reasons}); use shorter windows or a longer range")
     if spec.key == "ewma":

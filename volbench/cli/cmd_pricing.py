@@ -1,0 +1,289 @@
+"""``volbench cone``, ``volbench compare`` and ``volbench price``."""
+
+from __future__ import annotations
+
+import argparse
+import math
+from dataclasses import replace
+
+from volbench.cli.common import (
+    add_annualization,
+    add_file_options,
+    add_format,
+    load_from_args,
+    parse_int_list,
+    pct,
+    print_json,
+    render_table,
+)
+from volbench.errors import VolbenchError
+from volbench.estimators import REGISTRY
+from volbench.pricing.bsm import bsm_greeks, check_pricing_vol, check_rate
+from volbench.pricing.compare import OptionSpec, compare
+from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, PERCENTILES, vol_cone
+
+CAUTION = "Estimates are statistical and carry model risk; they are not advice."
+NOT_IN_BUILD = "not available in this build"
+
+
+def register(sub) -> None:
+    c = sub.add_parser(
+        "cone", help="volatility cone: percentiles of rolling realized vol per window",
+        description="For each window, the min, 10th, 25th, 50th, 75th, 90th percentile and max of rolling "
+                    "realized vol over the history (or a date range), today's value and its percentile, "
+                    "and how many overlapping and independent windows stand behind each column.",
+    )
+    add_file_options(c)
+    c.add_argument("--estimator", default="close_to_close", metavar="KEY",
+                   help=f"estimator (default close_to_close; one of: {', '.join(REGISTRY)})")
+    c.add_argument("--windows", default=",".join(map(str, DEFAULT_CONE_WINDOWS)), metavar="W,W,...",
+                   help="window lengths in bars (default %(default)s)")
+    c.add_argument("--start", metavar="YYYY-MM-DD", default=None, help="first date of the range (default: first row)")
+    c.add_argument("--end", metavar="YYYY-MM-DD", default=None, help="last date of the range (default: last row)")
+    c.add_argument("--hodges-tompkins", action="store_true",
+                   help="widen each column's spread for overlapping windows (Hodges & Tompkins 2002)")
+    add_annualization(c)
+    add_format(c)
+    c.set_defaults(func=run_cone)
+
+    m = sub.add_parser(
+        "compare", help="set a proposed pricing vol against the history and reprice the option",
+        description="Places the pricing vol in the volatility cone at the option's life, lists every "
+                    "estimator's latest vol over that many bars (plus GARCH and the scaling check on "
+                    "request) with the gap in vol points, and reprices the option at each vol with "
+                    "Black-Scholes-Merton.",
+    )
+    add_file_options(m, many=False)
+    m.add_argument("--series", metavar="NAME", default=None, help="series to use when FILE holds several")
+    m.add_argument("--pricing-vol", required=True, metavar="V", help="proposed vol as a decimal, e.g. 0.25")
+    m.add_argument("--days", required=True, metavar="N", help="bars to expiry, e.g. 30")
+    m.add_argument("--strike", type=float, default=None, metavar="K", help="strike (default: at the money)")
+    m.add_argument("--spot", type=float, default=None, metavar="S", help="spot (default: last close)")
+    m.add_argument("--rate", default="0", metavar="R", help="risk-free rate, continuous, decimal (default 0)")
+    m.add_argument("--dividend-yield", default="0", metavar="Q", help="dividend yield, continuous, decimal (default 0)")
+    m.add_argument("--type", dest="kind", choices=["call", "put"], default="call", help="option type (default call)")
+    m.add_argument("--window", default=None, metavar="N", help="estimator window in bars (default: --days)")
+    m.add_argument("--cone-estimator", default="close_to_close", metavar="KEY",
+                   help="estimator of the cone the pricing vol is placed in (default close_to_close)")
+    m.add_argument("--with-garch", action="store_true", help="add GARCH-family forward vols for the option's life")
+    m.add_argument("--with-scaling", action="store_true", help="add the scaling check's horizon vol")
+    add_annualization(m)
+    add_format(m)
+    m.set_defaults(func=run_compare)
+
+    p = sub.add_parser(
+        "price", help="Black-Scholes-Merton price and greeks of a call and a put",
+        description="Price, delta, gamma, vega, theta and rho of a European call and put with a "
+                    "continuous dividend yield. Vega per 1.00 of vol and per vol point; theta per year "
+                    "and per calendar day (/365); rho per 1.00 of rate.",
+    )
+    p.add_argument("--spot", required=True, metavar="S", help="spot price")
+    p.add_argument("--strike", required=True, metavar="K", help="strike price")
+    p.add_argument("--rate", required=True, metavar="R", help="risk-free rate, continuous, decimal (0.05 = 5%%)")
+    p.add_argument("--vol", required=True, metavar="V", help="volatility, decimal (0.25 = 25%%)")
+    p.add_argument("--years", required=True, metavar="T", help="years to expiry")
+    p.add_argument("--dividend-yield", default="0", metavar="Q", help="dividend yield, continuous, decimal (default 0)")
+    add_format(p)
+    p.set_defaults(func=run_price)
+
+
+# ---------------------------------------------------------------------------- helpers
+def _number(text: str, what: str) -> float:
+    try:
+        x = float(text)
+    except (TypeError, ValueError):
+        raise VolbenchError(f"{what} must be a number, got {text!r}") from None
+    if not math.isfinite(x):
+        raise VolbenchError(f"{what} must be a finite number, got {text!r}")
+    return x
+
+
+def _whole(text: str, what: str) -> int:
+    try:
+        return int(text)
+    except (TypeError, ValueError):
+        raise VolbenchError(f"{what} must be a whole number of bars, got {text!r}") from None
+
+
+def _f(x: float, sign: str = "") -> str:
+    """Four decimals; tiny non-zero values in scientific form so they never print as 0.0000."""
+    if x is None or not math.isfinite(x):
+        return "n/a"
+    if x != 0 and abs(x) < 5e-5:
+        return f"{x:{sign}.2e}"
+    return f"{x:{sign}.4f}"
+
+
+def _signed(x: float) -> str:
+    return _f(x, "+")
+
+
+# ---------------------------------------------------------------------------- cone
+def run_cone(args: argparse.Namespace) -> int:
+    windows = parse_int_list(args.windows, "--windows")
+    if args.estimator not in REGISTRY:
+        raise VolbenchError(f"unknown estimator {args.estimator!r}; choose one of: {', '.join(REGISTRY)}")
+    histories = load_from_args(args)
+    cones = [vol_cone(h, args.estimator, windows, start=args.start, end=args.end,
+                      annualization=args.annualization, hodges_tompkins=args.hodges_tompkins)
+             for h in histories]
+    if args.format == "json":
+        print_json({"series": [c.as_dict() for c in cones]})
+        return 0
+    for i, c in enumerate(cones):
+        if i:
+            print()
+        print(f"{c.name}  {c.label.lower()} vol cone, {c.start} to {c.end} ({c.rows} rows), "
+              f"annualized with {c.annualization:g} bars/year")
+        suffix = "_adj" if c.hodges_tompkins else ""
+        heads = ["window", "min", "10%", "25%", "median", "75%", "90%", "max", "today", "today pctl",
+                 "windows", "independent"]
+        rows = []
+        for w, r in c.table.iterrows():
+            row = [w] + [pct(r[f"{k}{suffix}"], 1) for k in PERCENTILES]
+            rank = r["current_percentile_adj"] if c.hodges_tompkins else r["current_percentile"]
+            row += [pct(r["current"], 1), f"{rank:.0f}", int(r["n_windows"]), int(r["n_independent"])]
+            if c.hodges_tompkins:
+                row.append(f"{r['ht_factor']:.3f}")
+            rows.append(row)
+        if c.hodges_tompkins:
+            heads.append("HT factor")
+        print(render_table(heads, rows, "r" * len(heads)))
+        if c.hodges_tompkins:
+            print("percentiles widened for overlapping windows (Hodges & Tompkins 2002): "
+                  "mean + factor x (raw - mean); raw values with --format json")
+        for w, reason in c.dropped.items():
+            print(f"dropped window {w}: {reason}")
+        for note in c.notes:
+            print(f"note: {note}")
+    print(f"\n'windows' counts overlapping windows, 'independent' non-overlapping ones. {CAUTION}")
+    return 0
+
+
+# ---------------------------------------------------------------------------- compare
+def _pick_series(histories, name):
+    if name is None:
+        if len(histories) > 1:
+            raise VolbenchError(f"the file holds {len(histories)} series ({', '.join(h.name for h in histories)}); "
+                                "choose one with --series NAME")
+        return histories[0]
+    for h in histories:
+        if h.name == name:
+            return h
+    raise VolbenchError(f"no series {name!r} in the file; it holds: {', '.join(h.name for h in histories)}")
+
+
+def _optional_results(args, history):
+    """GARCH and scaling results on request, with the reason when they cannot be had."""
+    garch = scaling = None
+    reasons: dict[str, str] = {}
+    if args.with_garch:
+        try:
+            from volbench.models import fit_models
+        except ImportError:
+            reasons["garch"] = NOT_IN_BUILD
+        else:
+            try:
+                garch = fit_models(history, annualization=args.annualization)
+            except VolbenchError as exc:
+                reasons["garch"] = str(exc)
+    if args.with_scaling:
+        try:
+            from volbench.scaling import scaling_check
+        except ImportError:
+            reasons["scaling"] = NOT_IN_BUILD
+        else:
+            try:
+                scaling = scaling_check(history, annualization=args.annualization)
+            except VolbenchError as exc:
+                reasons["scaling"] = str(exc)
+    return garch, scaling, reasons
+
+
+def run_compare(args: argparse.Namespace) -> int:
+    pv = check_pricing_vol(_number(args.pricing_vol, "--pricing-vol"), "--pricing-vol")
+    days = _whole(args.days, "--days")
+    window = None if args.window is None else _whole(args.window, "--window")
+    option = OptionSpec(strike=args.strike, rate=check_rate(_number(args.rate, "--rate"), "--rate"),
+                        dividend_yield=check_rate(_number(args.dividend_yield, "--dividend-yield"),
+                                                  "--dividend-yield"),
+                        kind=args.kind, spot=args.spot)
+    if args.cone_estimator not in REGISTRY:
+        raise VolbenchError(f"unknown estimator {args.cone_estimator!r}; choose one of: {', '.join(REGISTRY)}")
+    if days < 1:
+        raise VolbenchError(f"--days must be a whole number of bars >= 1, got {days}")
+    history = _pick_series(load_from_args(args), args.series)
+    garch, scaling, reasons = _optional_results(args, history)
+    comp = compare(history, pv, days, option=option, annualization=args.annualization, window=window,
+                   garch=garch, scaling=scaling, cone_estimator=args.cone_estimator)
+    if reasons:
+        comp = replace(comp, unavailable={**comp.unavailable, **reasons})
+    if args.format == "json":
+        print_json(comp.as_dict())
+        return 0
+    h = history
+    atm = " (at the money)" if math.isclose(comp.strike, comp.spot) else ""
+    print(f"{h.name}  as of {comp.as_of}  ({h.source.name if h.source else ''}: {h.n} rows"
+          f", flagged rows {'excluded' if h.exclude_flagged else 'kept'})")
+    print(f"{comp.kind} {comp.days} bars = {comp.years:.4f} years at {comp.annualization:g} bars/year; "
+          f"spot {comp.spot:g}{' (last close)' if args.spot is None else ''}, strike {comp.strike:g}{atm}, "
+          f"rate {pct(comp.rate)}, dividend yield {pct(comp.dividend_yield)}")
+    print()
+    rows = []
+    for r in comp.table.itertuples(index=False):
+        is_p = r.source == "pricing"
+        rows.append([r.label, pct(r.vol), "" if is_p else f"{r.gap_points:+.2f}", _f(r.price),
+                     "" if is_p else _signed(r.price_diff), "" if is_p else _signed(r.vega_approx_diff),
+                     _f(r.vega_point), r.note])
+    print(render_table(["vol source", "vol", "gap (pts)", "price", "price diff", "vega approx", "vega/pt", "note"],
+                       rows, "lrrrrrrl"))
+    print(f"estimators over the last {comp.window} bars; gap = candidate - pricing vol; price diff = exact "
+          "repricing; vega approx = vega x gap")
+    missing = dict(comp.unavailable)
+    labels = {**{k: REGISTRY[k].label for k in REGISTRY}, "garch": "GARCH", "scaling": "scaling check"}
+    hints = {"garch": "add --with-garch", "scaling": "add --with-scaling"}
+    if missing:
+        parts = []
+        for k, why in missing.items():
+            if k == "cone":
+                continue
+            extra = f"; {hints[k]}" if why == "not requested" and k in hints else ""
+            parts.append(f"{labels.get(k, k)} ({why}{extra})")
+        if parts:
+            print("not shown: " + ", ".join(parts))
+    print()
+    if "cone" in missing:
+        print(f"cone: not available ({missing['cone']})")
+    for line in comp.reading:
+        print(f"- {line}")
+    print(f"\n{CAUTION}")
+    return 0
+
+
+# ---------------------------------------------------------------------------- price
+def run_price(args: argparse.Namespace) -> int:
+    spot = _number(args.spot, "--spot")
+    strike = _number(args.strike, "--strike")
+    years = _number(args.years, "--years")
+    vol = check_pricing_vol(_number(args.vol, "--vol"), "--vol")
+    rate = check_rate(_number(args.rate, "--rate"), "--rate")
+    q = check_rate(_number(args.dividend_yield, "--dividend-yield"), "--dividend-yield")
+    out = {kind: bsm_greeks(spot, strike, years, rate, vol, q, kind) for kind in ("call", "put")}
+    if args.format == "json":
+        print_json({
+            **{k: g.as_dict() for k, g in out.items()},
+            "inputs": {"spot": spot, "strike": strike, "years": years, "rate": rate, "vol": vol,
+                       "dividend_yield": q},
+            "units": {"vega": "per 1.00 of vol", "vega_point": "per vol point (0.01)",
+                      "theta": "per year", "theta_day": "per calendar day (theta / 365)",
+                      "rho": "per 1.00 of rate"},
+        })
+        return 0
+    print(f"Black-Scholes-Merton: spot {spot:g}, strike {strike:g}, {years:g} years, rate {pct(rate)}, "
+          f"dividend yield {pct(q)}, vol {pct(vol)}")
+    names = [("price", "price"), ("delta", "delta"), ("gamma", "gamma"), ("vega", "vega (per 1.00 vol)"),
+             ("vega_point", "vega (per vol point)"), ("theta", "theta (per year)"),
+             ("theta_day", "theta (per calendar day)"), ("rho", "rho (per 1.00 rate)")]
+    rows = [[label, _f(getattr(out["call"], k)), _f(getattr(out["put"], k))] for k, label in names]
+    print(render_table(["", "call", "put"], rows, "lrr"))
+    return 0
