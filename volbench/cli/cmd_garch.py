@@ -1,0 +1,144 @@
+"""``volbench garch``: GARCH-family fits and the forward vol over an option's life."""
+
+from __future__ import annotations
+
+import argparse
+import math
+import sys
+
+from volbench.cli.common import (
+    add_annualization,
+    add_file_options,
+    add_format,
+    load_from_args,
+    parse_int_list,
+    pct,
+    print_json,
+    render_table,
+)
+from volbench.models import (
+    DEFAULT_SEED,
+    DEFAULT_SIMULATIONS,
+    DEFAULT_TERM_HORIZONS,
+    DISTS,
+    MEANS,
+    MODELS,
+    GarchComparison,
+    GarchFit,
+    fit_many,
+)
+from volbench.models.compare import check_models
+from volbench.models.garch import DIST_LABELS, check_settings
+
+PARALLEL_FROM = 10
+"""More series than this are fitted in worker processes unless --processes says otherwise."""
+
+
+def register(sub) -> None:
+    p = sub.add_parser(
+        "garch", help="GARCH-family fits and forward vols over an option's life",
+        description="Fit GARCH(1,1), GJR-GARCH(1,1,1) and/or EGARCH(1,1) to each series' close-to-close "
+                    "log returns (maximum likelihood, via the arch library), rank them by BIC, and show "
+                    "the forward vol for each option life: the annualized square root of the average "
+                    "expected variance over the next T bars. Fits that cannot be trusted (no convergence, "
+                    "persistence at 1, parameters on a bound, too few or constant returns) say so and "
+                    "fall back to EWMA (lambda 0.94).",
+        epilog="Estimates are statistical and carry model risk; they are not advice.",
+    )
+    add_file_options(p)
+    p.add_argument("--model", choices=[*MODELS, "all"], default="all",
+                   help="model to fit, or all three ranked by BIC (default all)")
+    p.add_argument("--dist", choices=list(DISTS), default="normal",
+                   help="innovation distribution: normal or Student-t (default normal)")
+    p.add_argument("--mean", choices=list(MEANS), default="constant",
+                   help="mean return: constant (estimated) or zero (default constant)")
+    p.add_argument("--horizons", default=",".join(map(str, DEFAULT_TERM_HORIZONS)), metavar="LIST",
+                   help="option lives in bars for the forward vol, comma separated (default %(default)s)")
+    add_annualization(p)
+    p.add_argument("--seed", type=int, default=DEFAULT_SEED, metavar="N",
+                   help="seed of the EGARCH simulation forecast (default %(default)s)")
+    p.add_argument("--simulations", type=int, default=DEFAULT_SIMULATIONS, metavar="N",
+                   help="paths of the EGARCH simulation forecast (default %(default)s)")
+    p.add_argument("--processes", type=int, default=None, metavar="N",
+                   help=f"worker processes (default: one per CPU when more than {PARALLEL_FROM} series, "
+                        "else 1: starting workers costs a few seconds)")
+    add_format(p)
+    p.set_defaults(func=run_garch)
+
+
+def run_garch(args: argparse.Namespace) -> int:
+    horizons = parse_int_list(args.horizons, "horizons")
+    models = check_models(args.model)
+    settings = check_settings(dist=args.dist, mean=args.mean, horizons=horizons, annualization=args.annualization,
+                              seed=args.seed, simulations=args.simulations)
+    histories = load_from_args(args)
+    processes = args.processes
+    if processes is None:  # worker start-up (imports) costs seconds: only worth it for many series
+        processes = None if len(histories) > PARALLEL_FROM else 1
+    show = len(histories) > 1 and sys.stderr.isatty()
+
+    def progress(done: int, total: int, name: str) -> None:
+        sys.stderr.write(f"\rfitted {done}/{total}: {name[:40]:<40}")
+        sys.stderr.flush()
+
+    results = fit_many(histories, models=models, processes=processes, progress=progress if show else None,
+                       **settings)
+    if show:
+        sys.stderr.write("\n")
+    if args.format == "json":
+        print_json({"series": [r.as_dict() for r in results]})
+        return 0
+    for i, (h, r) in enumerate(zip(histories, results)):
+        if i:
+            print()
+        print(f"{h.name}  ({h.source.name if h.source else ''}: {h.n} rows, {h.first_date} to {h.last_date})")
+        _print_comparison(r, settings)
+    print("\nForward vol: annualized sqrt of the average expected variance over bars 1..T after the last bar."
+          "\n* EWMA fallback (see warnings). Estimates are statistical, not advice.")
+    return 0
+
+
+def _num(x: float, digits: int = 4) -> str:
+    if x is None or not math.isfinite(x):
+        return "n/a"
+    return f"{x:.{digits}f}" if abs(x) >= 0.01 or x == 0 else f"{x:.3e}"
+
+
+def _status(f: GarchFit, preferred: str | None) -> str:
+    if f.fallback:
+        return "fallback*"
+    tag = "preferred" if f.model == preferred else "ok"
+    if f.forecast_method == "simulation":
+        tag += f" ({f.simulations} paths)"
+    return tag
+
+
+def _print_comparison(r: GarchComparison, settings: dict) -> None:
+    first = r.fits[0]
+    print(f"{first.nobs} returns, {DIST_LABELS[first.dist]} innovations, {first.mean} mean, "
+          f"{settings['annualization']:g} bars/year, forecast from {first.as_of}")
+    best = min((f.bic for f in r.fits if math.isfinite(f.bic)), default=float("nan"))
+    rows = []
+    for f in r.fits:
+        dbic = f.bic - best if math.isfinite(f.bic) else float("nan")
+        hl = "n/a" if not math.isfinite(f.half_life) else f"{f.half_life:.1f}"
+        rows.append([f.label, _num(f.loglik, 1), _num(f.bic, 1), _num(dbic, 1), _num(f.persistence),
+                     hl, pct(f.long_run_vol), pct(f.next_bar_vol), _status(f, r.preferred)])
+    print(render_table(["model", "loglik", "BIC", "dBIC", "persistence", "half-life (bars)", "long-run vol",
+                        "next-bar vol", "status"], rows, "lrrrrrrrl"))
+    print()
+    hz = [int(h) for h in first.term_structure["horizon"]]
+    rows = [[f.label + ("*" if f.fallback else "")] + [pct(v) for v in f.term_structure["vol"]] for f in r.fits]
+    print(render_table(["forward vol, bars:"] + [str(h) for h in hz], rows))
+    fitted = [f for f in r.fits if f.fitted]
+    if fitted:
+        print("\nparameters in decimal units (mu, omega per bar), robust standard errors in brackets:")
+        for f in fitted:
+            items = "  ".join(f"{k} {_num(v)} ({_num(f.std_errors.get(k, float('nan')))})" for k, v in f.params.items())
+            print(f"  {f.label}: {items}")
+    print(f"\n{r.message[0].upper()}{r.message[1:]}.")
+    for title, attr in (("warnings", "warnings"), ("notes", "notes")):
+        lines = [f"  {f.label}: {w}" for f in r.fits for w in getattr(f, attr)]
+        if lines:
+            print(f"{title}:")
+            print("\n".join(lines))
