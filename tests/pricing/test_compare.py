@@ -117,7 +117,7 @@ def test_far_out_of_the_money_option_reading(hist):
 
 
 def _fit(model, vol, **kw):
-    return SimpleNamespace(model=model, dist="normal", converged=kw.get("converged", True),
+    return SimpleNamespace(model=model, dist=kw.get("dist", "normal"), converged=kw.get("converged", True),
                            fallback=kw.get("fallback"), persistence=kw.get("persistence", 0.95),
                            forward_vol=kw.get("forward_vol", lambda days: vol))
 
@@ -133,19 +133,20 @@ def test_garch_comparison_stand_in(hist):
     c = compare(hist, 0.25, 30, garch=garch)
     g = c.table[c.table["source"] == "garch"].set_index("key")
     assert list(g.index) == ["garch:garch", "garch:gjr"]
-    assert g.loc["garch:garch", "vol"] == 0.21 and g.loc["garch:garch", "label"] == "GARCH garch (normal)"
-    assert g.loc["garch:gjr", "note"] == "preferred fit; persistence 1.010 >= 1"
+    assert g.loc["garch:garch", "vol"] == 0.21 and g.loc["garch:garch", "label"] == "GARCH(1,1)"
+    assert g.loc["garch:gjr", "note"] == "forward vol over the option's life; preferred fit; persistence 1.010 >= 1"
     assert g.loc["garch:gjr", "gap_points"] == pytest.approx(-2.0)
     assert c.unavailable["garch:egarch"] == "egarch: fit failed to converge"
     assert c.unavailable["garch:figarch"] == "no forward vol for 30 bars"
     assert "garch" not in c.unavailable
-    assert "GARCH gjr (normal) forward vol over 30 bars is 23.0%, 2.0 vol points below the pricing vol" in c.reading
+    assert "GJR-GARCH forward vol over 30 bars is 23.0%, 2.0 vol points below the pricing vol" in c.reading
 
 
 def test_single_garch_fit_stand_in(hist):
-    c = compare(hist, 0.25, 30, garch=_fit("gjr", 0.3, converged=False, fallback="EWMA"))
+    c = compare(hist, 0.25, 30, garch=_fit("gjr", 0.3, converged=False, fallback="EWMA", dist="t"))
     row = c.table[c.table["source"] == "garch"].iloc[0]
-    assert row["vol"] == 0.3 and row["note"] == "fit did not converge; fallback: EWMA"
+    assert row["label"] == "GJR-GARCH (t)"
+    assert row["vol"] == 0.3 and row["note"] == "forward vol over the option's life; fit did not converge; fallback: EWMA"
     bad = compare(hist, 0.25, 30, garch=object())
     assert bad.unavailable["garch"] == "object of type object has no GARCH fits or forward_vol"
 

@@ -24,6 +24,9 @@ from volbench.types import DEFAULT_ANNUALIZATION, OptionType, check_annualizatio
 REFERENCE_ESTIMATORS = ("yang_zhang", "close_to_close")
 """Estimator the reading compares against first: the most efficient one available, else close-to-close."""
 
+GARCH_LABELS = {"garch": "GARCH(1,1)", "gjr": "GJR-GARCH", "egarch": "EGARCH"}
+"""Table labels of the GARCH-family models (Bollerslev 1986; Glosten, Jagannathan & Runkle 1993; Nelson 1991)."""
+
 TABLE_COLUMNS = ("source", "key", "label", "window", "vol", "gap_points", "price", "vega", "vega_point",
                  "price_diff", "vega_approx_diff", "note")
 
@@ -134,7 +137,7 @@ def _garch_candidates(garch, days: int) -> tuple[list[dict], dict[str, str]]:
         model = str(getattr(fit, "model", "garch"))
         dist = getattr(fit, "dist", None)
         key = f"garch:{model}"
-        label = f"GARCH {model}" + (f" ({dist})" if dist else "")
+        label = GARCH_LABELS.get(model, model.upper()) + (f" ({dist})" if dist and dist != "normal" else "")
         try:
             v = fit.forward_vol(days)
         except VolbenchError as exc:
@@ -144,7 +147,7 @@ def _garch_candidates(garch, days: int) -> tuple[list[dict], dict[str, str]]:
         if v is None or not (math.isfinite(v) and v > 0):
             missing[key] = f"no forward vol for {days} bars"
             continue
-        notes = []
+        notes = ["forward vol over the option's life"]
         if preferred is not None and model == preferred:
             notes.append("preferred fit")
         if getattr(fit, "converged", True) is False:
@@ -178,7 +181,7 @@ def _scaling_candidate(scaling, days: int) -> tuple[list[dict], dict[str, str]]:
             span = f" (horizons {int(hz['h'].min())} to {int(hz['h'].max())} bars)"
         return [], {"scaling": f"option life of {days} bars is outside the scaling check's horizons{span}"}
     return [{"source": "scaling", "key": "scaling", "label": "Scaling check horizon vol", "window": days,
-             "vol": float(v), "note": ""}], {}
+             "vol": float(v), "note": f"{days}-bar returns over the whole history"}], {}
 
 
 def _option(history: PriceHistory, option: OptionSpec | None) -> tuple[float, float, float, float, str]:
