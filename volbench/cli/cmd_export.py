@@ -4,12 +4,11 @@ from __future__ import annotations
 
 import argparse
 import sys
-from pathlib import Path
 
 from volbench.cli.common import add_annualization, add_file_options, load_from_args
 from volbench.errors import VolbenchError
 from volbench.export import FORMATS, build_bundle, export_format, write_export
-from volbench.export.atomic import exists_message
+from volbench.export.atomic import check_destination
 from volbench.types import check_window
 
 
@@ -61,7 +60,7 @@ def _option_args(args: argparse.Namespace) -> dict | None:
     if args.pricing_vol is None and args.days is None:
         extra = [f"--{k}" for k in given] + changed
         if extra:
-            raise VolbenchError(f"{', '.join(extra)} only apply to a comparison; "
+            raise VolbenchError(f"{', '.join(extra)}: option settings apply only to a comparison; "
                                 "also give --pricing-vol and --days")
         return None
     if args.pricing_vol is None or args.days is None:
@@ -71,10 +70,8 @@ def _option_args(args: argparse.Namespace) -> dict | None:
 
 
 def run_export(args: argparse.Namespace) -> int:
-    target = Path(args.to)
-    fmt = export_format(target)  # fail fast, before any work
-    if target.exists() and not args.force and not target.is_dir():
-        raise VolbenchError(exists_message(target))
+    fmt = export_format(args.to)  # fail fast, before any work
+    target = check_destination(args.to, overwrite=args.force)
     window = check_window(args.window, minimum=1)
     option = _option_args(args)
     histories = load_from_args(args)

@@ -10,7 +10,7 @@ The estimates table follows a documented, stable schema (:mod:`volbench.export.s
 ``docs/EXPORT_SCHEMA.md``). Every write is atomic (:func:`atomic_write`).
 """
 
-from volbench.export.atomic import atomic_write
+from volbench.export.atomic import atomic_write, check_destination
 from volbench.export.bundle import SECTIONS, TABLE_ORDER, ExportBundle, build_bundle
 from volbench.export.schema import ESTIMATES_COLUMNS, ESTIMATES_SCHEMA, SCHEMA_VERSION
 from volbench.export.sections import SectionStatus
@@ -37,6 +37,7 @@ __all__ = [
     "SectionStatus",
     "atomic_write",
     "build_bundle",
+    "check_destination",
     "csv_text",
     "export_format",
     "json_document",

@@ -61,9 +61,8 @@ def atomic_write(path: str | os.PathLike, data: Payload, *, overwrite: bool = Fa
     without hard links fall back to a check followed by ``os.replace``). The temporary file is
     removed whatever happens. Replacing a symbolic link replaces the link, not its target.
     """
-    target = Path(os.fspath(path)).expanduser()
+    target = check_destination(path, overwrite=overwrite)
     folder = target.parent
-    _check_destination(target, folder, overwrite)
     existed = target.exists()
     kept = "; the existing file is unchanged" if existed else ""
     tmp: Path | None = None
@@ -96,7 +95,14 @@ def exists_message(target: Path) -> str:
     return f"{target} already exists; pass --force (overwrite=True) to replace it, or choose another name"
 
 
-def _check_destination(target: Path, folder: Path, overwrite: bool) -> None:
+def check_destination(path: str | os.PathLike, *, overwrite: bool = False) -> Path:
+    """The destination as a Path, after the checks :func:`atomic_write` makes before writing.
+
+    Lets a front end fail before doing any work: the folder must exist, the path must not be a
+    folder, and an existing file needs ``overwrite``. Raises :class:`VolbenchError` otherwise.
+    """
+    target = Path(os.fspath(path)).expanduser()
+    folder = target.parent
     if not target.name or target.name in (".", ".."):
         raise VolbenchError(f"export path {str(target)!r} has no file name; give a file path such as out.xlsx")
     if not folder.is_dir():
@@ -106,6 +112,7 @@ def _check_destination(target: Path, folder: Path, overwrite: bool) -> None:
         raise VolbenchError(f"cannot write {target}: it is a folder; give a file path inside it, e.g. {target / 'volbench.xlsx'}")
     if target.exists() and not overwrite:
         raise VolbenchError(exists_message(target))
+    return target
 
 
 def _open_temp(folder: Path, name: str) -> tuple[int, Path]:

@@ -105,6 +105,7 @@ def build_bundle(
     include_garch: bool = False,
     garch_models: Sequence[str] = DEFAULT_GARCH_MODELS,
     garch_dist: str = "normal",
+    garch_processes: int | None = 1,
     import_settings: Mapping[str, Any] | None = None,
     results: Mapping[str, Mapping[str, Any]] | None = None,
     created: datetime | None = None,
@@ -126,8 +127,10 @@ def build_bundle(
     include_cone, cone_estimator, cone_windows, hodges_tompkins
         Volatility cone section and its settings; the comparison places the pricing vol in a cone
         with the same estimator and windows.
-    include_scaling, include_garch, garch_models, garch_dist
+    include_scaling, include_garch, garch_models, garch_dist, garch_processes
         Scaling-check and GARCH sections (GARCH is off by default: fits take a moment).
+        ``garch_processes`` other than 1 fits several series in worker processes (``None``: one
+        per CPU, see :func:`volbench.models.fit_many`).
     import_settings
         How the files were read (date format, adjusted close, gap days...), recorded as provenance.
     results
@@ -213,7 +216,7 @@ def build_bundle(
 
     if include_garch:
         built["garch"] = sec.garch_section(cut, models=garch_models, dist=garch_dist, annualization=a,
-                                           days=days, given=given.get("garch"))
+                                           days=days, processes=garch_processes, given=given.get("garch"))
     else:
         built["garch"] = sec.not_requested("pass include_garch=True (CLI: --with-garch)")
     step(4, "garch")

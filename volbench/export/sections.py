@@ -226,15 +226,28 @@ def garch_section(
     dist: str,
     annualization: float,
     days: int | None = None,
+    processes: int | None = 1,
     given: Mapping[str, Any] | None = None,
 ) -> SectionResult:
-    """GARCH-family fits per series: one row per model (parameters, persistence, long-run and
-    forward vol, convergence) and the term structure of expected vol."""
-    imported = _lazy("volbench.models", "fit_models")
+    """GARCH-family fits per series: one row per model (parameters, persistence, long-run, next-bar
+    and forward vol, convergence, fallback) and the term structure of expected vol.
+
+    ``processes`` other than 1 fits several series in worker processes
+    (:func:`volbench.models.fit_many`); 1 fits them one after the other in this process.
+    """
+    imported = _lazy("volbench.models", "fit_models", "fit_many")
     if _unavailable(imported) and not given:
         return SectionResult(SectionStatus("not available", imported))
+    batch: dict[str, Any] = {}
+    todo = [h for h in histories if not (given and given.get(h.name) is not None) and h.n >= 3]
+    if not _unavailable(imported) and processes != 1 and len(todo) > 1:
+        fitted = imported[1](todo, models=tuple(models), dist=dist, annualization=annualization,
+                             processes=processes)
+        batch = {h.name: r for h, r in zip(todo, fitted)}
 
     def compute(h: PriceHistory):
+        if h.name in batch:
+            return batch[h.name]
         if _unavailable(imported):
             raise VolbenchError(imported)
         return imported[0](h, models=tuple(models), dist=dist, annualization=annualization)
@@ -246,12 +259,15 @@ def garch_section(
             notes.append(_note("garch", name, "reading", comp.message))
         for f in comp.fits:
             rows.append(garch_row(name, f, comp, days))
-            notes += [_note("garch", name, "caveat", f"{f.model}: {w}") for w in f.warnings]
+            notes += [_note("garch", name, "warning", f"{f.model}: {w}") for w in f.warnings]
+            notes += [_note("garch", name, "caveat", f"{f.model}: {t}") for t in getattr(f, "notes", ())]
+            if days and np.isnan(rows[-1]["forward_vol"]):
+                notes.append(_note("garch", name, "caveat", f"{f.model}: no forward vol for {days} bars"))
             ts = getattr(f, "term_structure", None)
             if ts is not None and len(ts):
                 terms.append(_with_series(ts, name, model=f.model))
     table = pd.DataFrame(rows) if rows else None
-    pct = [c for c in ("long_run_vol", "last_conditional_vol", "forward_vol")
+    pct = [c for c in ("long_run_vol", "next_bar_vol", "last_conditional_vol", "forward_vol", "fallback_vol")
            if table is not None and c in table.columns]
     return _finish("garch", results, failed, {"garch": table, "garch_term": _concat(terms)},
                    {"garch": pct, "garch_term": ("vol",)}, notes)
@@ -265,23 +281,30 @@ def _num(v) -> float:
     return f if math.isfinite(f) else np.nan
 
 
+def _try(fn, *args) -> float:
+    try:
+        return _num(fn(*args))
+    except VolbenchError:
+        return np.nan
+
+
 def garch_row(name: str, f, comp, days: int | None) -> dict:
     """One fitted model as a flat row (parameters as ``param_<name>``, errors as ``se_<name>``)."""
     cond = getattr(f, "conditional_vol", None)
     row = {
-        "series": name, "model": f.model, "dist": f.dist, "converged": bool(f.converged),
-        "preferred": getattr(comp, "preferred", None) == f.model, "fallback": f.fallback or "",
-        "persistence": _num(f.persistence), "long_run_vol": _num(f.long_run_vol),
-        "half_life": _num(f.half_life),
+        "series": name, "model": f.model, "label": getattr(f, "label", f.model), "dist": f.dist,
+        "fitted": bool(getattr(f, "fitted", True)), "converged": bool(f.converged),
+        "preferred": getattr(comp, "preferred", None) == f.model, "nobs": getattr(f, "nobs", None),
+        "persistence": _num(f.persistence), "persistence_se": _num(getattr(f, "persistence_se", np.nan)),
+        "long_run_vol": _num(f.long_run_vol), "half_life": _num(f.half_life),
+        "next_bar_vol": _try(f.forward_vol, 1),
         "last_conditional_vol": _num(cond.iloc[-1]) if cond is not None and len(cond) else np.nan,
-        "forward_days": float(days) if days else np.nan, "forward_vol": np.nan,
+        "forward_days": days if days else None,
+        "forward_vol": _try(f.forward_vol, days) if days else np.nan,
+        "forecast_method": getattr(f, "forecast_method", ""),
+        "fallback": f.fallback or "", "fallback_vol": _num(getattr(f, "fallback_vol", np.nan)),
         "loglik": _num(f.loglik), "aic": _num(f.aic), "bic": _num(f.bic),
     }
-    if days:
-        try:
-            row["forward_vol"] = _num(f.forward_vol(days))
-        except VolbenchError:
-            pass
     row.update({f"param_{k}": _num(v) for k, v in dict(f.params).items()})
     row.update({f"se_{k}": _num(v) for k, v in dict(f.std_errors).items()})
     row["warnings"] = " | ".join(f.warnings)

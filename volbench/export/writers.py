@@ -20,7 +20,7 @@ import pandas as pd
 from volbench import __version__
 from volbench.errors import VolbenchError
 from volbench.export.atomic import atomic_write
-from volbench.export.bundle import SECTIONS, ExportBundle
+from volbench.export.bundle import SECTIONS, TABLE_ORDER, ExportBundle
 from volbench.export.schema import SCHEMA_VERSION
 from volbench.export.tsv import cell_value
 
@@ -123,8 +123,9 @@ def write_xlsx(path: str | os.PathLike, bundle: ExportBundle, *, overwrite: bool
     Sheets follow :data:`~volbench.export.bundle.TABLE_ORDER`; each section of
     :data:`~volbench.export.bundle.SECTIONS` always has its sheet, holding a one-line note when
     the section is not in the export. Every sheet is a table with a bold, frozen header row and a
-    filter; numbers are stored as numbers (doubles, exactly), missing values as empty cells, and
-    vol columns carry a percentage number format (the stored value stays the decimal).
+    filter; numbers are stored as numbers (the exact double: shortest round-trip text), missing
+    values as empty cells, and vol columns carry a percentage number format (the stored value
+    stays the decimal).
     """
     return atomic_write(path, _xlsx_payload(bundle), overwrite=overwrite)
 
@@ -155,14 +156,8 @@ def _xlsx_payload(bundle: ExportBundle) -> Callable[[BinaryIO], None]:
 
 
 def _sheet_order(bundle: ExportBundle) -> list[str]:
-    order = list(bundle.tables)
-    for i, name in enumerate(SECTIONS):
-        if name not in bundle.tables:
-            # put the note sheet where the section's table would have been
-            after = [s for s in SECTIONS[:i] if s in order]
-            pos = order.index(after[-1]) + 1 if after else 0
-            order.insert(pos, name)
-    return order
+    """Tables in :data:`TABLE_ORDER`; a missing section keeps its sheet (holding a note)."""
+    return [n for n in TABLE_ORDER if n in bundle.tables or n in SECTIONS]
 
 
 def _fill_sheet(ws, df: pd.DataFrame, percent: tuple[str, ...], bold) -> None:
@@ -172,20 +167,29 @@ def _fill_sheet(ws, df: pd.DataFrame, percent: tuple[str, ...], bold) -> None:
     ws.append(headers)
     for cell in ws[1]:
         cell.font = bold
-    for row in df.itertuples(index=False, name=None):
-        ws.append([cell_value(v) for v in row])
-    n = len(df)
-    for j, col in enumerate(headers, start=1):
-        letter = get_column_letter(j)
-        if col in percent and n:
-            for (cell,) in ws.iter_rows(min_row=2, max_row=n + 1, min_col=j, max_col=j):
+    pct = {j for j, col in enumerate(headers, start=1) if col in percent}
+    for i, row in enumerate(df.itertuples(index=False, name=None), start=2):
+        for j, raw in enumerate(row, start=1):
+            v = cell_value(raw)
+            if v is None:
+                continue
+            cell = ws.cell(row=i, column=j)
+            if isinstance(v, float):
+                # openpyxl writes numbers with 16 significant digits, which can change the last
+                # bit of a double; the shortest round-trip text, marked numeric, is stored as is.
+                cell.value = repr(v)
+                cell.data_type = "n"
+            else:
+                cell.value = v
+            if j in pct:
                 cell.number_format = PERCENT_FORMAT
+    for j, col in enumerate(headers, start=1):
         if pd.api.types.is_numeric_dtype(df.iloc[:, j - 1]):
             width = max(len(col), 10) + 2
         else:
             sample = [len(str(v)) for v in df.iloc[:200, j - 1] if v is not None]
             width = max([len(col)] + sample) + 2
-        ws.column_dimensions[letter].width = min(width, _MAX_WIDTH)
+        ws.column_dimensions[get_column_letter(j)].width = min(width, _MAX_WIDTH)
     ws.freeze_panes = "A2"
     if headers:
         ws.auto_filter.ref = ws.dimensions
