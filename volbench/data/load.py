@@ -129,8 +129,8 @@ def _parse_rows(table: RawTable, date_format: str | None, use_adjusted: bool):
         text = pd.Series(table.columns[col], dtype=object)
         num = parse_numbers(text, decimal_comma).to_numpy(dtype=float)
         empty = (text == "").to_numpy()
-        nonnum = np.isnan(num) & ~empty
-        nonpos = ~np.isnan(num) & ~(num > 0)
+        nonnum = ~np.isfinite(num) & ~empty  # "inf", "1e999" and "nan" are not usable prices
+        nonpos = np.isfinite(num) & ~(num > 0)
         canon = "close" if col == "adj_close" else col
         header = table.headers[col]
         for i in np.flatnonzero(empty):
