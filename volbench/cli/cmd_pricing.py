@@ -141,8 +141,8 @@ def run_cone(args: argparse.Namespace) -> int:
         rows = []
         for w, r in c.table.iterrows():
             row = [w] + [pct(r[f"{k}{suffix}"], 1) for k in PERCENTILES]
-            rank = r["current_percentile_adj"] if c.hodges_tompkins else r["current_percentile"]
-            row += [pct(r["current"], 1), f"{rank:.0f}", int(r["n_windows"]), int(r["n_independent"])]
+            row += [pct(r["current"], 1), f"{r['current_percentile']:.0f}", int(r["n_windows"]),
+                    int(r["n_independent"])]
             if c.hodges_tompkins:
                 row.append(f"{r['ht_factor']:.3f}")
             rows.append(row)

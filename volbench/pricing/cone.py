@@ -132,8 +132,8 @@ class Cone:
         vols), mean, current (the last rolling value), current_percentile (its rank, 0-100, see
         :func:`percentile_rank`), n_windows (overlapping windows = rolling values), n_independent
         (non-overlapping windows, floor(observations / window)); with Hodges-Tompkins also
-        ht_factor, min_adj ... max_adj = mean + ht_factor x (column - mean), floored at 0, and
-        current_percentile_adj (today's rank in the adjusted distribution, the one :meth:`place` uses).
+        ht_factor and min_adj ... max_adj = mean + ht_factor x (column - mean), floored at 0. (Today's
+        rank is the same in the adjusted distribution: the stretch keeps the order of the values.)
     dropped
         Window -> reason, for windows that do not fit the history.
     notes
@@ -360,15 +360,17 @@ def vol_cone(
         if rv.invalid_dates:
             notes.append(f"window {w}: {len(rv.invalid_dates)} rolling value(s) left out because bars have "
                          "high below low or prices outside their range; exclude flagged rows")
-        if rv.values.index[-1] != h.index[-1]:
-            notes.append(f"window {w}: current value is from {_iso(rv.values.index[-1].to_datetime64())}, "
+        last = rv.values.index[-1]
+        if last.to_datetime64() != h.dates[-1]:
+            notes.append(f"window {w}: current value is from {_iso(last.to_datetime64())}, "
                          f"the last valid window before {h.last_date}")
-        perc = np.percentile(vals, qs)
-        row = dict(zip(PERCENTILES, perc))
+        xs = np.sort(vals)
+        perc = np.percentile(xs, qs)
+        row = dict(zip(PERCENTILES, perc.tolist()))
         mean = float(np.mean(vals))
         indep = obs // w
         row.update(mean=mean, current=float(vals[-1]),
-                   current_percentile=float(percentile_rank(np.sort(vals), vals[-1])),
+                   current_percentile=float(percentile_rank(xs, vals[-1])),
                    n_windows=n, n_independent=indep)
         if indep < 2:
             notes.append(f"window {w}: only {indep} independent (non-overlapping) window behind this column; "
@@ -379,9 +381,7 @@ def vol_cone(
             if np.any(adj < 0):
                 notes.append(f"window {w}: adjusted values below zero were floored at 0")
             row["ht_factor"] = f
-            row.update({f"{k}_adj": float(x) for k, x in zip(PERCENTILES, np.maximum(adj, 0.0))})
-            row["current_percentile_adj"] = float(percentile_rank(np.sort(mean + f * (vals - mean)),
-                                                                  mean + f * (vals[-1] - mean)))
+            row.update(zip((f"{k}_adj" for k in PERCENTILES), np.maximum(adj, 0.0).tolist()))
         rows[w] = row
         rolling[w] = rv.values
     if not rows:
@@ -395,9 +395,9 @@ def vol_cone(
     if spec.key == "ewma":
         notes.append("EWMA weighs every past return (half-life about 11 bars); its window only sets the "
                      "seed, so its columns differ little")
-    table = pd.DataFrame.from_dict(rows, orient="index")
-    table.index.name = "window"
-    table = table.astype({"n_windows": "int64", "n_independent": "int64"})
+    first = next(iter(rows.values()))
+    table = pd.DataFrame({k: [r[k] for r in rows.values()] for k in first},
+                         index=pd.Index(list(rows), name="window", dtype="int64"))
     return Cone(name=h.name, estimator=spec.key, label=spec.label, annualization=a, start=h.first_date,
                 end=h.last_date, rows=h.n, hodges_tompkins=bool(hodges_tompkins), table=table,
                 dropped=dropped, notes=tuple(notes), rolling=rolling)
