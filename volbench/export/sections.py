@@ -266,7 +266,14 @@ def garch_section(
             ts = getattr(f, "term_structure", None)
             if ts is not None and len(ts):
                 terms.append(_with_series(ts, name, model=f.model))
-    table = pd.DataFrame(rows) if rows else None
+    table = None
+    if rows:
+        table = pd.DataFrame(rows)
+        cols = list(table.columns)
+        params = [c for c in cols if c.startswith("param_")]
+        errors = [c for c in cols if c.startswith("se_")]
+        fixed = [c for c in cols if c not in params and c not in errors and c != "warnings"]
+        table = table[fixed + params + errors + ["warnings"]]
     pct = [c for c in ("long_run_vol", "next_bar_vol", "last_conditional_vol", "forward_vol", "fallback_vol")
            if table is not None and c in table.columns]
     return _finish("garch", results, failed, {"garch": table, "garch_term": _concat(terms)},
