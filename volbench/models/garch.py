@@ -23,7 +23,7 @@ from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY, point_estimate
 from volbench.models import term
-from volbench.models.checks import SCALE, diagnose, to_decimal
+from volbench.models.checks import BOUND_TOL, SCALE, diagnose, to_decimal
 from volbench.models.term import DEFAULT_TERM_HORIZONS
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
 
@@ -123,9 +123,9 @@ class GarchFit:
     long_run_vol
         Annualized sqrt(omega / (1 - p)) (GARCH, GJR); for EGARCH sqrt(exp(omega / (1 - beta)))
         annualized, the level log-variance reverts to (a geometric mean, so below the mean variance).
-        NaN when p >= 1.
+        NaN when p is within BOUND_TOL of 1 or above.
     half_life
-        ln(0.5) / ln(p) bars; NaN outside 0 < p < 1.
+        ln(0.5) / ln(p) bars; NaN outside 0 < p < 1 - BOUND_TOL.
     conditional_vol
         In-sample conditional vol, annualized, indexed by return date (empty when not fitted).
     term_structure
@@ -349,7 +349,7 @@ def fit_garch(
         "persistence": p,
         "persistence_se": p_se,
         "long_run_vol": _long_run_vol(model, params_y, p, a),
-        "half_life": term.half_life(p),
+        "half_life": term.half_life(p) if p < 1 - BOUND_TOL else float("nan"),
         "conditional_vol": pd.Series(np.asarray(res.conditional_volatility) / SCALE * math.sqrt(a),
                                      index=history.index[1:], name=model),
     }
@@ -379,7 +379,7 @@ def fit_garch(
 
 def _long_run_vol(model: str, params_y: pd.Series, p: float, annualization: float) -> float:
     """Annualized long-run vol in decimals (see :class:`GarchFit`); NaN when p >= 1."""
-    if not p < 1:
+    if not p < 1 - BOUND_TOL:  # on or above the stationarity bound: no level to revert to
         return float("nan")
     if model == "egarch":
         var_y = math.exp(params_y["omega"] / (1.0 - p))
