@@ -6,6 +6,7 @@ import json
 import math
 
 import numpy as np
+import pandas as pd
 import pytest
 from arch import arch_model
 
@@ -222,7 +223,7 @@ def test_diagnose_flags_parameters_on_bounds():
                              convergence_flag=0, optimizer_message="ok")
     assert any("standard errors could not be computed" in w for w in warn)
     assert any("alpha[1] = 0 is on its lower bound 0" in w for w in warn)
-    import pandas as pd
+
     names = ["mu", "omega", "alpha[1]", "beta[1]", "nu"]
     ok_cov = pd.DataFrame(np.eye(5) * 1e-4, index=names, columns=names)
     p, _, warn, notes = diagnose("garch", dict(zip(names, [0.0, 0.1, 0.1, 0.0, 2.05])), ok_cov,

@@ -7,8 +7,7 @@ import pytest
 from arch import arch_model
 
 from volbench.errors import VolbenchError
-from volbench.models import fit_garch
-from volbench.models import term
+from volbench.models import fit_garch, term
 
 HORIZONS = (1, 2, 5, 10, 21, 42, 63, 126, 252)
 
