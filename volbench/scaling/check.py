@@ -166,7 +166,9 @@ def check_alpha(alpha: float) -> float:
     except (TypeError, ValueError):
         raise VolbenchError(f"alpha must be a significance level between 0 and 0.5, got {alpha!r}") from None
     if not 0.0 < a < 0.5:
-        raise VolbenchError(f"alpha must be a significance level between 0 and 0.5 (e.g. 0.05), got {alpha!r}")
+        hint = f"; it looks like a percent: did you mean {a / 100:g}?" if 1.0 <= a < 50.0 else ""
+        raise VolbenchError(f"alpha must be a significance level between 0 and 0.5 (e.g. 0.05), got {alpha!r}"
+                            + hint)
     return a
 
 
@@ -266,7 +268,8 @@ def scaling_check(
     if history.exclude_flagged and history.excluded_lines:
         notes.append(f"{len(history.excluded_lines)} rows flagged by data-quality warnings were excluded")
 
-    vr = variance_ratio_table(y, kept)
+    deltas = robust_deltas(y, max(kept) - 1)
+    vr = variance_ratio_table(y, kept, deltas)
     nonov = [nonoverlapping_variance(y, h) for h in kept]
     var1 = float(vr["variance"].iloc[0])
     tab = vr.assign(
@@ -278,7 +281,6 @@ def scaling_check(
     tab["vol_ratio"] = tab["annualized_vol"] / tab["sqrt_time_vol"]
     tab = tab.merge(normality_table(y, kept), on="h")[list(HORIZON_COLUMNS)]
 
-    deltas = robust_deltas(y, max(kept) - 1)
     fit = loglog_fit(kept, tab["variance"].to_numpy(), n, deltas, level=1.0 - alpha)
     cd_stat, cd_p = chow_denning(tab["z_robust"].to_numpy()[1:])
     ljung, ac = independence(r, lb_lags, acf_lags, alpha)

@@ -40,7 +40,9 @@ def robust_deltas(y: np.ndarray, max_lag: int) -> np.ndarray:
     return np.array([n * (z2[k:] @ z2[:-k]) / scale for k in range(1, max_lag + 1)], dtype=float)
 
 
-def variance_ratio_table(y: np.ndarray, horizons: Sequence[int]) -> pd.DataFrame:
+def variance_ratio_table(
+    y: np.ndarray, horizons: Sequence[int], deltas: np.ndarray | None = None
+) -> pd.DataFrame:
     """Variance ratio, z, z* and two-sided p-values for each horizon.
 
     Parameters
@@ -50,6 +52,8 @@ def variance_ratio_table(y: np.ndarray, horizons: Sequence[int]) -> pd.DataFrame
     horizons
         Horizons in bars (each 1 <= h <= n - 1). For h = 1 the ratio is 1 by definition and the
         test statistics are undefined (NaN).
+    deltas
+        :func:`robust_deltas` up to at least max(horizons) - 1 when already computed.
 
     Returns
     -------
@@ -70,22 +74,23 @@ def variance_ratio_table(y: np.ndarray, horizons: Sequence[int]) -> pd.DataFrame
     """
     n = y.shape[0] - 1
     hs = [int(h) for h in horizons]
-    deltas = robust_deltas(y, max(hs) - 1) if max(hs) > 1 else np.empty(0)
+    if deltas is None:
+        deltas = robust_deltas(y, max(hs) - 1)
     var1 = overlapping_variance(y, 1)
-    rows = []
-    for q in hs:
-        vq = overlapping_variance(y, q)
-        if q == 1:
-            rows.append((1, vq, 1.0, np.nan, np.nan, np.nan, np.nan))
-            continue
-        vr = vq / (q * var1)
-        phi = 2.0 * (2 * q - 1) * (q - 1) / (3.0 * q)
-        k = np.arange(1, q)
-        theta = float(np.sum(4.0 * (1.0 - k / q) ** 2.0 * deltas[: q - 1]))
+    q = np.asarray(hs, dtype=float)
+    vq = np.array([overlapping_variance(y, h) for h in hs])
+    vr = vq / (q * var1)
+    phi = 2.0 * (2 * q - 1) * (q - 1) / (3.0 * q)
+    theta = np.array([np.sum(4.0 * (1.0 - np.arange(1, h) / h) ** 2.0 * deltas[: h - 1]) for h in hs])
+    with np.errstate(invalid="ignore", divide="ignore"):  # h = 1: 0/0, set to NaN below
         z = np.sqrt(n) * (vr - 1.0) / np.sqrt(phi)
         zr = np.sqrt(n) * (vr - 1.0) / np.sqrt(theta)
-        rows.append((q, vq, vr, z, zr, 2.0 * stats.norm.sf(abs(z)), 2.0 * stats.norm.sf(abs(zr))))
-    return pd.DataFrame(rows, columns=list(VR_COLUMNS))
+    one = q == 1
+    vr[one] = 1.0
+    z[one] = zr[one] = np.nan
+    p, pr = 2.0 * stats.norm.sf(np.abs(np.vstack((z, zr))))
+    return pd.DataFrame({"h": hs, "variance": vq, "variance_ratio": vr, "z": z, "z_robust": zr,
+                         "p_value": p, "p_value_robust": pr})
 
 
 def variance_ratio_table_arch(y: np.ndarray, horizons: Sequence[int]) -> pd.DataFrame:

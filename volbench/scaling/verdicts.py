@@ -25,8 +25,8 @@ LARGE_VOL_GAP = 0.10
 """Relative gap between the h-bar vol and sqrt-time scaled 1-bar vol that matters for pricing."""
 LARGE_EXCESS_KURTOSIS = 1.0
 LARGE_SKEW = 0.5
-LARGE_DRIFT_TO_VOL = 0.2
-"""Drift over h bars, in h-bar standard deviations, above which a zero-mean vol is 2 % too high."""
+LARGE_DRIFT_TO_VOL = 0.33
+"""Drift over h bars, in h-bar standard deviations, above which a zero-mean vol is 5 % too high."""
 FEW_PERIODS = 30
 """Fewer non-overlapping periods than this behind a horizon: say that the figure is fragile."""
 
