@@ -112,8 +112,10 @@ def test_reading_when_pricing_vol_is_above_everything(hist):
 
 
 def test_far_out_of_the_money_option_reading(hist):
-    c = compare(hist, 0.25, 5, option=OptionSpec(strike=5.0, kind="put"))
+    c = compare(hist, 0.25, 5, option=OptionSpec(strike=40.0, kind="put", spot=50.0))
     assert "the put is worth under 0.01 at every vol here" in c.reading[2]
+    far = compare(hist, 0.25, 5, option=OptionSpec(strike=0.95, kind="put", spot=1150.0))
+    assert far.reading[0] == "strike 0.95 is 0.0826% of spot 1150; check that both are in the same units"
 
 
 def _fit(model, vol, **kw):

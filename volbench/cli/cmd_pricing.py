@@ -109,6 +109,7 @@ def _f(x: float, sign: str = "") -> str:
     """Four decimals; tiny non-zero values in scientific form so they never print as 0.0000."""
     if x is None or not math.isfinite(x):
         return "n/a"
+    x = x + 0.0  # no "-0.0000"
     if x != 0 and abs(x) < 5e-5:
         return f"{x:{sign}.2e}"
     return f"{x:{sign}.4f}"
@@ -116,6 +117,11 @@ def _f(x: float, sign: str = "") -> str:
 
 def _signed(x: float) -> str:
     return _f(x, "+")
+
+
+def _findings_hint(h) -> str:
+    n = sum(f.severity != "info" for f in h.findings)
+    return f"; {n} data-quality finding{'s' if n != 1 else ''}: run 'volbench check'" if n else ""
 
 
 # ---------------------------------------------------------------------------- cone
@@ -134,7 +140,7 @@ def run_cone(args: argparse.Namespace) -> int:
         if i:
             print()
         print(f"{c.name}  {c.label.lower()} vol cone, {c.start} to {c.end} ({c.rows} rows), "
-              f"annualized with {c.annualization:g} bars/year")
+              f"annualized with {c.annualization:g} bars/year{_findings_hint(histories[i])}")
         suffix = "_adj" if c.hodges_tompkins else ""
         heads = ["window", "min", "10%", "25%", "median", "75%", "90%", "max", "today", "today pctl",
                  "windows", "independent"]
@@ -224,7 +230,7 @@ def run_compare(args: argparse.Namespace) -> int:
     h = history
     atm = " (at the money)" if math.isclose(comp.strike, comp.spot) else ""
     print(f"{h.name}  as of {comp.as_of}  ({h.source.name if h.source else ''}: {h.n} rows"
-          f", flagged rows {'excluded' if h.exclude_flagged else 'kept'})")
+          f", flagged rows {'excluded' if h.exclude_flagged else 'kept'}{_findings_hint(h)})")
     print(f"{comp.kind} {comp.days} bars = {comp.years:.4f} years at {comp.annualization:g} bars/year; "
           f"spot {comp.spot:g}{' (last close)' if args.spot is None else ''}, strike {comp.strike:g}{atm}, "
           f"rate {pct(comp.rate)}, dividend yield {pct(comp.dividend_yield)}")

@@ -24,6 +24,9 @@ from volbench.types import DEFAULT_ANNUALIZATION, OptionType, check_annualizatio
 REFERENCE_ESTIMATORS = ("yang_zhang", "close_to_close")
 """Estimator the reading compares against first: the most efficient one available, else close-to-close."""
 
+FAR_MONEYNESS = (0.2, 5.0)
+"""Strike/spot outside this range draws a units check in the reading (common practice, no source)."""
+
 GARCH_LABELS = {"garch": "GARCH(1,1)", "gjr": "GJR-GARCH", "egarch": "EGARCH"}
 """Table labels of the GARCH-family models (Bollerslev 1986; Glosten, Jagannathan & Runkle 1993; Nelson 1991)."""
 
@@ -402,9 +405,16 @@ def _garch_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
             f"{abs(row['gap_points']):.1f} vol points {side} the pricing vol")]
 
 
+def _moneyness_line(c: Comparison) -> list[str]:
+    m = c.strike / c.spot
+    if FAR_MONEYNESS[0] <= m <= FAR_MONEYNESS[1]:
+        return []
+    return [f"strike {c.strike:g} is {100 * m:.3g}% of spot {c.spot:g}; check that both are in the same units"]
+
+
 def _with_reading(c: Comparison) -> Comparison:
     cand = c.candidates
-    lines = _cone_line(c)
+    lines = _moneyness_line(c) + _cone_line(c)
     if len(cand):
         lines += _reference_lines(c, cand) + _range_line(c, cand) + _garch_line(c, cand)
     return replace(c, reading=tuple(lines))
