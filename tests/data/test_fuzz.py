@@ -1,0 +1,117 @@
+"""Property-based fuzzing of malformed price files (hypothesis).
+
+Property: load_prices either returns valid histories (finite positive prices, strictly increasing
+dates, one line number per row) or raises VolbenchError, never any other exception; and every
+estimator on a returned history either gives a finite vol or says why it is unavailable.
+"""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+
+import numpy as np
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from volbench.data import load_prices
+from volbench.data.reader import ALIASES
+from volbench.errors import VolbenchError
+from volbench.estimators import estimate_all
+
+# moderate by default so the suite stays fast; VOLBENCH_FUZZ_EXAMPLES=2000 for a deeper hunt
+FUZZ = settings(max_examples=int(os.environ.get("VOLBENCH_FUZZ_EXAMPLES", "60")), deadline=None, suppress_health_check=[HealthCheck.too_slow])
+
+HEADER_WORDS = [a for names in ALIASES.values() for a in names] + ["", "x", "Datum", "Kurs", "???"]
+DELIMS = [",", ";", "\t", "|", " "]
+CELLS = st.one_of(
+    st.sampled_from(["", "0", "-1", "1e308", "nan", "inf", "-inf", "n/a", "1,5", "1.234,5", "1,234.5",
+                     "2020-01-02", "2020-02-30", "02/01/2020", "9999-12-31", "1677-09-21", "0001-01-01",
+                     "2020-01-02T00:00:00+01:00", "2020-01-02T00:00:00-05:00", "20200102", '"', '""', "\\"]),
+    st.floats(allow_nan=True, allow_infinity=True).map(repr),
+    st.integers(-10, 10**6).map(str),
+    st.dates().map(lambda d: d.isoformat()),
+    st.text(max_size=8),
+)
+
+
+def _check(data: bytes, **kwargs) -> None:
+    with tempfile.TemporaryDirectory() as d:
+        p = Path(d) / "fuzz.csv"
+        p.write_bytes(data)
+        try:
+            histories = load_prices(p, **kwargs)
+        except VolbenchError as exc:
+            assert str(exc)
+            return
+    assert histories
+    for h in histories:
+        assert len(h.lines) == h.n == len(h.dates)
+        assert np.all(np.isfinite(h.close)) and np.all(h.close > 0)
+        for col in ("open", "high", "low"):
+            arr = getattr(h, col)
+            if arr is not None:
+                assert np.all(np.isfinite(arr)) and np.all(arr > 0)
+        assert np.all(np.diff(h.dates.astype(np.int64)) > 0)
+        for f in h.findings:
+            assert f.severity in ("error", "warning", "info") and f.message
+        rep = estimate_all(h, 2)
+        for e in rep.estimates.values():
+            assert np.isfinite(e.vol) and e.vol >= 0
+            assert e.ci_low <= e.vol <= e.ci_high
+        for reason in rep.unavailable.values():
+            assert reason
+
+
+@FUZZ
+@given(st.binary(max_size=400))
+def test_random_bytes(data):
+    _check(data)
+
+
+@FUZZ
+@given(
+    header=st.lists(st.sampled_from(HEADER_WORDS), min_size=1, max_size=7),
+    rows=st.lists(st.lists(CELLS, max_size=8), max_size=12),
+    delim=st.sampled_from(DELIMS),
+    exclude=st.booleans(),
+    adjusted=st.booleans(),
+)
+def test_random_headers_and_cells(header, rows, delim, exclude, adjusted):
+    text = delim.join(header) + "\n" + "".join(delim.join(r) + "\n" for r in rows)
+    _check(text.encode("utf-8", "surrogatepass"), exclude_flagged=exclude, use_adjusted=adjusted)
+
+
+@st.composite
+def plausible_files(draw):
+    """Mostly valid OHLC files with random damage: truncated lines, bad cells, shuffled order."""
+    n = draw(st.integers(1, 30))
+    days = draw(st.lists(st.integers(0, 40), min_size=n, max_size=n))
+    prices = draw(st.lists(st.floats(0.01, 1e6, allow_nan=False), min_size=n, max_size=n))
+    delim = draw(st.sampled_from([",", ";", "\t"]))
+    header = draw(st.permutations(["Date", "Open", "High", "Low", "Close", "Volume"]))
+    if draw(st.booleans()):
+        header = ["Symbol"] + header
+    lines = [delim.join(header)]
+    for i in range(n):
+        p = prices[i]
+        vals = {"Date": str(np.datetime64("2020-01-01") + sum(days[: i + 1])), "Open": p, "High": p * 1.02,
+                "Low": p * 0.98, "Close": p * draw(st.floats(0.97, 1.03)), "Volume": 100,
+                "Symbol": draw(st.sampled_from(["AX", "BY", ""]))}
+        cells = [v if isinstance(v, str) else repr(v) for v in (vals[h] for h in header)]
+        if draw(st.integers(0, 9)) == 0:
+            cells[draw(st.integers(0, len(cells) - 1))] = draw(CELLS)
+        line = delim.join(cells)
+        if draw(st.integers(0, 9)) == 0:
+            line = line[: draw(st.integers(0, len(line)))]  # truncated line
+        lines.append(line)
+    if draw(st.booleans()):
+        lines = [lines[0]] + lines[:0:-1]  # newest first
+    return "\n".join(lines) + draw(st.sampled_from(["", "\n", "\n\n"]))
+
+
+@FUZZ
+@given(text=plausible_files(), exclude=st.booleans(), date_format=st.sampled_from([None, None, "%Y-%m-%d"]))
+def test_damaged_ohlc_files(text, exclude, date_format):
+    _check(text.encode(), exclude_flagged=exclude, date_format=date_format)
