@@ -26,7 +26,7 @@ test: $(STAMP_TEST)
 	QT_QPA_PLATFORM=offscreen $(PY) -m pytest -q
 
 bench: $(STAMP_TEST)
-	QT_QPA_PLATFORM=offscreen $(PY) -m pytest -q -s tests/benchmarks -p no:cacheprovider -o addopts="--import-mode=importlib"
+	QT_QPA_PLATFORM=offscreen $(PY) -m pytest -q -s tests/benchmarks -p no:cacheprovider -o addopts="--import-mode=importlib" -o python_files="bench_*.py test_*.py"
 
 samples: $(STAMP_RUN)
 	$(PY) -m volbench.samples --out sample_prices
