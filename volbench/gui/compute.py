@@ -1,0 +1,199 @@
+"""Thin, Qt-free calls into the core for each pane: the GUI's only route to numbers.
+
+Each function imports its core module lazily; a module missing from this build raises
+:class:`NotInBuild` so the pane can say "not available in this build" instead of crashing. No
+formula lives here: only argument plumbing, so the CLI and the window always agree.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+
+from volbench.data.history import PriceHistory
+from volbench.errors import EstimatorUnavailable, VolbenchError
+from volbench.estimators import (
+    ESTIMATOR_KEYS,
+    EstimateReport,
+    RollingVol,
+    estimate_all,
+    rolling_vol,
+)
+
+Progress = Callable[[int, int, str], None]
+Cancel = Callable[[], bool]
+
+
+class NotInBuild(Exception):
+    """A core module this pane needs is not part of this build."""
+
+    def __init__(self, feature: str) -> None:
+        super().__init__(f"{feature}: not available in this build")
+        self.feature = feature
+
+
+@dataclass(frozen=True)
+class RollingSet:
+    """Rolling vols of every estimator for one setting; ``unavailable`` holds the reasons."""
+
+    window: int
+    annualization: float
+    series: dict[str, RollingVol]
+    unavailable: dict[str, str]
+
+
+def rolling_all(history: PriceHistory, window: int, annualization: float,
+                keys: Sequence[str] = ESTIMATOR_KEYS) -> RollingSet:
+    """:func:`volbench.estimators.rolling_vol` for every estimator key (reasons for the rest)."""
+    series: dict[str, RollingVol] = {}
+    unavailable: dict[str, str] = {}
+    for key in keys:
+        try:
+            series[key] = rolling_vol(history, key, window, annualization=annualization)
+        except EstimatorUnavailable as exc:
+            unavailable[key] = exc.reason
+    return RollingSet(window, annualization, series, unavailable)
+
+
+def estimates(history: PriceHistory, window: int, annualization: float) -> EstimateReport:
+    """:func:`volbench.estimators.estimate_all` with every estimator, as the CLI calls it."""
+    return estimate_all(history, window, annualization=annualization)
+
+
+def scaling(history: PriceHistory, annualization: float, progress: Progress | None = None,
+            cancel: Cancel | None = None):
+    """:func:`volbench.scaling.scaling_check` with its default horizons."""
+    try:
+        from volbench.scaling import scaling_check
+    except ImportError:
+        raise NotInBuild("Scaling check") from None
+    return scaling_check(history, annualization=annualization)
+
+
+def garch(history: PriceHistory, model: str, dist: str, annualization: float,
+          progress: Progress | None = None, cancel: Cancel | None = None):
+    """:func:`volbench.models.fit_models` for ``model`` (``"all"``: every model in the family)."""
+    try:
+        from volbench.models import MODELS, fit_models
+    except ImportError:
+        raise NotInBuild("GARCH models") from None
+    models = tuple(MODELS) if model == "all" else (model,)
+    return fit_models(history, models=models, dist=dist, annualization=annualization)
+
+
+def cone(history: PriceHistory, estimator: str, annualization: float):
+    """:func:`volbench.pricing.cone.vol_cone` with its default windows."""
+    try:
+        from volbench.pricing.cone import vol_cone
+    except ImportError:
+        raise NotInBuild("Volatility cone") from None
+    return vol_cone(history, estimator, annualization=annualization)
+
+
+def option_spec(strike: float | None, rate: float, dividend_yield: float, kind: str):
+    """A :class:`volbench.pricing.compare.OptionSpec` (``strike`` ``None``: at the money)."""
+    try:
+        from volbench.pricing.compare import OptionSpec
+    except ImportError:
+        raise NotInBuild("Comparison") from None
+    return OptionSpec(strike=strike, rate=rate, dividend_yield=dividend_yield, kind=kind)
+
+
+def comparison(history: PriceHistory, pricing_vol: float, days: int, *, strike: float | None,
+               rate: float, dividend_yield: float, kind: str, annualization: float, window: int,
+               scaling_result=None, garch_result=None, cone_estimator: str = "close_to_close"):
+    """:func:`volbench.pricing.compare.compare` with the window's candidates and any fitted models."""
+    try:
+        from volbench.pricing.compare import compare
+    except ImportError:
+        raise NotInBuild("Comparison") from None
+    option = option_spec(strike, rate, dividend_yield, kind)
+    return compare(history, pricing_vol, days, option=option, annualization=annualization,
+                   window=window, scaling=scaling_result, garch=garch_result,
+                   cone_estimator=cone_estimator)
+
+
+def table_tsv(frame) -> str:
+    """Tab-separated text of a table via the export module (plain pandas when it is missing)."""
+    try:
+        from volbench.export import table_to_tsv
+    except ImportError:
+        return frame.to_csv(sep="\t", index=False)
+    return table_to_tsv(frame)
+
+
+def fit_all(histories: Sequence[PriceHistory], model: str, dist: str, annualization: float, *,
+            processes: int | None = None, progress: Progress | None = None, cancel: Cancel | None = None):
+    """:func:`volbench.models.fit_many` over every history (worker processes, progress, cancel).
+
+    Returns ``None`` when cancelled (what finished is dropped: the batch is all or nothing).
+    """
+    try:
+        from volbench.models import MODELS, FitCancelled, fit_many
+    except ImportError:
+        raise NotInBuild("GARCH models") from None
+    models = tuple(MODELS) if model == "all" else (model,)
+    try:
+        return fit_many(histories, models=models, dist=dist, annualization=annualization,
+                        processes=processes, progress=progress, cancel=cancel)
+    except FitCancelled:
+        return None
+
+
+def export_bundle(histories: Sequence[PriceHistory], *, window: int, annualization: float,
+                  as_of: str | None, pricing_vol: float, days: int, strike: float | None, rate: float,
+                  dividend_yield: float, kind: str, cone_estimator: str, garch_model: str,
+                  garch_dist: str, import_settings: dict, given: dict, progress: Progress | None = None):
+    """:func:`volbench.export.build_bundle` with the window's settings and results already on screen.
+
+    ``given`` maps section -> series -> result (as :func:`build_bundle` takes it); comparisons for
+    series not in it are computed here with the same window, so every row follows the screen.
+    """
+    try:
+        from volbench.export import build_bundle
+    except ImportError:
+        raise NotInBuild("Export") from None
+    given = {k: dict(v) for k, v in given.items()}
+    try:
+        option = option_spec(strike, rate, dividend_yield, kind)
+    except NotInBuild:
+        option = {"strike": strike, "rate": rate, "dividend_yield": dividend_yield, "kind": kind}
+    else:
+        cut = [h.up_to(as_of) for h in histories]
+        have = given.setdefault("comparison", {})
+        for i, h in enumerate(cut):
+            if h.name in have:
+                continue
+            if progress is not None:
+                progress(i, len(cut), f"comparing {h.name}")
+            for section, fn in (("scaling", lambda h=h: scaling(h, annualization)),
+                                ("garch", lambda h=h: garch(h, garch_model, garch_dist, annualization))):
+                if h.name not in given.setdefault(section, {}):
+                    try:
+                        given[section][h.name] = fn()
+                    except (VolbenchError, NotInBuild):
+                        pass  # the export's own section records why
+            try:
+                have[h.name] = comparison(
+                    h, pricing_vol, days, strike=strike, rate=rate, dividend_yield=dividend_yield,
+                    kind=kind, annualization=annualization, window=window,
+                    scaling_result=given["scaling"].get(h.name), garch_result=given["garch"].get(h.name),
+                    cone_estimator=cone_estimator)
+            except VolbenchError:
+                pass  # the export's own comparison section records why
+    kw = {}
+    if garch_model != "all":
+        kw["garch_models"] = (garch_model,)
+    return build_bundle(histories, window=window, annualization=annualization, as_of=as_of,
+                        pricing_vol=pricing_vol, days=days, option=option, cone_estimator=cone_estimator,
+                        include_scaling=True, include_garch=True, garch_dist=garch_dist,
+                        import_settings=import_settings, results=given, progress=progress, **kw)
+
+
+def write_bundle(path, bundle, *, overwrite: bool):
+    """:func:`volbench.export.write_export` (atomic; refuses to replace unless ``overwrite``)."""
+    try:
+        from volbench.export import write_export
+    except ImportError:
+        raise NotInBuild("Export") from None
+    return write_export(path, bundle, overwrite=overwrite)

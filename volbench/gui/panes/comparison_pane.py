@@ -1,0 +1,115 @@
+"""The comparison table, always visible: each candidate vol, its gap to the pricing vol, the option
+price at that vol, and the plain reading."""
+
+from __future__ import annotations
+
+import math
+
+import pandas as pd
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QLabel, QSplitter, QVBoxLayout, QWidget
+
+from volbench.gui import palette
+from volbench.gui.controller import Results
+from volbench.gui.widgets import Card, FrameTable, pct
+
+COMPARE_COLUMNS = ["candidate", "window (bars)", "vol", "gap (vol points)", "option price", "price difference",
+                   "vega estimate", "note"]
+PENDING_WORDS = {"garch": "GARCH forward vol", "scaling": "scaling-check horizon vol"}
+
+
+def _money(x) -> str:
+    return "n/a" if x is None or not math.isfinite(float(x)) else f"{float(x):,.4f}"
+
+
+def _signed(x, digits: int = 2) -> str:
+    return "n/a" if x is None or not math.isfinite(float(x)) else f"{float(x):+.{digits}f}"
+
+
+def candidate_colour(key: str) -> str | None:
+    if key.startswith("garch:"):
+        return palette.model_colour(key.split(":", 1)[1])
+    if key == "pricing":
+        return palette.PRICING_VOL
+    if key == "scaling":
+        return palette.REFERENCE
+    return palette.estimator_colour(key)
+
+
+class ComparisonPane(QWidget):
+    def __init__(self, results: Results, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("comparison_pane")
+        self.results = results
+        self.heading = QLabel("Comparison")
+        self.heading.setObjectName("comparison_heading")
+        self.heading.setProperty("role", "heading")
+        self.heading.setWordWrap(True)
+        self.table = FrameTable("comparison_table")
+        self.reading = QLabel()
+        self.reading.setObjectName("comparison_reading")
+        self.reading.setProperty("role", "reading")
+        self.reading.setWordWrap(True)
+        self.reading.setTextFormat(Qt.TextFormat.RichText)
+        self.reading.setAlignment(Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
+        split = QSplitter(Qt.Orientation.Horizontal)
+        split.addWidget(self.table)
+        split.addWidget(self.reading)
+        split.setSizes([760, 420])
+        body = QWidget()
+        bl = QVBoxLayout(body)
+        bl.setContentsMargins(0, 0, 0, 0)
+        bl.addWidget(self.heading)
+        bl.addWidget(split, 1)
+        self.card = Card(body, "comparison_card")
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(4, 2, 4, 4)
+        lay.addWidget(self.card)
+        results.updated.connect(self._on_results)
+        self.render()
+
+    def _on_results(self, kinds) -> None:
+        if kinds & {"comparison", "garch", "scaling"}:
+            self.render()
+
+    def render(self) -> None:
+        c = self.results.get("comparison")
+        if c is None:
+            self.card.show_message(self.results.problem("comparison") or "Load a price file to begin.")
+            return
+        rows, swatch = [], {}
+        for i, rec in enumerate(c.table.to_dict(orient="records")):
+            win = rec["window"]
+            rows.append([rec["label"], "" if win is None or pd.isna(win) else int(win), pct(rec["vol"]),
+                         "" if rec["source"] == "pricing" else _signed(rec["gap_points"]),
+                         _money(rec["price"]),
+                         "" if rec["source"] == "pricing" else _signed(rec["price_diff"], 4),
+                         "" if rec["source"] == "pricing" else _signed(rec["vega_approx_diff"], 4),
+                         rec["note"] or ""])
+            colour = candidate_colour(str(rec["key"]))
+            if colour:
+                swatch[i] = colour
+        self.table.set_frame(pd.DataFrame(rows, columns=COMPARE_COLUMNS), c.table, swatch=swatch,
+                             right=COMPARE_COLUMNS[1:7])
+        strike = "at the money" if abs(c.strike - c.spot) < 1e-12 else f"strike {c.strike:,.4g}"
+        self.heading.setText(
+            f"Pricing vol {pct(c.pricing_vol)} for a {c.days}-bar {c.kind} on {c.name} ({strike}, spot "
+            f"{c.spot:,.4g}, rate {pct(c.rate)}, yield {pct(c.dividend_yield)}), as of {c.as_of}: price "
+            f"{c.price:,.4f}. Estimators over the last {c.window} bars.")
+        lines = [f"<li>{t[0].upper() + t[1:]}.</li>" for t in c.reading]
+        missing = []
+        for kind, words in PENDING_WORDS.items():
+            if self.results.is_pending(kind):
+                missing.append(f"{words}: computing…")
+            elif self.results.problem(kind):
+                missing.append(f"{words}: {self.results.problem(kind)}")
+            elif kind in c.unavailable and c.unavailable[kind] != "not requested":
+                missing.append(f"{words}: {c.unavailable[kind]}")
+        for key, why in c.unavailable.items():
+            if key not in PENDING_WORDS and key != "cone":
+                missing.append(f"{key.replace('_', ' ')}: {why}")
+        extra = ("<p style='color:#5A5F56'>Not shown: " + "; ".join(missing) + "</p>") if missing else ""
+        self.reading.setText("<b>Reading</b><ul style='margin-left:-20px'>" + "".join(lines) + "</ul>" + extra
+                             + "<p style='color:#5A5F56'>Statistical estimates with model risk, not advice; "
+                               "your firm's validation policy governs their use.</p>")
+        self.card.show_content()

@@ -1,0 +1,159 @@
+"""Volatility cone: percentile bands per window, today's values, the pricing vol at the option's life."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pyqtgraph as pg
+from PySide6.QtCore import Qt
+from PySide6.QtGui import QColor
+from PySide6.QtWidgets import QComboBox, QHBoxLayout, QLabel, QSplitter, QVBoxLayout, QWidget
+
+from volbench.errors import VolbenchError
+from volbench.estimators import REGISTRY
+from volbench.gui import palette
+from volbench.gui.binding import Binding
+from volbench.gui.controller import Results
+from volbench.gui.state import WorkbenchState
+from volbench.gui.widgets import Card, FrameTable, Plot, pct
+
+CONE_COLUMNS = ["window (bars)", "min", "10th", "25th", "median", "75th", "90th", "max", "today",
+                "today's percentile", "windows", "independent"]
+
+
+def _brush(hex_colour: str, alpha: int):
+    c = QColor(hex_colour)
+    c.setAlpha(alpha)
+    return pg.mkBrush(c)
+
+
+class ConePane(QWidget):
+    def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("cone_pane")
+        self.state, self.results = state, results
+        top = QHBoxLayout()
+        top.addWidget(QLabel("Cone estimator"))
+        self.estimator = QComboBox()
+        self.estimator.setObjectName("cone_estimator_combo")
+        for key, spec in REGISTRY.items():
+            self.estimator.addItem(spec.label, key)
+        top.addWidget(self.estimator)
+        top.addStretch(1)
+        self.binding = Binding(state, "cone_estimator", self.estimator, self.estimator.currentIndexChanged,
+                               self.estimator.currentData,
+                               lambda v: self.estimator.setCurrentIndex(max(self.estimator.findData(v), 0)))
+
+        self.plot = Plot("cone_plot", left="Annualized volatility (%)", bottom="Window / option life (bars)")
+        self.legend = self.plot.legend(offset=(-10, 10))
+        self.curves = {k: self.plot.plot([], [], pen=pg.mkPen(None)) for k in
+                       ("min", "p10", "p25", "p75", "p90", "max")}
+        self.fills = []
+        self.median = self.plot.plot([], [], pen=pg.mkPen("#333333", width=2.0), name="median")
+        self.median.setZValue(5)
+        self.current = self.plot.plot([], [], pen=pg.mkPen("#D55E00", width=1.4), symbol="o", symbolSize=7,
+                                      symbolBrush="#D55E00", symbolPen="#D55E00", name="today")
+        self.pricing = pg.ScatterPlotItem(symbol="star", size=18, pen=pg.mkPen(palette.PRICING_VOL),
+                                          brush=pg.mkBrush(palette.PRICING_VOL))
+        self.plot.addItem(self.pricing)
+        self.legend.addItem(self.pricing, "pricing vol at option life")
+        self.life = pg.InfiniteLine(angle=90, pen=pg.mkPen(palette.PRICING_VOL, style=Qt.PenStyle.DotLine))
+        self.plot.addItem(self.life, ignoreBounds=True)
+        self.reading = QLabel()
+        self.reading.setObjectName("cone_reading")
+        self.reading.setProperty("role", "reading")
+        self.reading.setWordWrap(True)
+        self.table = FrameTable("cone_table")
+
+        upper = QWidget()
+        ul = QVBoxLayout(upper)
+        ul.setContentsMargins(0, 0, 0, 0)
+        ul.addLayout(top)
+        ul.addWidget(self.plot, 1)
+        ul.addWidget(self.reading)
+        split = QSplitter(Qt.Orientation.Vertical)
+        split.addWidget(upper)
+        split.addWidget(self.table)
+        split.setSizes([460, 200])
+        self.card = Card(split, "cone_card")
+        lay = QVBoxLayout(self)
+        lay.addWidget(self.card)
+        self._key = None
+        results.updated.connect(self._on_results)
+        state.changed.connect(self._on_state)
+        self.render()
+
+    def unbind(self) -> None:
+        self.binding.unbind()
+
+    def _on_results(self, kinds) -> None:
+        if "cone" in kinds:
+            self.render()
+
+    def _on_state(self, names) -> None:
+        if names & {"pricing_vol", "days"} and self.results.get("cone") is not None:
+            self._render_pricing(self.results.get("cone"))
+
+    def _set_fills(self, colour: str) -> None:
+        for f in self.fills:
+            self.plot.removeItem(f)
+        self.fills = []
+        for (a, b), alpha, label in ((("min", "max"), 30, "min to max"), (("p10", "p90"), 55, "10th to 90th"),
+                                     (("p25", "p75"), 95, "25th to 75th")):
+            f = pg.FillBetweenItem(self.curves[a], self.curves[b], brush=_brush(colour, alpha))
+            f.setZValue(-10)
+            self.plot.addItem(f)
+            self.fills.append(f)
+        self.legend.clear()
+        for f, label in zip(self.fills, ("min to max", "10th to 90th percentile", "25th to 75th percentile")):
+            self.legend.addItem(pg.PlotDataItem(pen=pg.mkPen(None), fillLevel=0, brush=f.brush()), label)
+        self.legend.addItem(self.median, "median")
+        self.legend.addItem(self.current, "today")
+        self.legend.addItem(self.pricing, "pricing vol at option life")
+
+    def render(self) -> None:
+        cone = self.results.get("cone")
+        if cone is None:
+            self.card.show_message(self.results.problem("cone") or "Load a price file to begin.")
+            return
+        if cone.estimator != self._key:
+            self._set_fills(palette.estimator_colour(cone.estimator))
+            self._key = cone.estimator
+        t = cone.table
+        w = t.index.to_numpy(dtype=float)
+        for k, curve in self.curves.items():
+            curve.setData(w, t[k].to_numpy(dtype=float) * 100.0)
+        self.median.setData(w, t["p50"].to_numpy(dtype=float) * 100.0)
+        self.current.setData(w, t["current"].to_numpy(dtype=float) * 100.0)
+        self.plot.getPlotItem().setTitle(
+            f"{cone.label} volatility cone, {cone.name}, {cone.start} to {cone.end}",
+            color=palette.FOREGROUND, size="10pt")
+        rows = []
+        for win, rec in t.iterrows():
+            rows.append([int(win)] + [pct(rec[k], 1) for k in ("min", "p10", "p25", "p50", "p75", "p90", "max",
+                                                                 "current")]
+                        + [f"{rec['current_percentile']:.0f}", int(rec["n_windows"]), int(rec["n_independent"])])
+        self.table.set_frame(pd.DataFrame(rows, columns=CONE_COLUMNS), t.reset_index(), right=CONE_COLUMNS)
+        self._render_pricing(cone)
+        self.plot.enableAutoRange()
+        self.card.show_content()
+
+    def _render_pricing(self, cone) -> None:
+        pv, days = self.state.pricing_vol, self.state.days
+        self.pricing.setData([days], [100.0 * pv])
+        self.life.setValue(days)
+        try:
+            placement = cone.place(pv, days)
+        except VolbenchError as exc:
+            text = f"Pricing vol {pct(pv, 1)} cannot be placed in the cone: {exc}"
+        else:
+            text = (f"Pricing vol <b>{pct(pv, 1)}</b> for an option of {days} bars sits at percentile "
+                    f"<b>{placement.percentile:.0f}</b> (0 to 100) of the {placement.note}.")
+        if cone.dropped:
+            text += " Windows left out: " + "; ".join(f"{k} bars ({v})" for k, v in cone.dropped.items()) + "."
+        if cone.notes:
+            text += " " + " ".join(cone.notes)
+        self.reading.setText(text)
+        ws = np.asarray(cone.windows, dtype=float)
+        if len(ws):
+            self.plot.getPlotItem().vb.enableAutoRange()

@@ -1,0 +1,88 @@
+"""Price history of the selected series, with rows flagged by warnings marked."""
+
+from __future__ import annotations
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6.QtWidgets import QLabel, QVBoxLayout, QWidget
+
+from volbench.gui import palette
+from volbench.gui.state import WorkbenchState
+from volbench.gui.widgets import Card, Plot
+
+
+def epoch_seconds(dates: np.ndarray) -> np.ndarray:
+    """datetime64 -> seconds since 1970 (what pyqtgraph's date axis reads)."""
+    return np.asarray(dates, dtype="datetime64[ns]").astype("int64") / 1e9
+
+
+class PricePane(QWidget):
+    def __init__(self, state: WorkbenchState, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("price_pane")
+        self.state = state
+        lay = QVBoxLayout(self)
+        self.plot = Plot("price_plot", left="Close price", bottom="Date", date_axis=True)
+        self.legend = self.plot.legend(offset=(10, 10))
+        self.line = self.plot.plot([], [], pen=pg.mkPen(palette.PRICE_LINE, width=1.4), name="Close")
+        self.flagged = pg.ScatterPlotItem(symbol="x", size=11, pen=pg.mkPen(palette.FLAGGED, width=2),
+                                          brush=pg.mkBrush(palette.FLAGGED), name="Flagged row (kept)")
+        self.plot.addItem(self.flagged)
+        self.legend.addItem(self.flagged, "Flagged row")
+        self.as_of_line = pg.InfiniteLine(angle=90, pen=pg.mkPen(palette.REFERENCE, width=1,
+                                                                 style=pg.QtCore.Qt.PenStyle.DashLine),
+                                          label="as of", labelOpts={"position": 0.95,
+                                                                    "color": palette.REFERENCE})
+        self.plot.addItem(self.as_of_line)
+        self.caption = QLabel()
+        self.caption.setObjectName("price_caption")
+        self.caption.setProperty("role", "caption")
+        self.caption.setWordWrap(True)
+        inner = QWidget()
+        il = QVBoxLayout(inner)
+        il.setContentsMargins(0, 0, 0, 0)
+        il.addWidget(self.plot, 1)
+        il.addWidget(self.caption)
+        self.card = Card(inner, "price_card")
+        lay.addWidget(self.card)
+        state.changed.connect(self._on_state)
+        self.render()
+
+    def _on_state(self, names) -> None:
+        if names & {"histories", "selected", "exclude_flagged", "as_of"}:
+            self.render()
+
+    def render(self) -> None:
+        h = self.state.loaded()
+        if h is None:
+            self.card.show_message("Load a price file to see its history.")
+            return
+        x = epoch_seconds(h.dates)
+        self.line.setData(x, h.close)
+        flagged = h.flagged_lines
+        mask = np.isin(h.lines, np.fromiter(flagged, dtype=np.int64, count=len(flagged)))
+        excluded = self.state.exclude_flagged
+        if excluded:
+            self.flagged.setPen(pg.mkPen(palette.EXCLUDED, width=2))
+            self.flagged.setBrush(pg.mkBrush(palette.EXCLUDED))
+        else:
+            self.flagged.setPen(pg.mkPen(palette.FLAGGED, width=2))
+            self.flagged.setBrush(pg.mkBrush(palette.FLAGGED))
+        self.flagged.setData(x[mask], h.close[mask],
+                             data=[int(v) for v in h.lines[mask]])
+        self.legend.removeItem(self.flagged)
+        self.legend.addItem(self.flagged, "Flagged row (left out)" if excluded else "Flagged row (kept)")
+        if self.state.as_of:
+            self.as_of_line.setValue(epoch_seconds(np.array([np.datetime64(self.state.as_of)]))[0])
+            self.as_of_line.show()
+        else:
+            self.as_of_line.hide()
+        self.plot.getPlotItem().setTitle(f"{h.name}: {h.price_basis}, {h.n} rows, {h.first_date} to "
+                                         f"{h.last_date}", color=palette.FOREGROUND, size="10pt")
+        self.plot.enableAutoRange()
+        errors = sum(f.severity == "error" for f in h.findings)
+        self.caption.setText(
+            f"{int(mask.sum())} row(s) flagged by warnings are marked "
+            f"({'left out of' if excluded else 'kept in'} every result); {errors} unusable row(s) "
+            "are not in the file's usable rows and cannot be drawn. See the Data tab for details.")
+        self.card.show_content()

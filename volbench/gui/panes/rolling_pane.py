@@ -1,0 +1,182 @@
+"""Rolling volatility of each selected estimator, the pricing vol as a level, and the estimates table."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pyqtgraph as pg
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QLabel, QSplitter, QVBoxLayout, QWidget
+
+from volbench.estimators import REGISTRY
+from volbench.gui import palette
+from volbench.gui.controller import Results
+from volbench.gui.panes.price_pane import epoch_seconds
+from volbench.gui.state import WorkbenchState
+from volbench.gui.widgets import Card, FrameTable, Plot, pct
+
+ESTIMATE_COLUMNS = ["estimator", "vol", "95% interval", "n", "interval method / why not"]
+
+
+class RollingPane(QWidget):
+    """Lines per estimator (legend entries toggle them), crosshair readout, estimates table."""
+
+    def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("rolling_pane")
+        self.state, self.results = state, results
+        self.plot = Plot("rolling_plot", left="Annualized volatility (%)", bottom="Date", date_axis=True)
+        self.legend = self.plot.legend(offset=(10, 10), colCount=3)
+        self.lines: dict[str, pg.PlotDataItem] = {}
+        for key, spec in REGISTRY.items():
+            self.lines[key] = self.plot.plot([], [], pen=pg.mkPen(palette.estimator_colour(key), width=1.5),
+                                             name=spec.label)
+        self.pricing_line = pg.InfiniteLine(
+            angle=0, movable=False, pen=pg.mkPen(palette.PRICING_VOL, width=1.6, style=Qt.PenStyle.DashLine),
+            label="pricing vol {value:.1f} %", labelOpts={"position": 0.03, "color": palette.PRICING_VOL,
+                                                          "anchors": [(0, 1), (0, 1)]})
+        self.plot.addItem(self.pricing_line, ignoreBounds=True)
+        self.vline = pg.InfiniteLine(angle=90, movable=False, pen=pg.mkPen("#8A8F86", width=1))
+        self.hline = pg.InfiniteLine(angle=0, movable=False, pen=pg.mkPen("#8A8F86", width=1))
+        for ln in (self.vline, self.hline):
+            ln.hide()
+            self.plot.addItem(ln, ignoreBounds=True)
+        self.readout = QLabel(" ")
+        self.readout.setObjectName("rolling_readout")
+        self.readout.setProperty("role", "caption")
+        self.readout.setTextFormat(Qt.TextFormat.RichText)
+        self._proxy = pg.SignalProxy(self.plot.scene().sigMouseMoved, rateLimit=30, slot=self._on_mouse)
+
+        top = QWidget()
+        tl = QVBoxLayout(top)
+        tl.setContentsMargins(0, 0, 0, 0)
+        tl.addWidget(self.readout)
+        tl.addWidget(self.plot, 1)
+        self.table = FrameTable("estimates_table")
+        self.table_heading = QLabel("Estimates")
+        self.table_heading.setObjectName("estimates_heading")
+        self.table_heading.setProperty("role", "heading")
+        bottom = QWidget()
+        bl = QVBoxLayout(bottom)
+        bl.setContentsMargins(0, 0, 0, 0)
+        bl.addWidget(self.table_heading)
+        bl.addWidget(self.table)
+        split = QSplitter(Qt.Orientation.Vertical)
+        split.addWidget(top)
+        split.addWidget(bottom)
+        split.setSizes([420, 200])
+        self.card = Card(split, "rolling_card")
+        lay = QVBoxLayout(self)
+        lay.addWidget(self.card)
+        self._x: dict[str, np.ndarray] = {}
+        self._y: dict[str, np.ndarray] = {}
+        results.updated.connect(self._on_results)
+        state.changed.connect(self._on_state)
+        self.render()
+
+    # ------------------------------------------------------------------ updates
+    def _on_results(self, kinds) -> None:
+        if kinds & {"rolling", "estimates"}:
+            self.render()
+
+    def _on_state(self, names) -> None:
+        if "estimators" in names:
+            self._apply_visibility()
+            self._render_table()
+        if "pricing_vol" in names:
+            self._render_pricing()
+
+    def render(self) -> None:
+        rolling = self.results.get("rolling")
+        if rolling is None:
+            self.card.show_message(self.results.problem("rolling") or "Load a price file to begin.")
+            return
+        self._x.clear()
+        self._y.clear()
+        for key, line in self.lines.items():
+            rv = rolling.series.get(key)
+            if rv is None:
+                line.setData([], [])
+                continue
+            x = epoch_seconds(rv.values.index.to_numpy())
+            y = rv.values.to_numpy() * 100.0
+            self._x[key], self._y[key] = x, y
+            line.setData(x, y)
+        self._apply_visibility()
+        self._render_pricing()
+        self.plot.getPlotItem().setTitle(
+            f"Rolling {rolling.window}-bar volatility, annualized with {rolling.annualization:g} bars/yr",
+            color=palette.FOREGROUND, size="10pt")
+        self.plot.enableAutoRange()
+        self._render_table()
+        self.card.show_content()
+
+    def _apply_visibility(self) -> None:
+        chosen = set(self.state.estimators)
+        for key, line in self.lines.items():
+            line.setVisible(key in chosen and key in self._x)
+
+    def _render_pricing(self) -> None:
+        self.pricing_line.setValue(100.0 * self.state.pricing_vol)
+
+    def _render_table(self) -> None:
+        report = self.results.get("estimates")
+        if report is None:
+            self.table.set_frame(pd.DataFrame(columns=ESTIMATE_COLUMNS))
+            self.table_heading.setText(self.results.problem("estimates") or "Estimates")
+            return
+        chosen = [k for k in REGISTRY if k in self.state.estimators]
+        rows, raw, swatch = [], [], {}
+        for key in chosen:
+            spec = REGISTRY[key]
+            swatch[len(rows)] = palette.estimator_colour(key)
+            if key in report.estimates:
+                e = report.estimates[key]
+                approx = "" if spec.ci_exact else " ~"
+                rows.append([spec.label, pct(e.vol), f"{pct(e.ci_low)} to {pct(e.ci_high)}{approx}", e.n,
+                             e.ci_method])
+                raw.append({"estimator": key, "vol": e.vol, "ci_low": e.ci_low, "ci_high": e.ci_high,
+                            "n": e.n, "note": e.ci_method})
+            else:
+                reason = report.unavailable.get(key, "")
+                rows.append([spec.label, "n/a", "", "", reason])
+                raw.append({"estimator": key, "vol": None, "ci_low": None, "ci_high": None, "n": None,
+                            "note": reason})
+        h = report.history
+        self.table_heading.setText(
+            f"Estimates for {h.name} as of {report.as_of}: last {report.window} bars, "
+            f"{report.annualization:g} bars/yr, flagged rows {'left out' if h.exclude_flagged else 'kept'}")
+        self.table.set_frame(pd.DataFrame(rows, columns=ESTIMATE_COLUMNS),
+                             pd.DataFrame(raw, columns=["estimator", "vol", "ci_low", "ci_high", "n", "note"]),
+                             swatch=swatch, right=("vol", "n"))
+
+    # ------------------------------------------------------------------ crosshair
+    def _on_mouse(self, event) -> None:
+        pos = event[0]
+        vb = self.plot.getPlotItem().vb
+        if not self.plot.sceneBoundingRect().contains(pos) or not self._x:
+            return
+        p = vb.mapSceneToView(pos)
+        self.vline.setValue(p.x())
+        self.hline.setValue(p.y())
+        self.vline.show()
+        self.hline.show()
+        self.readout.setText(self.readout_text(p.x()))
+
+    def readout_text(self, x: float) -> str:
+        """Date under the cursor and each visible estimator's value there (HTML)."""
+        parts = []
+        date = None
+        for key in REGISTRY:
+            if key not in self._x or not self.lines[key].isVisible():
+                continue
+            xs = self._x[key]
+            i = int(np.clip(np.searchsorted(xs, x), 0, len(xs) - 1))
+            if i > 0 and abs(xs[i - 1] - x) < abs(xs[i] - x):
+                i -= 1
+            date = date or pd.Timestamp(xs[i], unit="s").strftime("%Y-%m-%d")
+            parts.append(f"<span style='color:{palette.estimator_colour(key)}'>&#9632;</span> "
+                         f"{REGISTRY[key].short or REGISTRY[key].label} {self._y[key][i]:.1f} %")
+        if date is None:
+            return " "
+        return f"<b>{date}</b> &nbsp; " + " &nbsp; ".join(parts)

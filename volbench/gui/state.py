@@ -1,0 +1,208 @@
+"""The workbench's state model: what the user chose, announced on change.
+
+One :class:`WorkbenchState` holds every user choice (loaded histories, the flagged-rows policy,
+the selected series and every control value). It owns no computation and no widgets: controls
+write to it with :meth:`WorkbenchState.set`, and it emits :attr:`WorkbenchState.changed` with
+the names of the fields that really changed, so the controller recomputes only what depends on
+them and panes re-render.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, fields, replace
+from typing import Any
+
+from PySide6.QtCore import QObject, Signal
+
+from volbench.data.history import PriceHistory
+from volbench.errors import VolbenchError
+from volbench.estimators import ESTIMATOR_KEYS
+
+
+@dataclass(frozen=True)
+class Choices:
+    """Every user setting, as plain values (decimals for vols and rates)."""
+
+    window: int = 20
+    annualization: float = 252.0
+    as_of: str | None = None
+    estimators: tuple[str, ...] = ESTIMATOR_KEYS
+    pricing_vol: float = 0.25
+    days: int = 30
+    strike: float | None = None
+    rate: float = 0.0
+    dividend_yield: float = 0.0
+    kind: str = "call"
+    garch_model: str = "all"
+    garch_dist: str = "normal"
+    cone_estimator: str = "close_to_close"
+    exclude_flagged: bool = False
+    date_format: str | None = None
+
+    def as_dict(self) -> dict:
+        d = {f.name: getattr(self, f.name) for f in fields(self)}
+        d["estimators"] = list(self.estimators)
+        return d
+
+    @classmethod
+    def from_dict(cls, data: dict) -> Choices:
+        """Rebuild from a session or settings mapping; unknown keys are ignored, bad values rejected."""
+        known = {f.name: f for f in fields(cls)}
+        kw: dict[str, Any] = {}
+        for key, value in data.items():
+            if key not in known:
+                continue
+            kw[key] = _coerce(key, value)
+        return cls(**kw)
+
+
+_INT = {"window", "days"}
+_FLOAT = {"annualization", "pricing_vol", "rate", "dividend_yield"}
+_CHOICE = {"kind": ("call", "put"), "garch_model": ("all", "garch", "gjr", "egarch"),
+           "garch_dist": ("normal", "t")}
+
+
+def _coerce(key: str, value):
+    try:
+        if key in _INT:
+            return int(value)
+        if key in _FLOAT:
+            return float(value)
+        if key == "strike":
+            return None if value in (None, "", 0, 0.0) else float(value)
+        if key in ("as_of", "date_format"):
+            return None if value in (None, "") else str(value)
+        if key == "estimators":
+            keys = tuple(str(k) for k in value)
+            unknown = [k for k in keys if k not in ESTIMATOR_KEYS]
+            if unknown:
+                raise VolbenchError(f"unknown estimator {unknown[0]!r}; choose among {', '.join(ESTIMATOR_KEYS)}")
+            return keys
+        if key == "exclude_flagged":
+            return bool(value)
+        if key in _CHOICE:
+            if value not in _CHOICE[key]:
+                raise VolbenchError(f"{key} must be one of {', '.join(_CHOICE[key])}, got {value!r}")
+            return value
+        return value
+    except (TypeError, ValueError):
+        raise VolbenchError(f"setting {key!r} has an unreadable value {value!r}") from None
+
+
+class WorkbenchState(QObject):
+    """Loaded histories, the selected series and every control value; emits on change.
+
+    Signals
+    -------
+    changed(frozenset[str])
+        Names of the fields that changed in one update (``"histories"``, ``"selected"`` or any
+        :class:`Choices` field).
+    """
+
+    changed = Signal(object)
+
+    def __init__(self, choices: Choices | None = None, parent: QObject | None = None) -> None:
+        super().__init__(parent)
+        self._choices = choices or Choices()
+        self._histories: tuple[PriceHistory, ...] = ()
+        self._files: tuple[str, ...] = ()
+        self._selected: str | None = None
+
+    # ------------------------------------------------------------------ reading
+    @property
+    def choices(self) -> Choices:
+        return self._choices
+
+    def __getattr__(self, name: str):
+        # only reached for names not found normally: expose Choices fields as attributes
+        if name.startswith("_"):
+            raise AttributeError(name)
+        choices = self.__dict__.get("_choices")
+        if choices is not None and name in Choices.__dataclass_fields__:
+            return getattr(choices, name)
+        raise AttributeError(name)
+
+    @property
+    def histories(self) -> tuple[PriceHistory, ...]:
+        """Histories as loaded (flagged rows present)."""
+        return self._histories
+
+    @property
+    def files(self) -> tuple[str, ...]:
+        return self._files
+
+    @property
+    def selected(self) -> str | None:
+        return self._selected
+
+    def loaded(self, name: str | None = None) -> PriceHistory | None:
+        """The loaded history called ``name`` (default: the selected one)."""
+        name = self._selected if name is None else name
+        return next((h for h in self._histories if h.name == name), None)
+
+    def view(self) -> PriceHistory | None:
+        """The selected history with the flagged-rows policy and as-of date applied.
+
+        Raises
+        ------
+        VolbenchError
+            The as-of date lies before the first row.
+        """
+        h = self.loaded()
+        if h is None:
+            return None
+        return h.select(self._choices.exclude_flagged).up_to(self._choices.as_of)
+
+    def views(self) -> list[PriceHistory]:
+        """Every loaded history with the flagged-rows policy applied."""
+        return [h.select(self._choices.exclude_flagged) for h in self._histories]
+
+    # ------------------------------------------------------------------ writing
+    def set(self, name: str, value) -> None:
+        """Set one field; emits ``changed`` only if the value differs."""
+        self.update(**{name: value})
+
+    def update(self, **values) -> None:
+        """Set several fields at once and emit one ``changed`` with those that differ."""
+        changed: set[str] = set()
+        new_choices: dict[str, Any] = {}
+        for name, value in values.items():
+            if name == "selected":
+                if value != self._selected:
+                    if value is not None and self.loaded(value) is None:
+                        raise VolbenchError(f"no loaded series is called {value!r}")
+                    self._selected = value
+                    changed.add("selected")
+            elif name in Choices.__dataclass_fields__:
+                value = _coerce(name, value)
+                if getattr(self._choices, name) != value:
+                    new_choices[name] = value
+                    changed.add(name)
+            else:
+                raise AttributeError(f"WorkbenchState has no field {name!r}")
+        if new_choices:
+            self._choices = replace(self._choices, **new_choices)
+        if changed:
+            self.changed.emit(frozenset(changed))
+
+    def set_histories(self, histories, files=(), *, keep_selection: bool = True) -> None:
+        """Replace the loaded histories (and the files they came from)."""
+        self._histories = tuple(histories)
+        self._files = tuple(str(f) for f in files)
+        names = [h.name for h in self._histories]
+        changed = {"histories"}
+        if not (keep_selection and self._selected in names):
+            new = names[0] if names else None
+            if new != self._selected:
+                self._selected = new
+            changed.add("selected")
+        self.changed.emit(frozenset(changed))
+
+    def restore(self, histories, files, choices: Choices, selected: str | None) -> None:
+        """Replace histories, files, every choice and the selection at once (one ``changed``)."""
+        self._histories = tuple(histories)
+        self._files = tuple(str(f) for f in files)
+        self._choices = choices
+        names = [h.name for h in self._histories]
+        self._selected = selected if selected in names else (names[0] if names else None)
+        self.changed.emit(frozenset({"histories", "selected", *Choices.__dataclass_fields__}))

@@ -1,0 +1,292 @@
+"""Small widgets every pane uses: a table that copies itself, a plot that saves itself, a
+card that can say "not available", and number formatting for display."""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import pandas as pd
+import pyqtgraph as pg
+from pyqtgraph.exporters import ImageExporter, SVGExporter
+from PySide6.QtCore import QAbstractTableModel, QModelIndex, Qt, QTimer
+from PySide6.QtGui import QAction, QColor, QGuiApplication, QKeySequence
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QFileDialog,
+    QHeaderView,
+    QLabel,
+    QStackedWidget,
+    QTableView,
+    QVBoxLayout,
+    QWidget,
+)
+
+from volbench.errors import VolbenchError
+from volbench.gui import palette
+from volbench.gui.compute import table_tsv
+
+
+def pct(x, digits: int = 2) -> str:
+    """0.2345 -> '23.45 %'; None/NaN -> 'n/a'."""
+    if x is None or not isinstance(x, (int, float)) or not math.isfinite(x):
+        return "n/a"
+    return f"{100 * x:.{digits}f} %"
+
+
+def log_ticks(lo: float, hi: float) -> list[tuple[float, str]]:
+    """Tick positions (log10) and labels at 1, 2 and 5 times powers of ten between ``lo`` and ``hi``."""
+    out = []
+    if not (lo > 0 and hi > 0):
+        return out
+    for e in range(math.floor(math.log10(lo)), math.ceil(math.log10(hi)) + 1):
+        for m in (1, 2, 5):
+            v = m * 10.0**e
+            if lo <= v <= hi:
+                out.append((math.log10(v), f"{v:.6g}"))
+    return out
+
+
+def num(x, digits: int = 4) -> str:
+    if x is None or isinstance(x, str):
+        return "" if x is None else x
+    try:
+        xf = float(x)
+    except (TypeError, ValueError):
+        return str(x)
+    return "n/a" if not math.isfinite(xf) else f"{xf:.{digits}g}"
+
+
+# ---------------------------------------------------------------------- tables
+_ROOT = QModelIndex()
+
+
+class FrameModel(QAbstractTableModel):
+    """Read-only table model over a frame of display strings, with optional colours."""
+
+    def __init__(self, parent=None) -> None:
+        super().__init__(parent)
+        self._display = pd.DataFrame()
+        self._fg: dict[tuple[int, int], str] = {}
+        self._swatch: dict[int, str] = {}
+        self._tips: dict[tuple[int, int], str] = {}
+        self._right: set[int] = set()
+        self.align_top = False
+
+    def set_frame(self, display: pd.DataFrame, *, fg=None, swatch=None, tips=None, right=()) -> None:
+        self.beginResetModel()
+        self._display = display.reset_index(drop=True)
+        self._fg = dict(fg or {})
+        self._swatch = dict(swatch or {})
+        self._tips = dict(tips or {})
+        cols = list(self._display.columns)
+        self._right = {cols.index(c) for c in right if c in cols}
+        self.endResetModel()
+
+    def rowCount(self, parent=_ROOT) -> int:
+        return 0 if parent.isValid() else len(self._display)
+
+    def columnCount(self, parent=_ROOT) -> int:
+        return 0 if parent.isValid() else len(self._display.columns)
+
+    def data(self, index: QModelIndex, role=Qt.ItemDataRole.DisplayRole):
+        if not index.isValid():
+            return None
+        r, c = index.row(), index.column()
+        if role == Qt.ItemDataRole.DisplayRole:
+            v = self._display.iat[r, c]
+            return "" if v is None else str(v)
+        if role == Qt.ItemDataRole.ForegroundRole and (r, c) in self._fg:
+            return QColor(self._fg[(r, c)])
+        if role == Qt.ItemDataRole.DecorationRole and c == 0 and r in self._swatch:
+            return QColor(self._swatch[r])
+        if role == Qt.ItemDataRole.ToolTipRole:
+            return self._tips.get((r, c)) or str(self._display.iat[r, c])
+        if role == Qt.ItemDataRole.TextAlignmentRole:
+            vertical = Qt.AlignmentFlag.AlignTop if self.align_top else Qt.AlignmentFlag.AlignVCenter
+            horizontal = Qt.AlignmentFlag.AlignRight if c in self._right else Qt.AlignmentFlag.AlignLeft
+            return int(horizontal | vertical)
+        return None
+
+    def headerData(self, section, orientation, role=Qt.ItemDataRole.DisplayRole):
+        if role == Qt.ItemDataRole.DisplayRole and orientation == Qt.Orientation.Horizontal:
+            return str(self._display.columns[section])
+        return None
+
+    def cell(self, row: int, col: str) -> str:
+        return str(self._display.at[row, col])
+
+    @property
+    def display(self) -> pd.DataFrame:
+        return self._display
+
+
+class FrameTable(QTableView):
+    """A read-only table of one frame; Ctrl+C or the context menu copies it as tab-separated text.
+
+    ``set_frame(display, raw=...)``: ``display`` holds the strings shown, ``raw`` the numbers copied
+    (defaults to ``display``).
+    """
+
+    def __init__(self, object_name: str, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName(object_name)
+        self._model = FrameModel(self)
+        self.setModel(self._model)
+        self._raw = pd.DataFrame()
+        self.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        self.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        self.setAlternatingRowColors(True)
+        self.verticalHeader().setVisible(False)
+        self.verticalHeader().setDefaultSectionSize(22)
+        self.horizontalHeader().setHighlightSections(False)
+        self.setWordWrap(False)
+        self.setContextMenuPolicy(Qt.ContextMenuPolicy.ActionsContextMenu)
+        copy = QAction("Copy table as tab-separated text", self)
+        copy.setShortcut(QKeySequence.StandardKey.Copy)
+        copy.setShortcutContext(Qt.ShortcutContext.WidgetShortcut)
+        copy.triggered.connect(self.copy_to_clipboard)
+        self.addAction(copy)
+        self.horizontalHeader().sectionResized.connect(self._rewrap)
+
+    def setWordWrap(self, on: bool) -> None:
+        """Wrap long cells; rows then grow to fit and text starts at the top of each cell."""
+        super().setWordWrap(on)
+        self._model.align_top = on
+
+    def _rewrap(self, *_args) -> None:
+        if self.wordWrap() and self._model.rowCount():
+            QTimer.singleShot(0, self.resizeRowsToContents)
+
+    def resizeEvent(self, event) -> None:
+        super().resizeEvent(event)
+        self._rewrap()
+
+    def showEvent(self, event) -> None:
+        super().showEvent(event)
+        self._rewrap()
+
+    @property
+    def table_model(self) -> FrameModel:
+        return self._model
+
+    def set_frame(self, display: pd.DataFrame, raw: pd.DataFrame | None = None, *, stretch_last=True,
+                  **style) -> None:
+        self._raw = display if raw is None else raw
+        self._model.set_frame(display, **style)
+        header = self.horizontalHeader()
+        n = len(display.columns)
+        for i in range(n):
+            last = i == n - 1 and stretch_last
+            header.setSectionResizeMode(
+                i, QHeaderView.ResizeMode.Stretch if last else QHeaderView.ResizeMode.ResizeToContents)
+        if self.wordWrap():
+            self.resizeRowsToContents()
+
+    def raw_frame(self) -> pd.DataFrame:
+        return self._raw
+
+    def to_tsv(self) -> str:
+        return table_tsv(self._raw)
+
+    def copy_to_clipboard(self) -> str:
+        text = self.to_tsv()
+        QGuiApplication.clipboard().setText(text)
+        return text
+
+
+# ---------------------------------------------------------------------- plots
+def style_plot(pw: pg.PlotWidget, *, left: str, bottom: str) -> None:
+    """Light background, readable axes with units, faint grid."""
+    pw.setBackground(palette.BACKGROUND)
+    item = pw.getPlotItem()
+    for name in ("left", "bottom"):
+        ax = item.getAxis(name)
+        ax.setPen(pg.mkPen(palette.FOREGROUND))
+        ax.setTextPen(pg.mkPen(palette.FOREGROUND))
+        ax.enableAutoSIPrefix(False)
+    item.setLabel("left", left)
+    item.setLabel("bottom", bottom)
+    item.showGrid(x=True, y=True, alpha=palette.GRID_ALPHA)
+
+
+class Plot(pg.PlotWidget):
+    """A pyqtgraph plot that can save itself as PNG or SVG (context-menu entry and :meth:`save_image`)."""
+
+    def __init__(self, object_name: str, *, title: str = "", left: str = "", bottom: str = "",
+                 date_axis: bool = False, parent: QWidget | None = None) -> None:
+        axis = {"bottom": pg.DateAxisItem(orientation="bottom")} if date_axis else None
+        super().__init__(parent=parent, axisItems=axis)
+        self.setObjectName(object_name)
+        style_plot(self, left=left, bottom=bottom)
+        if title:
+            self.getPlotItem().setTitle(title, color=palette.FOREGROUND, size="10pt")
+        self.setMinimumSize(260, 180)
+        menu = self.getPlotItem().vb.menu
+        menu.addSeparator()
+        save = menu.addAction("Save plot as PNG or SVG…")
+        save.triggered.connect(self.ask_save)
+
+    def legend(self, **kw) -> pg.LegendItem:
+        """A legend with dark text on a light, slightly transparent card; entries toggle their line."""
+        kw.setdefault("offset", (10, 10))
+        return self.addLegend(labelTextColor=palette.FOREGROUND, brush=pg.mkBrush(255, 255, 255, 215),
+                              pen=pg.mkPen("#D3D6CD"), **kw)
+
+    def save_image(self, path: str | Path) -> Path:
+        """Write the plot to ``path``; the suffix chooses the format (.png or .svg)."""
+        path = Path(path)
+        suffix = path.suffix.lower()
+        if suffix == ".svg":
+            exporter = SVGExporter(self.getPlotItem())
+        elif suffix == ".png":
+            exporter = ImageExporter(self.getPlotItem())
+            exporter.parameters()["width"] = max(int(self.width() * 2), 800)
+        else:
+            raise VolbenchError(f"{path.name}: plots are saved as .png or .svg, got {suffix or 'no suffix'!r}")
+        exporter.export(str(path))
+        return path
+
+    def ask_save(self) -> Path | None:
+        name, flt = QFileDialog.getSaveFileName(
+            self, "Save plot", f"{self.objectName()}.png", "PNG image (*.png);;SVG drawing (*.svg)")
+        if not name:
+            return None
+        if not Path(name).suffix:
+            name += ".svg" if "svg" in flt.lower() else ".png"
+        from volbench.gui.dialogs import guarded
+
+        return guarded(self, "Save plot", lambda: self.save_image(name))
+
+
+# ---------------------------------------------------------------------- cards
+class Card(QStackedWidget):
+    """Content or a one-line message ("not available in this build", "load a file", an error)."""
+
+    def __init__(self, content: QWidget, object_name: str, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName(object_name)
+        self._content = content
+        holder = QWidget()
+        lay = QVBoxLayout(holder)
+        self._label = QLabel()
+        self._label.setObjectName(f"{object_name}_message")
+        self._label.setProperty("role", "notice")
+        self._label.setWordWrap(True)
+        self._label.setAlignment(Qt.AlignmentFlag.AlignCenter)
+        lay.addWidget(self._label)
+        self.addWidget(content)
+        self.addWidget(holder)
+        self.setCurrentIndex(1)
+        self._label.setText("Load a price file to begin (File > Open, or drop CSV files on the window).")
+
+    def show_content(self) -> None:
+        self.setCurrentIndex(0)
+
+    def show_message(self, text: str) -> None:
+        self._label.setText(text)
+        self.setCurrentIndex(1)
+
+    @property
+    def message(self) -> str:
+        return self._label.text() if self.currentIndex() == 1 else ""

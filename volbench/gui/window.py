@@ -1,0 +1,409 @@
+"""The workbench main window: panes as tabs, controls on the left, the comparison at the bottom,
+menus for files, sessions, export and help, and a status bar with progress and Cancel."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtGui import QAction, QKeySequence
+from PySide6.QtWidgets import (
+    QDockWidget,
+    QFileDialog,
+    QLabel,
+    QMainWindow,
+    QMenu,
+    QProgressBar,
+    QPushButton,
+    QTabWidget,
+    QWidget,
+)
+
+from volbench.errors import VolbenchError
+from volbench.gui import compute
+from volbench.gui.controller import Controller, Results
+from volbench.gui.dialogs import HelpDialog, confirm_overwrite, error_text, guarded, show_error
+from volbench.gui.loading import load_files
+from volbench.gui.panes.comparison_pane import ComparisonPane
+from volbench.gui.panes.cone_pane import ConePane
+from volbench.gui.panes.controls import ControlsPane
+from volbench.gui.panes.data_pane import DataPane
+from volbench.gui.panes.model_pane import ModelPane
+from volbench.gui.panes.price_pane import PricePane
+from volbench.gui.panes.rolling_pane import RollingPane
+from volbench.gui.panes.scaling_pane import ScalingPane
+from volbench.gui.session import Session, read_session, write_session
+from volbench.gui.settings import Settings
+from volbench.gui.state import Choices, WorkbenchState
+from volbench.gui.widgets import Plot
+from volbench.gui.workers import Cancelled, Dispatcher
+
+EXPORT_FILTERS = "Excel workbook (*.xlsx);;CSV table (*.csv);;JSON document (*.json)"
+SESSION_FILTER = "volbench session (*.json)"
+PRICE_FILTER = "Price files (*.csv *.txt *.tsv);;All files (*)"
+TABS = (("data", "Data"), ("prices", "Prices"), ("rolling", "Rolling volatility"), ("scaling", "Scaling check"),
+        ("cone", "Volatility cone"), ("model", "GARCH models"))
+
+
+class MainWindow(QMainWindow):
+    """The workbench window.
+
+    Parameters
+    ----------
+    synchronous
+        Run background work in the GUI thread (tests, benchmarks).
+    settings
+        Remembered settings (default: the user's QSettings).
+    choices
+        Start-up choices; default: those remembered in ``settings``.
+
+    Signals
+    -------
+    exported(Path)
+        An export was written.
+    """
+
+    exported = Signal(object)
+
+    def __init__(self, *, synchronous: bool = False, settings: Settings | None = None,
+                 choices: Choices | None = None, parent: QWidget | None = None) -> None:
+        super().__init__(parent)
+        self.setObjectName("main_window")
+        self.setWindowTitle("volbench: volatility workbench")
+        self.setAcceptDrops(True)
+        self.settings = settings or Settings()
+        self.state = WorkbenchState(choices or self.settings.load_choices() or Choices(), self)
+        self.results = Results(self)
+        self.dispatcher = Dispatcher(synchronous=synchronous, parent=self)
+        self.controller = Controller(self.state, self.results, self.dispatcher, self)
+
+        self.panes: dict[str, QWidget] = {
+            "data": DataPane(self.state),
+            "prices": PricePane(self.state),
+            "rolling": RollingPane(self.state, self.results),
+            "scaling": ScalingPane(self.results),
+            "cone": ConePane(self.state, self.results),
+            "model": ModelPane(self.state, self.results),
+        }
+        self.tabs = QTabWidget()
+        self.tabs.setObjectName("pane_tabs")
+        self.tabs.setDocumentMode(False)
+        for key, title in TABS:
+            self.tabs.addTab(self.panes[key], title)
+        self.setCentralWidget(self.tabs)
+
+        self.controls = ControlsPane(self.state)
+        self.controls_dock = self._dock("controls_dock", "Settings", self.controls,
+                                        Qt.DockWidgetArea.LeftDockWidgetArea)
+        self.comparison = ComparisonPane(self.results)
+        self.comparison_dock = self._dock("comparison_dock", "Comparison with the pricing vol", self.comparison,
+                                          Qt.DockWidgetArea.BottomDockWidgetArea)
+        self._build_status_bar()
+        self._build_menus()
+
+        self.panes["data"].open_requested.connect(self.ask_open_files)
+        self.panes["data"].reload_requested.connect(self.reload_files)
+        self.panes["model"].fit_all_requested.connect(self.fit_all_series)
+        self.controls.message.connect(self.show_status)
+        self.controls.recompute_requested.connect(lambda: self.controller.recompute())
+        self.controller.status.connect(self.show_status)
+        self.dispatcher.progress.connect(self._on_progress)
+        self.dispatcher.busy.connect(self._on_busy)
+        self.dispatcher.result.connect(self._on_job_result)
+        self.dispatcher.error.connect(self._on_job_error)
+        self.resize(1360, 900)
+        self.settings.restore_window(self)
+        self.controller.recompute()
+
+    # ------------------------------------------------------------------ layout helpers
+    def _dock(self, name: str, title: str, widget: QWidget, area) -> QDockWidget:
+        dock = QDockWidget(title, self)
+        dock.setObjectName(name)
+        dock.setWidget(widget)
+        dock.setFeatures(QDockWidget.DockWidgetFeature.DockWidgetMovable
+                         | QDockWidget.DockWidgetFeature.DockWidgetFloatable)
+        self.addDockWidget(area, dock)
+        return dock
+
+    def _build_status_bar(self) -> None:
+        bar = self.statusBar()
+        bar.setObjectName("status_bar")
+        self.status_label = QLabel("Ready.")
+        self.status_label.setObjectName("status_label")
+        bar.addWidget(self.status_label, 1)
+        self.progress = QProgressBar()
+        self.progress.setObjectName("progress_bar")
+        self.progress.setRange(0, 0)
+        self.progress.setVisible(False)
+        bar.addPermanentWidget(self.progress)
+        self.cancel_button = QPushButton("Cancel")
+        self.cancel_button.setObjectName("cancel_button")
+        self.cancel_button.setVisible(False)
+        self.cancel_button.clicked.connect(self.cancel_work)
+        bar.addPermanentWidget(self.cancel_button)
+
+    def _action(self, menu: QMenu, text: str, slot, shortcut=None, name: str | None = None) -> QAction:
+        act = QAction(text, self)
+        if name:
+            act.setObjectName(name)
+        if shortcut is not None:
+            act.setShortcut(shortcut)
+        act.triggered.connect(slot)
+        menu.addAction(act)
+        return act
+
+    def _build_menus(self) -> None:
+        bar = self.menuBar()
+        f = bar.addMenu("&File")
+        self._action(f, "&Open price files…", self.ask_open_files, QKeySequence.StandardKey.Open, "open_action")
+        self.recent_menu = f.addMenu("Open &recent")
+        self.recent_menu.setObjectName("recent_menu")
+        self.recent_menu.aboutToShow.connect(self._fill_recent)
+        f.addSeparator()
+        self._action(f, "&Export results…", self.ask_export, "Ctrl+E", "export_action")
+        self._action(f, "Save current &plot as PNG or SVG…", self.save_current_plot, None, "save_plot_action")
+        f.addSeparator()
+        self._action(f, "&Save session…", self.ask_save_session, QKeySequence.StandardKey.Save,
+                     "save_session_action")
+        self._action(f, "Open sess&ion…", self.ask_open_session, "Ctrl+Shift+O", "open_session_action")
+        f.addSeparator()
+        self._action(f, "&Quit", self.close, QKeySequence.StandardKey.Quit)
+        v = bar.addMenu("&View")
+        v.addAction(self.controls_dock.toggleViewAction())
+        v.addAction(self.comparison_dock.toggleViewAction())
+        self._action(v, "Recompute all", lambda: self.controller.recompute(), "F5")
+        h = bar.addMenu("&Help")
+        self._action(h, "&About volbench and the estimators…", self.show_help, QKeySequence.StandardKey.HelpContents,
+                     "help_action")
+
+    # ------------------------------------------------------------------ status and progress
+    def show_status(self, text: str) -> None:
+        self.status_label.setText(text)
+        self.status_label.setToolTip(text)
+
+    def _on_progress(self, kind: str, done: int, total: int, text: str) -> None:
+        if total > 0:
+            self.progress.setRange(0, total)
+            self.progress.setValue(done)
+        if text:
+            self.show_status(text)
+
+    def _on_busy(self, busy: bool) -> None:
+        self.progress.setVisible(busy)
+        self.cancel_button.setVisible(busy)
+        if busy:
+            self.progress.setRange(0, 0)
+        else:
+            self.show_status("Ready.")
+
+    def cancel_work(self) -> None:
+        self.controller.cancel_background()
+        for kind in ("export", "garch_all"):
+            if self.dispatcher.is_running(kind):
+                self.dispatcher.cancel(kind)
+                if kind == "garch_all":
+                    self.results.fail("garch_all", "Stopped before every series was fitted.")
+                    self.results.announce({"garch_all"})
+        self.show_status("Stopped.")
+
+    # ------------------------------------------------------------------ files
+    def ask_open_files(self) -> None:
+        paths, _ = QFileDialog.getOpenFileNames(self, "Open price files", self._last_folder(), PRICE_FILTER)
+        if paths:
+            self.open_files(paths)
+
+    def _last_folder(self) -> str:
+        recent = self.settings.recent_files()
+        return str(Path(recent[0]).parent) if recent else str(Path.cwd())
+
+    def _fill_recent(self) -> None:
+        self.recent_menu.clear()
+        recent = self.settings.recent_files()
+        if not recent:
+            act = self.recent_menu.addAction("(no recent files)")
+            act.setEnabled(False)
+            return
+        for path in recent:
+            act = self.recent_menu.addAction(path)
+            act.triggered.connect(lambda _=False, p=path: self.open_files([p]))
+        self.recent_menu.addSeparator()
+        self.recent_menu.addAction("Clear list", self.settings.clear_recent)
+
+    def open_files(self, paths, *, replace: bool = False) -> int:
+        """Load ``paths`` (added to what is loaded unless ``replace``); returns how many series loaded.
+
+        A file that cannot be read is reported in one dialog naming the file, line and what to do;
+        the other files still load.
+        """
+        keep = [] if replace else list(self.state.files)
+        new = [str(Path(p)) for p in paths if str(Path(p)) not in keep]
+        loaded = load_files(keep + new, date_format=self.state.date_format)
+        if loaded.errors:
+            show_error(self, "could not read a file", "\n\n".join(loaded.errors))
+        if loaded.histories or replace:
+            self.state.set_histories(loaded.histories, loaded.files)
+            self.settings.add_recent([f for f in new if f in loaded.files])
+            n = len(loaded.histories)
+            self.show_status(f"{n} series loaded from {len(loaded.files)} file{'s' if len(loaded.files) != 1 else ''}.")
+        return len(loaded.histories)
+
+    def reload_files(self) -> None:
+        if self.state.files:
+            self.open_files(list(self.state.files), replace=True)
+
+    def dragEnterEvent(self, event) -> None:
+        if event.mimeData().hasUrls() and any(u.isLocalFile() for u in event.mimeData().urls()):
+            event.acceptProposedAction()
+
+    def dropEvent(self, event) -> None:
+        paths = [u.toLocalFile() for u in event.mimeData().urls() if u.isLocalFile()]
+        if paths:
+            event.acceptProposedAction()
+            self.open_files(paths)
+
+    # ------------------------------------------------------------------ sessions
+    def current_session(self) -> Session:
+        return Session(self.state.files, self.state.selected, self.state.choices)
+
+    def ask_save_session(self) -> None:
+        name, _ = QFileDialog.getSaveFileName(self, "Save session", "volbench-session.json", SESSION_FILTER)
+        if name:
+            self.save_session(name)
+
+    def save_session(self, path) -> Path | None:
+        out = guarded(self, "save session", lambda: write_session(path, self.current_session()))
+        if out is not None:
+            self.show_status(f"Session saved to {out}.")
+        return out
+
+    def ask_open_session(self) -> None:
+        name, _ = QFileDialog.getOpenFileName(self, "Open session", self._last_folder(), SESSION_FILTER)
+        if name:
+            self.open_session(name)
+
+    def open_session(self, path) -> bool:
+        """Restore files, selection and every choice from a session file; False (with a dialog) if unreadable."""
+        session = guarded(self, "open session", lambda: read_session(path))
+        if session is None:
+            return False
+        loaded = load_files(session.files, date_format=session.choices.date_format)
+        if loaded.errors:
+            show_error(self, "could not read a file of the session", "\n\n".join(loaded.errors))
+        self.state.restore(loaded.histories, loaded.files, session.choices, session.selected)
+        self.show_status(f"Session {Path(path).name} opened: {len(loaded.histories)} series.")
+        return True
+
+    # ------------------------------------------------------------------ export
+    def ask_export(self) -> None:
+        if not self.state.histories:
+            show_error(self, "export", "Nothing to export yet: open a price file first.")
+            return
+        name, flt = QFileDialog.getSaveFileName(self, "Export results", "volbench-export.xlsx", EXPORT_FILTERS,
+                                                options=QFileDialog.Option.DontConfirmOverwrite)
+        if not name:
+            return
+        if not Path(name).suffix:
+            name += ".csv" if "csv" in flt.lower() else ".json" if "json" in flt.lower() else ".xlsx"
+        self.export_to(name)
+
+    def export_to(self, path) -> None:
+        """Build the export bundle in the background and write ``path`` atomically.
+
+        An existing file is replaced only after the user agrees.
+        """
+        path = Path(path)
+        overwrite = False
+        if path.exists():
+            if not confirm_overwrite(self, path):
+                self.show_status("Export cancelled; the existing file is unchanged.")
+                return
+            overwrite = True
+        c = self.state.choices
+        try:
+            views = self.state.views()
+            view = self.controller.current_view()
+        except VolbenchError as exc:
+            show_error(self, "export", exc)
+            return
+        given: dict[str, dict] = {}
+        if view is not None:
+            for section in ("cone", "scaling", "garch", "comparison"):
+                value = self.controller.fresh(section)
+                if value is not None:
+                    given.setdefault(section, {})[view.name] = value
+
+        def job(progress, cancel, path=path, overwrite=overwrite):
+            bundle = compute.export_bundle(
+                views, window=c.window, annualization=c.annualization, as_of=c.as_of,
+                pricing_vol=c.pricing_vol, days=c.days, strike=c.strike, rate=c.rate,
+                dividend_yield=c.dividend_yield, kind=c.kind, cone_estimator=c.cone_estimator,
+                garch_model=c.garch_model, garch_dist=c.garch_dist,
+                import_settings={"date_format": c.date_format, "exclude_flagged": c.exclude_flagged},
+                given=given, progress=progress)
+            if cancel():
+                raise Cancelled()
+            return compute.write_bundle(path, bundle, overwrite=overwrite)
+
+        self.show_status(f"Exporting to {path.name}…")
+        self.dispatcher.submit("export", job)
+
+    def fit_all_series(self) -> None:
+        c = self.state.choices
+        views = self.state.views()
+        if not views:
+            show_error(self, "fit every series", "Nothing to fit yet: open a price file first.")
+            return
+        processes = 1 if self.dispatcher.synchronous else None
+        self.results.wait_for("garch_all", f"Fitting {len(views)} series…")
+        self.results.announce({"garch_all"})
+        self.dispatcher.submit("garch_all", lambda progress, cancel: (compute.fit_all(
+            views, c.garch_model, c.garch_dist, c.annualization, processes=processes, progress=progress,
+            cancel=cancel), c.days))
+
+    def _on_job_result(self, kind: str, value) -> None:
+        if kind == "export":
+            self.show_status(f"Exported to {value}.")
+            self.exported.emit(value)
+        elif kind == "garch_all":
+            comps, days = value
+            if comps is None:
+                self.results.fail("garch_all", "Stopped before every series was fitted.")
+            else:
+                self.results.put("garch_all", (comps, days))
+            self.results.announce({"garch_all"})
+
+    def _on_job_error(self, kind: str, exc) -> None:
+        if kind == "export":
+            show_error(self, "export", exc)
+            self.show_status("Export failed; see the message.")
+        elif kind == "garch_all":
+            self.results.fail("garch_all", error_text(exc))
+            self.results.announce({"garch_all"})
+
+    # ------------------------------------------------------------------ plots, help
+    def current_plot(self) -> Plot | None:
+        pane = self.tabs.currentWidget()
+        plots = pane.findChildren(Plot) if pane is not None else []
+        return plots[0] if plots else None
+
+    def save_current_plot(self) -> None:
+        plot = self.current_plot()
+        if plot is None:
+            show_error(self, "save plot", "This tab has no plot; choose a tab with a plot first.")
+            return
+        plot.ask_save()
+
+    def show_help(self) -> None:
+        HelpDialog(self).exec()
+
+    # ------------------------------------------------------------------ closing
+    def closeEvent(self, event) -> None:
+        self.dispatcher.cancel()
+        self.settings.save_window(self)
+        self.settings.save_choices(self.state.choices)
+        self.settings.sync()
+        self.controls.unbind()
+        for pane in self.panes.values():
+            if hasattr(pane, "unbind"):
+                pane.unbind()
+        super().closeEvent(event)
