@@ -10,6 +10,8 @@ from __future__ import annotations
 
 import multiprocessing
 import os
+import sys
+import threading
 from collections.abc import Callable, Iterable, Sequence
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
 
@@ -51,9 +53,18 @@ def _fit_one(history: PriceHistory, models: tuple[str, ...], settings: dict) -> 
 
 
 def default_context() -> multiprocessing.context.BaseContext:
-    """``forkserver`` where available, else ``spawn``: never plain ``fork``, which can deadlock when
-    the calling process runs threads (a GUI does)."""
+    """How worker processes start.
+
+    ``fork`` (fast: no re-import) only when it is safe: the platform has it, the caller is the
+    main thread, no other Python thread runs and no Qt binding is loaded (forking a process whose
+    other threads hold locks can deadlock the child). Otherwise ``forkserver`` where available,
+    else ``spawn``; both start clean interpreters that import volbench (a second or more each).
+    """
     methods = multiprocessing.get_all_start_methods()
+    single = threading.current_thread() is threading.main_thread() and threading.active_count() == 1
+    gui = any(m in sys.modules for m in ("PySide6", "PyQt5", "PyQt6"))
+    if "fork" in methods and single and not gui:
+        return multiprocessing.get_context("fork")
     return multiprocessing.get_context("forkserver" if "forkserver" in methods else "spawn")
 
 
