@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 
 import numpy as np
+import pandas as pd
 import pytest
 
 from volbench.cli.common import _clean
@@ -17,7 +18,8 @@ from volbench.scaling import (
     horizon_vol,
     scaling_check,
 )
-from volbench.scaling.verdicts import status_for
+from volbench.scaling.variance import LogLogFit
+from volbench.scaling.verdicts import status_for, variance_verdict
 
 
 def test_brownian_history_is_consistent_with_every_property(history_from_returns):
@@ -214,3 +216,22 @@ def test_excluded_flagged_rows_are_surfaced(sample_dir):
     assert b.n_returns == a.n_returns - len(excluded.excluded_lines)
     assert any("price jump" in n for n in a.notes)
     assert any("rows flagged by data-quality warnings were excluded" in n for n in b.notes)
+
+
+def test_large_but_insignificant_variance_gap_is_doubtful_and_says_so():
+    # Rule of this module (common practice, no source): a >= 10 % gap between the measured h-bar vol
+    # and sqrt-time scaling is "doubtful" even when the joint test does not reject; the sentence
+    # names the horizon with the largest gap and says the gap is within sampling noise.
+    vr = np.array([1.0, 0.98, 0.72, 0.95])
+    tab = pd.DataFrame({"h": [1, 2, 20, 60], "variance_ratio": vr, "vol_ratio": np.sqrt(vr),
+                        "n_nonoverlap": [1000, 500, 50, 16], "sqrt_time_vol": 0.30,
+                        "annualized_vol": 0.30 * np.sqrt(vr)})
+    fit = LogLogFit(0.97, -8.0, 0.03, (0.91, 1.03), 0.95)
+    v = variance_verdict(tab, 1.2, 0.40, fit, 0.05)
+    assert v.status == "doubtful"
+    assert v.message.startswith("20-bar variance is 28% below 20 x 1-bar variance (25.5% measured vs 30.0%")
+    assert "within sampling noise (Chow-Denning p = 0.400)" in v.message
+    assert "rests on 50 non-overlapping periods" in v.message
+    v = variance_verdict(tab.assign(vol_ratio=1.0), 1.2, 0.40, fit, 0.05)  # no large gap: consistent
+    assert v.status == "consistent" and v.message.startswith("60-bar variance")
+    assert "16 non-overlapping periods; read it with caution" in v.message

@@ -279,7 +279,10 @@ def scaling_check(
         sqrt_time_vol=np.sqrt(var1 * a),
     )
     tab["vol_ratio"] = tab["annualized_vol"] / tab["sqrt_time_vol"]
-    tab = tab.merge(normality_table(y, kept), on="h")[list(HORIZON_COLUMNS)]
+    norm = normality_table(y, kept)  # same horizons, same order
+    for col in ("skew", "excess_kurtosis", "jarque_bera", "jarque_bera_p"):
+        tab[col] = norm[col].to_numpy()
+    tab = tab[list(HORIZON_COLUMNS)]
 
     fit = loglog_fit(kept, tab["variance"].to_numpy(), n, deltas, level=1.0 - alpha)
     cd_stat, cd_p = chow_denning(tab["z_robust"].to_numpy()[1:])

@@ -131,12 +131,14 @@ def independence_verdict(ljung: pd.DataFrame, acf: pd.DataFrame, alpha: float) -
     lag_r, lag_s = int(ljung.loc[i_r, "lag"]), int(ljung.loc[i_s, "lag"])
     parts = []
     if p_s < 2 * alpha:
-        parts.append(f"Squared returns are autocorrelated (Ljung-Box to lag {lag_s}, adjusted {fmt_p(p_s)}): "
+        verb = "are" if p_s < alpha else "may be"
+        parts.append(f"Squared returns {verb} autocorrelated (Ljung-Box to lag {lag_s}, adjusted {fmt_p(p_s)}): "
                      "volatility clusters, so the vol over an option's life depends on today's level; lean on "
                      "recent data (EWMA or a GARCH forecast) rather than the long-sample average.")
     if p_r < 2 * alpha:
         a1 = float(acf["acf_returns"].iloc[0])
-        parts.append(f"Returns are autocorrelated (lag-1 autocorrelation {a1:+.2f}; Ljung-Box to lag {lag_r}, "
+        verb = "are" if p_r < alpha else "may be"
+        parts.append(f"Returns {verb} autocorrelated (lag-1 autocorrelation {a1:+.2f}; Ljung-Box to lag {lag_r}, "
                      f"adjusted {fmt_p(p_r)}): see the variance-ratio verdict for the effect on long-horizon vol.")
     elif parts:
         parts.append(f"Returns themselves are not autocorrelated (adjusted {fmt_p(p_r)}), so this does not "
@@ -153,9 +155,9 @@ def drift_verdict(drift: dict, alpha: float) -> Verdict:
     h, ratio, infl = last["h"], last["drift_to_vol"], last["vol_inflation"]
     p = drift["p_value"]
     status = status_for(p, alpha, ratio >= LARGE_DRIFT_TO_VOL)
-    word = "negligible" if status == "consistent" else "not negligible"
+    word = {"consistent": "negligible", "doubtful": "possibly not negligible", "rejected": "not negligible"}[status]
     msg = (f"Mean return {drift['mean_annualized']:+.1%} a year (t = {drift['t_stat']:.2f}, {fmt_p(p)}); "
-           f"over {h} bars it is {ratio:.2f} standard deviations, {word}: a vol measured around zero "
-           f"instead of the mean would be {infl:.1%} too high at that horizon (Black-Scholes itself "
-           "prices with the risk-free rate, not this drift).")
+           f"over {h} bars the drift is {ratio:.2f} of a {h}-bar standard deviation, {word}: a vol measured "
+           f"around zero instead of the mean would be {infl:.1%} too high at that horizon (Black-Scholes "
+           "itself prices with the risk-free rate, not this drift).")
     return Verdict("negligible_drift", status, float(drift["t_stat"]), float(p), msg)
