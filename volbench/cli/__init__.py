@@ -22,8 +22,7 @@ class _Parser(argparse.ArgumentParser):
     """argparse that reports usage errors as one line and exit code 2."""
 
     def error(self, message: str) -> None:  # pragma: no cover - exercised through main
-        self.print_usage(sys.stderr)
-        raise SystemExit(f"volbench: error: {message}")
+        raise SystemExit(f"{self.prog}: error: {message} (see '{self.prog} --help')")
 
 
 def build_parser() -> argparse.ArgumentParser:
