@@ -24,7 +24,7 @@ def register(sub) -> None:
         "estimate", help="point estimates of every volatility estimator",
         description="Annualized volatility of each estimator (close-to-close, Parkinson, Garman-Klass, "
                     "Rogers-Satchell, Yang-Zhang, EWMA) over the last N bars or the whole file, "
-                    "with 95%% confidence intervals. Estimators whose columns are missing are listed "
+                    "with 95% confidence intervals. Estimators whose columns are missing are listed "
                     "with the reason.",
     )
     add_file_options(p)
