@@ -297,7 +297,8 @@ def fit_garch(
     forecasts for GARCH and GJR, E[s2_{t+h}] = V_L + p^(h-1) (s2_{t+1} - V_L) (Bollerslev 1986;
     METHODS.md); for EGARCH (Nelson 1991), whose multi-step forecast has no closed form, ``arch``'s
     simulation forecast with ``simulations`` paths drawn by a seeded numpy Generator from the
-    fitted innovation distribution. Term structure vol(T) = sqrt(A mean_{h<=T} E[s2_{t+h}]).
+    fitted innovation distribution. Both come from the volatility process's ``forecast`` (what
+    ``ARCHModelResult.forecast`` calls; identical numbers, without its mean-path bookkeeping). Term structure vol(T) = sqrt(A mean_{h<=T} E[s2_{t+h}]).
     """
     model = check_model(model)
     s = check_settings(dist=dist, mean=mean, horizons=horizons, annualization=annualization,
@@ -356,18 +357,12 @@ def fit_garch(
     if warn:
         return _fallback(history, base, warn, notes, fit_info)
     horizon = max(252, max(s["horizons"]))
+    if model == "egarch":
+        method, sims, seed_used = "simulation", s["simulations"], s["seed"]
+    else:
+        method, sims, seed_used = "analytic", None, None
     with np.errstate(over="ignore", invalid="ignore"):
-        if model == "egarch":
-            gen = np.random.default_rng(s["seed"])
-            dist_params = params_y.iloc[len(params_y) - am.distribution.num_params:].to_numpy()
-            rng = type(am.distribution)(seed=gen).simulate(dist_params)
-            fc = res.forecast(horizon=horizon, method="simulation", simulations=s["simulations"], rng=rng,
-                              reindex=False)
-            method, sims, seed_used = "simulation", s["simulations"], s["seed"]
-        else:
-            fc = res.forecast(horizon=horizon, reindex=False)
-            method, sims, seed_used = "analytic", None, None
-    path = fc.variance.to_numpy()[-1] / SCALE**2
+        path = _variance_forecast(am, res.params.to_numpy(), horizon, method, s["simulations"], s["seed"]) / SCALE**2
     if not (np.all(np.isfinite(path)) and np.all(path > 0)):
         warn.append("the model's variance forecast is not finite and positive at every horizon")
         return _fallback(history, base, warn, notes, fit_info)
@@ -375,6 +370,25 @@ def fit_garch(
     return GarchFit(**base, **fit_info, term_structure=term.term_structure(path, s["horizons"], a),
                     variance_path=path, forecast_method=method, simulations=sims, seed=seed_used,
                     warnings=(), notes=tuple(notes))
+
+
+def _variance_forecast(am, params: np.ndarray, horizon: int, method: str, simulations: int, seed: int) -> np.ndarray:
+    """Expected per-bar variance h = 1..horizon after the last bar, on arch's percent scale.
+
+    Calls the volatility process's own ``forecast`` (the routine ``ARCHModelResult.forecast``
+    uses, with the same residuals, backcast and variance bounds) and skips the mean-path
+    bookkeeping we do not need; the numbers are identical. ``method="simulation"`` draws
+    standardized innovations from the fitted distribution with a seeded numpy Generator.
+    """
+    k_mean, k_vol = am.num_params, am.volatility.num_params
+    resid = am.resids(params[:k_mean])
+    vol = am.volatility
+    rng = None
+    if method == "simulation":
+        rng = type(am.distribution)(seed=np.random.default_rng(seed)).simulate(params[k_mean + k_vol:])
+    fc = vol.forecast(params[k_mean:k_mean + k_vol], resid, vol.backcast(resid), vol.variance_bounds(resid, 2.0),
+                      start=resid.size - 1, horizon=horizon, method=method, simulations=simulations, rng=rng)
+    return np.asarray(fc.forecasts)[-1]
 
 
 def _long_run_vol(model: str, params_y: pd.Series, p: float, annualization: float) -> float:
