@@ -179,6 +179,8 @@ def test_alpha_sets_the_interval_level_and_band(history_from_returns):
 
 
 def test_horizon_vol_interpolates_total_variance(history_from_returns):
+    # Common practice, no source: total variance is interpolated linearly in time between known
+    # horizons, then annualized as sqrt(Var x A / days); no extrapolation beyond the kept horizons.
     res = scaling_check(history_from_returns(np.random.default_rng(6).standard_normal(1500) * 0.01))
     t = res.horizons.set_index("h")
     assert horizon_vol(res, 20) == pytest.approx(t.loc[20, "annualized_vol"], rel=1e-12)
