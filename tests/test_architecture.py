@@ -1,0 +1,79 @@
+"""Architecture rules: Qt lives in volbench/gui only; the core imports without it."""
+
+from __future__ import annotations
+
+import ast
+import os
+import pkgutil
+import subprocess
+import sys
+from pathlib import Path
+
+import volbench
+
+PKG = Path(volbench.__file__).resolve().parent
+ROOT = PKG.parent
+QT_MODULES = ("PySide6", "pyqtgraph", "PyQt5", "PyQt6", "shiboken6")
+
+
+def _imported_roots(path: Path) -> set[str]:
+    tree = ast.parse(path.read_text(encoding="utf-8"), filename=str(path))
+    roots: set[str] = set()
+    for node in ast.walk(tree):
+        if isinstance(node, ast.Import):
+            roots.update(a.name.split(".")[0] for a in node.names)
+        elif isinstance(node, ast.ImportFrom) and node.module and node.level == 0:
+            roots.add(node.module.split(".")[0])
+        elif isinstance(node, ast.Call) and getattr(node.func, "attr", getattr(node.func, "id", None)) in (
+                "import_module", "__import__") and node.args and isinstance(node.args[0], ast.Constant):
+            roots.add(str(node.args[0].value).split(".")[0])
+    return roots
+
+
+def test_no_qt_import_outside_the_gui_package():
+    offenders = []
+    for path in sorted(PKG.rglob("*.py")):
+        rel = path.relative_to(PKG)
+        if rel.parts[0] == "gui":
+            continue
+        bad = _imported_roots(path) & set(QT_MODULES)
+        if bad:
+            offenders.append(f"volbench/{rel.as_posix()}: {', '.join(sorted(bad))}")
+    assert offenders == [], "Qt imported outside volbench/gui: " + "; ".join(offenders)
+
+
+def test_the_scan_would_catch_a_qt_import(tmp_path):
+    # the detector itself must fire (so the rule above cannot pass vacuously)
+    f = tmp_path / "m.py"
+    f.write_text("import os\nfrom PySide6.QtWidgets import QWidget\nimport importlib\n"
+                 "importlib.import_module('pyqtgraph')\n")
+    assert {"PySide6", "pyqtgraph"} <= _imported_roots(f)
+
+
+def _core_modules() -> list[str]:
+    names = ["volbench"]
+    for info in pkgutil.walk_packages([str(PKG)], prefix="volbench."):
+        parts = info.name.split(".")
+        if parts[1] == "gui" or parts[-1] == "__main__":
+            continue
+        names.append(info.name)
+    return names
+
+
+def test_core_modules_import_without_loading_qt():
+    modules = _core_modules()
+    assert {"volbench.data", "volbench.estimators", "volbench.cli", "volbench.samples"} <= set(modules)
+    code = (
+        "import importlib, json, sys\n"
+        f"mods = {modules!r}\n"
+        "for m in mods:\n"
+        "    importlib.import_module(m)\n"
+        "import volbench.cli\n"
+        "volbench.cli.build_parser()\n"  # building the CLI imports every cmd_* module
+        f"print(json.dumps(sorted(k for k in sys.modules if k.split('.')[0] in {QT_MODULES!r})))\n"
+    )
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    env.pop("QT_API", None)
+    res = subprocess.run([sys.executable, "-c", code], check=False, capture_output=True, text=True, env=env, timeout=120)
+    assert res.returncode == 0, res.stderr
+    assert res.stdout.strip() == "[]", f"Qt loaded by the core: {res.stdout.strip()}"
