@@ -28,6 +28,7 @@ class Binding(QObject):
         self._signal = signal
         signal.connect(self._from_widget)
         state.changed.connect(self._from_state)
+        self._bound = True
         self.refresh()
 
     def value(self):
@@ -53,7 +54,10 @@ class Binding(QObject):
             self.refresh()
 
     def unbind(self) -> None:
-        """Disconnect from the state and the widget (pane closing)."""
+        """Disconnect from the state and the widget (pane closing); safe to call twice."""
+        if not self._bound:
+            return
+        self._bound = False
         for sig, slot in ((self.state.changed, self._from_state), (self._signal, self._from_widget)):
             try:
                 sig.disconnect(slot)

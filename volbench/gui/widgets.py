@@ -8,9 +8,10 @@ from pathlib import Path
 
 import pandas as pd
 import pyqtgraph as pg
-from pyqtgraph.exporters import ImageExporter, SVGExporter
-from PySide6.QtCore import QAbstractTableModel, QModelIndex, Qt, QTimer
-from PySide6.QtGui import QAction, QColor, QGuiApplication, QKeySequence
+from pyqtgraph.exporters import ImageExporter
+from PySide6.QtCore import QAbstractTableModel, QModelIndex, QRect, Qt, QTimer
+from PySide6.QtGui import QAction, QColor, QGuiApplication, QKeySequence, QPainter
+from PySide6.QtSvg import QSvgGenerator
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QFileDialog,
@@ -234,17 +235,35 @@ class Plot(pg.PlotWidget):
                               pen=pg.mkPen("#D3D6CD"), **kw)
 
     def save_image(self, path: str | Path) -> Path:
-        """Write the plot to ``path``; the suffix chooses the format (.png or .svg)."""
+        """Write the plot to ``path``; the suffix chooses the format (.png or .svg).
+
+        PNG goes through pyqtgraph's image exporter at twice the on-screen width (at least 800
+        pixels). SVG is drawn by Qt's own SVG generator from the widget: pyqtgraph's SVG exporter
+        cannot parse the paths recent Qt versions write.
+        """
         path = Path(path)
         suffix = path.suffix.lower()
         if suffix == ".svg":
-            exporter = SVGExporter(self.getPlotItem())
+            size = self.size()
+            gen = QSvgGenerator()
+            gen.setFileName(str(path))
+            gen.setSize(size)
+            gen.setViewBox(QRect(0, 0, size.width(), size.height()))
+            gen.setTitle(self.objectName())
+            gen.setDescription("volbench plot")
+            painter = QPainter(gen)
+            try:
+                self.render(painter)
+            finally:
+                painter.end()
         elif suffix == ".png":
             exporter = ImageExporter(self.getPlotItem())
             exporter.parameters()["width"] = max(int(self.width() * 2), 800)
+            exporter.export(str(path))
         else:
             raise VolbenchError(f"{path.name}: plots are saved as .png or .svg, got {suffix or 'no suffix'!r}")
-        exporter.export(str(path))
+        if not path.exists():
+            raise VolbenchError(f"{path}: the plot could not be written; check the folder exists and is writable")
         return path
 
     def ask_save(self) -> Path | None:
