@@ -265,3 +265,17 @@ def test_too_few_returns_for_any_volatility_raise(make_history):
 def test_bad_settings_are_rejected(make_history, kwargs, msg):
     with pytest.raises(VolbenchError, match=msg):
         fit_garch(make_history(np.linspace(10, 12, 300)), **kwargs)
+
+
+def test_an_unadjusted_split_gets_a_note_naming_its_date(arch_path, percent_history):
+    # common practice, no source: a return 10+ robust s.d. (1.4826 x MAD) from the median is a
+    # data suspect; a 2:1 split is ln(0.5) = -69% in log terms on a ~1% daily-vol path
+    _, y = arch_path("garch", [0.0, 0.02, 0.08, 0.90], 800, seed=30)
+    y = y.copy()
+    y[500] += 100 * np.log(0.5)
+    h = percent_history(y)
+    fit = fit_garch(h, "garch")
+    day = str(h.index[501].date())
+    assert any(f"the return on {day} (" in n and "unadjusted split or a bad tick" in n for n in fit.notes)
+    clean = fit_garch(percent_history(np.delete(y, 500)), "garch")
+    assert not any("robust standard deviations" in n for n in clean.notes)

@@ -93,8 +93,10 @@ def run_garch(args: argparse.Namespace) -> int:
             print()
         print(f"{h.name}  ({h.source.name if h.source else ''}: {h.n} rows, {h.first_date} to {h.last_date})")
         _print_comparison(r, settings)
-    print("\nForward vol: annualized sqrt of the average expected variance over bars 1..T after the last bar."
-          "\n* EWMA fallback (see warnings). Estimates are statistical, not advice.")
+    print("\nForward vol: annualized sqrt of the average expected variance over bars 1..T after the last bar.")
+    if any(f.fallback for r in results for f in r.fits):
+        print("* EWMA fallback, flat over every horizon (see warnings).")
+    print("Estimates are statistical and carry model risk; they are not advice.")
     return 0
 
 

@@ -318,6 +318,7 @@ def fit_garch(
         why = (f"too few observations for a GARCH fit: {n} returns, at least {MIN_RETURNS} are needed "
                "(about a year of daily bars)")
         return _fallback(history, base, [why], [], None)
+    data_notes = _outlier_note(history, r)
     y = SCALE * r
     spec = _ARCH_SPEC[model]
     am = arch_model(y, mean="Constant" if s["mean"] == "constant" else "Zero", dist=s["dist"],
@@ -326,7 +327,7 @@ def fit_garch(
     try:
         res = am.fit(disp="off", show_warning=False, options=options)
     except (ValueError, ArithmeticError, RuntimeError, np.linalg.LinAlgError) as exc:  # reported, never a crash
-        return _fallback(history, base, [f"the optimizer failed ({type(exc).__name__}: {exc})"], [], None)
+        return _fallback(history, base, [f"the optimizer failed ({type(exc).__name__}: {exc})"], data_notes, None)
     try:
         cov = res.param_cov
     except (np.linalg.LinAlgError, ValueError, ZeroDivisionError):
@@ -336,6 +337,7 @@ def fit_garch(
     p, p_se, warn, notes = diagnose(model, params_y.to_dict(), cov, convergence_flag=int(res.convergence_flag),
                                     optimizer_message=str(res.optimization_result.message),
                                     omega_lower=float(omega_lower))
+    notes = data_notes + notes
     params, se = to_decimal(model, params_y, cov)
     a = s["annualization"]
     shift = n * math.log(SCALE)  # Jacobian of y = 100 r
@@ -370,6 +372,29 @@ def fit_garch(
     return GarchFit(**base, **fit_info, term_structure=term.term_structure(path, s["horizons"], a),
                     variance_path=path, forecast_method=method, simulations=sims, seed=seed_used,
                     warnings=(), notes=tuple(notes))
+
+
+OUTLIER_Z = 10.0
+"""Robust z-score above which the largest return gets a note (as the data-quality jump check)."""
+
+
+def _outlier_note(history: PriceHistory, r: np.ndarray) -> list[str]:
+    """A note on the most extreme return when it is more than :data:`OUTLIER_Z` robust s.d. out.
+
+    Robust scale 1.4826 x median absolute deviation (common practice, no source).
+    """
+    med = float(np.median(r))
+    scale = 1.4826 * float(np.median(np.abs(r - med)))
+    if not scale > 0:
+        return []
+    z = np.abs(r - med) / scale
+    i = int(np.argmax(z))
+    if z[i] <= OUTLIER_Z:
+        return []
+    date = pd.Timestamp(history.dates[i + 1]).strftime("%Y-%m-%d")
+    return [(f"the return on {date} ({math.expm1(r[i]):+.1%}) is {z[i]:.0f} robust standard deviations from "
+            "the median: if it is an unadjusted split or a bad tick, fix the data (see 'volbench check'); "
+            "one such return can dominate a GARCH fit")]
 
 
 def _variance_forecast(am, params: np.ndarray, horizon: int, method: str, simulations: int, seed: int) -> np.ndarray:
