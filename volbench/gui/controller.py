@@ -40,7 +40,10 @@ def jobs_for(names: frozenset[str]) -> list[str]:
     touched = set(names)
     if touched & VIEW_INPUTS:
         touched.add("view")
-    return [job for job in ORDER if DEPENDS[job] & touched]
+    for job in ORDER:  # ORDER lists every job after the jobs it depends on
+        if DEPENDS[job] & touched:
+            touched.add(job)
+    return [job for job in ORDER if job in touched]
 
 
 class Results(QObject):

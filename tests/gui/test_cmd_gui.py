@@ -1,0 +1,65 @@
+"""``volbench gui``: one line and exit 2 without a display or without Qt; default sample files."""
+
+from __future__ import annotations
+
+import sys
+
+import pytest
+
+from volbench.cli import main
+from volbench.cli.cmd_gui import default_files, display_problem
+
+
+@pytest.fixture
+def no_display(monkeypatch):
+    for var in ("DISPLAY", "WAYLAND_DISPLAY", "QT_QPA_PLATFORM"):
+        monkeypatch.delenv(var, raising=False)
+    monkeypatch.setattr(sys, "platform", "linux")
+
+
+def test_gui_without_a_display_prints_one_line_and_exits_2(no_display, capsys):
+    assert main(["gui"]) == 2
+    out, err = capsys.readouterr()
+    lines = (out + err).strip().splitlines()
+    assert len(lines) == 1
+    assert "no display available" in lines[0] and "'volbench estimate FILE...'" in lines[0]
+    assert "Traceback" not in out + err
+
+
+def test_gui_without_pyside6_prints_one_line_and_exits_2(monkeypatch, capsys):
+    monkeypatch.setenv("QT_QPA_PLATFORM", "offscreen")
+    monkeypatch.setitem(sys.modules, "volbench.gui.app", None)  # the import now fails
+    assert main(["gui", "x.csv"]) == 2
+    out, err = capsys.readouterr()
+    lines = (out + err).strip().splitlines()
+    assert len(lines) == 1 and "cannot be imported" in lines[0] and "volbench estimate" in lines[0]
+
+
+@pytest.mark.parametrize(("env", "platform", "expected"), [
+    ({}, "linux", "no display available (DISPLAY and WAYLAND_DISPLAY are not set)"),
+    ({"DISPLAY": ":0"}, "linux", None),
+    ({"WAYLAND_DISPLAY": "wayland-0"}, "linux", None),
+    ({"QT_QPA_PLATFORM": "offscreen"}, "linux", None),
+    ({}, "darwin", None),
+    ({}, "win32", None),
+])
+def test_display_problem(env, platform, expected):
+    assert display_problem(env, platform) == expected
+
+
+def test_gui_opens_the_window_with_the_given_files(monkeypatch):
+    from volbench.gui import app
+
+    opened = []
+    monkeypatch.setenv("QT_QPA_PLATFORM", "offscreen")
+    monkeypatch.setattr(app, "run", lambda files: opened.append(list(files)) or 0)
+    assert main(["gui", "a.csv", "b.csv"]) == 0
+    assert main(["gui"]) == 0
+    assert opened[0] == ["a.csv", "b.csv"]
+    assert opened[1] == default_files()
+
+
+def test_default_files_are_the_bundled_samples(monkeypatch, sample_dir):
+    monkeypatch.chdir(sample_dir.parent)
+    files = default_files()
+    assert [f.rsplit("/", 1)[-1] for f in files] == sorted(p.name for p in sample_dir.glob("*.csv"))
