@@ -1,0 +1,178 @@
+"""Benchmark: all six rolling estimators on 500 series x 5,040 daily bars (20 years), window 20.
+
+Run: .venv/bin/pytest -q -s tests/benchmarks/bench_estimators.py -o addopts="--import-mode=importlib"
+
+Prints a table; asserts only that the numbers agree with the baselines (never a timing). Baselines,
+measured in the same run:
+
+(a) a naive ``pandas.Series.rolling(20).apply(python function, raw=True)`` of each estimator (the
+    function computes the estimator from the raw prices of each window), timed on a subset of
+    series and scaled per series to 500 (target: volbench at least 50x faster). EWMA is a
+    recursion over all bars rather than a window statistic, so its naive form is a python loop;
+(b) ``pandas.Series.rolling(20).std()`` for close-to-close over the same 500 series, both from
+    closes (log, diff, rolling std, annualize) and on precomputed returns (rolling std alone)
+    (target: volbench no slower than 1.5x).
+
+Series are consistent random OHLC bars (an open gap, then high/low around open and close), which
+is all the timing needs; generation is excluded from every timing.
+"""
+
+from __future__ import annotations
+
+import math
+import statistics
+import time
+
+import numpy as np
+import pandas as pd
+
+from volbench.data.history import PriceHistory
+from volbench.estimators import ESTIMATOR_KEYS, rolling_vol
+from volbench.estimators.range_based import yang_zhang_k
+
+SERIES = 500
+BARS = 5040
+WINDOW = 20
+NAIVE_SERIES = 5
+A = 252.0
+LN2 = math.log(2.0)
+
+
+def _histories(n_series: int = SERIES, bars: int = BARS, seed: int = 2024) -> list[PriceHistory]:
+    rng = np.random.default_rng(seed)
+    sd = 0.25 / math.sqrt(A)
+    gap = rng.standard_normal((n_series, bars)) * sd * 0.3
+    day = rng.standard_normal((n_series, bars)) * sd * 0.95
+    log_open = np.log(50.0) + np.cumsum(gap + np.concatenate((np.zeros((n_series, 1)), day[:, :-1]), axis=1),
+                                        axis=1)
+    log_close = log_open + day
+    spread = np.abs(rng.standard_normal((2, n_series, bars))) * sd * 0.5
+    log_high = np.maximum(log_open, log_close) + spread[0]
+    log_low = np.minimum(log_open, log_close) - spread[1]
+    dates = pd.bdate_range("2004-01-05", periods=bars).to_numpy()
+    return [PriceHistory(name=f"FICT-{i:03d}", source=None, dates=dates, close=np.exp(log_close[i]),
+                         open=np.exp(log_open[i]), high=np.exp(log_high[i]), low=np.exp(log_low[i]))
+            for i in range(n_series)]
+
+
+# --------------------------------------------------------------------------- naive baseline (a)
+def _naive_window_fns(h: PriceHistory):
+    """Per-window python functions of bar positions (the usual way to feed several columns to
+    rolling.apply), each computing the estimator directly from the window's prices."""
+    o, hi, lo, c = h.open, h.high, h.low, h.close
+
+    def c2c(idx):  # returns r_t for t in the window (closes t-1, t)
+        i = idx.astype(int)
+        r = np.log(c[i] / c[i - 1])
+        return math.sqrt(np.var(r, ddof=1) * A)
+
+    def parkinson(idx):
+        i = idx.astype(int)
+        return math.sqrt(np.mean(np.log(hi[i] / lo[i]) ** 2) / (4 * LN2) * A)
+
+    def garman_klass(idx):
+        i = idx.astype(int)
+        v = np.mean(0.5 * np.log(hi[i] / lo[i]) ** 2 - (2 * LN2 - 1) * np.log(c[i] / o[i]) ** 2)
+        return math.sqrt(v * A)
+
+    def rogers_satchell(idx):
+        i = idx.astype(int)
+        v = np.mean(np.log(hi[i] / c[i]) * np.log(hi[i] / o[i]) + np.log(lo[i] / c[i]) * np.log(lo[i] / o[i]))
+        return math.sqrt(v * A)
+
+    k = yang_zhang_k(WINDOW)
+
+    def yang_zhang(idx):
+        i = idx.astype(int)
+        v_o = np.var(np.log(o[i] / c[i - 1]), ddof=1)
+        v_c = np.var(np.log(c[i] / o[i]), ddof=1)
+        v_rs = np.mean(np.log(hi[i] / c[i]) * np.log(hi[i] / o[i]) + np.log(lo[i] / c[i]) * np.log(lo[i] / o[i]))
+        return math.sqrt((v_o + k * v_c + (1 - k) * v_rs) * A)
+
+    return {"close_to_close": c2c, "parkinson": parkinson, "garman_klass": garman_klass,
+            "rogers_satchell": rogers_satchell, "yang_zhang": yang_zhang}
+
+
+def _naive(h: PriceHistory, key: str) -> pd.Series:
+    pos = pd.Series(np.arange(h.n, dtype=float), index=h.index)
+    if key == "ewma":  # RiskMetrics recursion as a python loop, seeded with the first window's variance
+        r = np.diff(np.log(h.close))
+        out = np.full(h.n, np.nan)
+        v = float(np.var(r[:WINDOW], ddof=1))
+        out[WINDOW] = v
+        for t in range(WINDOW + 1, h.n):
+            v = 0.94 * v + 0.06 * r[t - 1] ** 2
+            out[t] = v
+        return pd.Series(np.sqrt(out * A), index=h.index).dropna()
+    fn = _naive_window_fns(h)[key]
+    if key in ("close_to_close", "yang_zhang"):
+        pos = pos.iloc[1:]  # these need the previous close
+    return pos.rolling(WINDOW).apply(fn, raw=True).dropna()
+
+
+# --------------------------------------------------------------------------------- helpers
+def _best_of(fn, repeats: int) -> tuple[float, float]:
+    """(median, fastest) wall time in seconds; the fastest shows the cost without interference from
+    other processes on a shared machine."""
+    times = []
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        fn()
+        times.append(time.perf_counter() - t0)
+    return statistics.median(times), min(times)
+
+
+def test_bench_rolling_estimators():
+    hs = _histories()
+    closes = [pd.Series(h.close, index=h.index) for h in hs]
+    returns = [np.log(s).diff() for s in closes]
+    sqrt_a = math.sqrt(A)
+
+    # correctness first (not timed): volbench equals both baselines
+    for key in ESTIMATOR_KEYS:
+        ours = rolling_vol(hs[0], key, WINDOW).values
+        naive = _naive(hs[0], key)
+        pd.testing.assert_series_equal(ours, naive, check_names=False, rtol=1e-9)
+    pandas_c2c = (returns[0].rolling(WINDOW).std() * sqrt_a).dropna()
+    pd.testing.assert_series_equal(rolling_vol(hs[0], "close_to_close", WINDOW).values, pandas_c2c,
+                                   check_names=False, rtol=1e-9)
+
+    # warm-up
+    for key in ESTIMATOR_KEYS:
+        rolling_vol(hs[1], key, WINDOW)
+
+    ours: dict[str, tuple[float, float]] = {}
+    for key in ESTIMATOR_KEYS:
+        ours[key] = _best_of(lambda key=key: [rolling_vol(h, key, WINDOW) for h in hs], repeats=5)
+    all_six = _best_of(lambda: [rolling_vol(h, k, WINDOW) for h in hs for k in ESTIMATOR_KEYS], repeats=3)
+
+    pd_from_close = _best_of(lambda: [np.log(s).diff().rolling(WINDOW).std() * sqrt_a for s in closes], repeats=5)
+    pd_std_only = _best_of(lambda: [r.rolling(WINDOW).std() for r in returns], repeats=5)
+
+    naive: dict[str, float] = {}
+    subset = hs[:NAIVE_SERIES]
+    for key in ESTIMATOR_KEYS:
+        t0 = time.perf_counter()
+        for h in subset:
+            _naive(h, key)
+        naive[key] = (time.perf_counter() - t0) * SERIES / NAIVE_SERIES  # scaled to 500 series
+
+    print()
+    print(f"Rolling estimators, {SERIES} series x {BARS} daily bars, window {WINDOW} "
+          f"(median / fastest of repeated runs, seconds)")
+    print(f"{'estimator':<16} {'volbench':>16} {'naive apply (a)':>16} {'(a)/volbench':>13}")
+    for key in ESTIMATOR_KEYS:
+        med, best = ours[key]
+        print(f"{key:<16} {med:>7.3f} / {best:<7.3f} {naive[key]:>16.1f} {naive[key] / med:>12.0f}x")
+    naive_total = sum(naive.values())
+    print(f"{'all six':<16} {all_six[0]:>7.3f} / {all_six[1]:<7.3f} {naive_total:>16.1f} "
+          f"{naive_total / all_six[0]:>12.0f}x")
+    print(f"(a) naive timed on {NAIVE_SERIES} series, scaled x{SERIES // NAIVE_SERIES}; EWMA is a recursion, not a "
+          "window statistic, so its naive baseline is a plain python loop over bars")
+    c2c_med, c2c_best = ours["close_to_close"]
+    print(f"close-to-close vs pandas rolling std (b), {SERIES} series:")
+    print(f"  pandas log/diff/rolling(20).std()/annualize: {pd_from_close[0]:.3f} / {pd_from_close[1]:.3f} s"
+          f"  -> volbench/pandas = {c2c_med / pd_from_close[0]:.2f} (median), {c2c_best / pd_from_close[1]:.2f} (fastest)")
+    print(f"  pandas rolling(20).std() on precomputed returns: {pd_std_only[0]:.3f} / {pd_std_only[1]:.3f} s"
+          f"  -> volbench/pandas = {c2c_med / pd_std_only[0]:.2f} (median), {c2c_best / pd_std_only[1]:.2f} (fastest)")
+    print("targets: (a)/volbench >= 50x for every estimator; volbench/pandas <= 1.5 for close-to-close")
