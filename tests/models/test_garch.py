@@ -279,3 +279,10 @@ def test_an_unadjusted_split_gets_a_note_naming_its_date(arch_path, percent_hist
     assert any(f"the return on {day} (" in n and "unadjusted split or a bad tick" in n for n in fit.notes)
     clean = fit_garch(percent_history(np.delete(y, 500)), "garch")
     assert not any("robust standard deviations" in n for n in clean.notes)
+
+
+def test_oversized_egarch_simulation_is_refused(make_history):
+    h = make_history(np.linspace(10, 12, 300))
+    with pytest.raises(VolbenchError, match=r"would simulate 100000 paths x 2520 bars, more than 20,000,000"):
+        fit_garch(h, "egarch", simulations=100_000, horizons=(2520,))
+    fit_garch(h, "garch", simulations=100_000, horizons=(2520,))  # nothing simulated: accepted

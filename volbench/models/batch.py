@@ -18,7 +18,13 @@ from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wai
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.models.compare import GarchComparison, check_models, fit_models
-from volbench.models.garch import DEFAULT_SEED, DEFAULT_SIMULATIONS, MODELS, check_settings
+from volbench.models.garch import (
+    DEFAULT_SEED,
+    DEFAULT_SIMULATIONS,
+    MODELS,
+    check_settings,
+    check_simulation_budget,
+)
 from volbench.models.term import DEFAULT_TERM_HORIZONS
 from volbench.types import DEFAULT_ANNUALIZATION
 
@@ -122,6 +128,7 @@ def fit_many(
     keys = check_models(models)
     settings = check_settings(dist=dist, mean=mean, horizons=horizons, annualization=annualization,
                               seed=seed, simulations=simulations, max_iterations=max_iterations)
+    check_simulation_budget(keys, settings)
     if processes is not None and (isinstance(processes, bool) or not isinstance(processes, int) or processes < 1):
         raise VolbenchError(f"processes must be a whole number >= 1 or None, got {processes!r}")
     for h in hs:

@@ -17,6 +17,7 @@ from volbench.models.garch import (
     GarchFit,
     check_model,
     check_settings,
+    check_simulation_budget,
     fit_garch,
 )
 from volbench.models.term import DEFAULT_TERM_HORIZONS
@@ -162,6 +163,7 @@ def fit_models(
     keys = check_models(models)
     s = check_settings(dist=dist, mean=mean, horizons=horizons, annualization=annualization, seed=seed,
                        simulations=simulations, max_iterations=max_iterations)
+    check_simulation_budget(keys, s)
     fits = tuple(fit_garch(history, m, **s) for m in keys)
     return rank(history.name, fits)
 

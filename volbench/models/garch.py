@@ -89,6 +89,20 @@ def check_model(model) -> str:
     return _choice(model, MODELS, "model")
 
 
+MAX_SIMULATED_VALUES = 20_000_000
+"""Cap on paths x bars of one EGARCH simulation forecast (arch keeps several such arrays)."""
+
+
+def check_simulation_budget(models: Iterable[str], settings: dict) -> None:
+    """Refuse an EGARCH simulation forecast too large for memory (paths x bars > the cap)."""
+    if "egarch" not in models:
+        return
+    bars = max(252, max(settings["horizons"]))
+    if settings["simulations"] * bars > MAX_SIMULATED_VALUES:
+        raise VolbenchError(f"the EGARCH forecast would simulate {settings['simulations']} paths x {bars} bars, "
+                            f"more than {MAX_SIMULATED_VALUES:,}; use fewer simulations or shorter horizons")
+
+
 def _none_if_nan(x: float | None) -> float | None:
     return None if x is None or not math.isfinite(x) else float(x)
 
@@ -303,6 +317,7 @@ def fit_garch(
     model = check_model(model)
     s = check_settings(dist=dist, mean=mean, horizons=horizons, annualization=annualization,
                        seed=seed, simulations=simulations, max_iterations=max_iterations)
+    check_simulation_budget((model,), s)
     r = history.log_returns()
     n = int(r.size)
     if n < 2:
