@@ -312,7 +312,8 @@ def fit_garch(
     METHODS.md); for EGARCH (Nelson 1991), whose multi-step forecast has no closed form, ``arch``'s
     simulation forecast with ``simulations`` paths drawn by a seeded numpy Generator from the
     fitted innovation distribution. Both come from the volatility process's ``forecast`` (what
-    ``ARCHModelResult.forecast`` calls; identical numbers, without its mean-path bookkeeping). Term structure vol(T) = sqrt(A mean_{h<=T} E[s2_{t+h}]).
+    ``ARCHModelResult.forecast`` calls; identical numbers, without its mean-path bookkeeping).
+    Term structure vol(T) = sqrt(A mean_{h<=T} E[s2_{t+h}]) (METHODS.md).
     """
     model = check_model(model)
     s = check_settings(dist=dist, mean=mean, horizons=horizons, annualization=annualization,
