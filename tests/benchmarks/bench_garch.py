@@ -10,7 +10,9 @@ Reports, in one run:
   baseline). Timings are interleaved so that load from other processes hits all of them alike.
 - :func:`volbench.models.fit_many` on 100 series of 2,520 bars: serial (``processes=1``) and two
   worker processes, started with ``fork`` and with ``forkserver`` (the safe default when a GUI
-  or other threads run), wall time and speed-up over serial.
+  or other threads run), wall time and speed-up over serial; with the machine's parallel
+  capacity measured in the same run (two pure-Python spin loops in two processes vs one), since
+  the machine is shared and a speed-up cannot exceed it.
 """
 
 from __future__ import annotations
@@ -29,7 +31,7 @@ from volbench.models.garch import DEFAULT_TERM_HORIZONS, _variance_forecast
 from volbench.models.term import term_structure
 
 BARS = 5040
-REPEATS = 15
+REPEATS = 25
 SERIES = 100
 SERIES_BARS = 2520
 TARGET_RATIO = 1.2
@@ -100,6 +102,26 @@ def test_bench_single_fit():
           f"nu {fit.params['nu']:.2f} (true 0.08, 0.90, 6.0)")
 
 
+def _spin(_=None) -> float:
+    t = time.perf_counter()
+    x = 0
+    for i in range(15_000_000):
+        x += i
+    return time.perf_counter() - t
+
+
+def _parallel_capacity() -> float:
+    """How much faster two CPU-bound processes finish two jobs than one process does: the ceiling
+    on any speed-up here (2.0 on two idle cores; less when other work shares the machine)."""
+    one = _spin() + _spin()
+    ctx = multiprocessing.get_context("fork" if "fork" in multiprocessing.get_all_start_methods() else "spawn")
+    with ctx.Pool(2) as pool:
+        pool.map(abs, [0, 1])  # workers started before timing
+        t = time.perf_counter()
+        pool.map(_spin, [0, 1], chunksize=1)
+        return one / (time.perf_counter() - t)
+
+
 def test_bench_many_series():
     hs = [_history(SERIES_BARS, 100 + i, name=f"S{i:03d}") for i in range(SERIES)]
     kw = {"models": "garch", "dist": "t"}
@@ -109,7 +131,9 @@ def test_bench_many_series():
         if method in multiprocessing.get_all_start_methods():
             ctx = multiprocessing.get_context(method)
             rows.append((f"2 processes, {method}", _timed(lambda c=ctx: fit_many(hs, processes=2, mp_context=c, **kw))))
+    capacity = _parallel_capacity()
     print(f"\nfit_many: {SERIES} series x {SERIES_BARS} bars, GARCH(1,1)-t, {os.cpu_count()} CPUs "
-          f"(load average {os.getloadavg()[0]:.1f}):")
+          f"(load average {os.getloadavg()[0]:.1f}; two spinning processes run {capacity:.2f}x one, "
+          "the ceiling for any speed-up now):")
     for label, secs in rows:
         print(f"  {label:<26} {secs:6.2f} s   speed-up {t_serial / secs:4.2f}x")
