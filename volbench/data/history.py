@@ -216,11 +216,18 @@ class PriceHistory:
         return replace(self, dates=self.dates[mask], lines=self.lines[mask], **cols, **changes)
 
     def up_to(self, as_of: str | np.datetime64 | pd.Timestamp | None) -> PriceHistory:
-        """Rows dated on or before ``as_of`` (inclusive); the whole history when ``None``."""
+        """Rows dated on or before ``as_of`` (inclusive); the whole history when ``None``.
+
+        A plain date includes every row stamped during that day; a date with a time of day
+        includes rows up to that instant.
+        """
         if as_of is None:
             return self
         ts = parse_as_of(as_of)
-        mask = self.dates <= np.datetime64(ts.to_datetime64(), "ns") + np.timedelta64(1, "D") - np.timedelta64(1, "ns")
+        end = np.datetime64(ts.to_datetime64(), "ns")
+        if ts == ts.normalize():
+            end = end + np.timedelta64(1, "D") - np.timedelta64(1, "ns")
+        mask = self.dates <= end
         if not mask.any():
             raise VolbenchError(
                 f"{self.name}: as-of date {ts.date()} is before the first row ({self.first_date}); "
