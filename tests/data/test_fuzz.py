@@ -77,10 +77,12 @@ def test_random_bytes(data):
     delim=st.sampled_from(DELIMS),
     exclude=st.booleans(),
     adjusted=st.booleans(),
+    date_format=st.sampled_from([None, None, "%d/%m/%Y", "%Y%m%d", "%Y-%m-%d %H:%M%z", "%Q", "%"]),
 )
-def test_random_headers_and_cells(header, rows, delim, exclude, adjusted):
+def test_random_headers_and_cells(header, rows, delim, exclude, adjusted, date_format):
     text = delim.join(header) + "\n" + "".join(delim.join(r) + "\n" for r in rows)
-    _check(text.encode("utf-8", "surrogatepass"), exclude_flagged=exclude, use_adjusted=adjusted)
+    _check(text.encode("utf-8", "surrogatepass"), exclude_flagged=exclude, use_adjusted=adjusted,
+           date_format=date_format)
 
 
 @st.composite

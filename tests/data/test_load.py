@@ -245,3 +245,11 @@ def test_no_usable_rows(tmp_path):
     with pytest.raises(VolbenchError, match=r"prices.csv: series 'prices' has no usable rows \(3 rows, all with "
                                             r"missing, non-numeric or non-positive prices\)"):
         load_prices(p)
+
+
+def test_up_to_with_a_time_of_day(tmp_path):
+    text = "Date,Close\n2021-03-01 10:00,10\n2021-03-01 15:00,11\n2021-03-02 10:00,12\n2021-03-03 10:00,13\n"
+    (h,) = load_prices(_write(tmp_path, text))
+    assert h.up_to("2021-03-01").n == 2  # a plain date covers the whole day
+    assert h.up_to("2021-03-01 12:00").n == 1  # a time of day is an instant
+    assert h.up_to("2021-03-02 09:59").n == 2
