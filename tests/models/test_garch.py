@@ -137,6 +137,7 @@ def test_information_criteria_follow_their_definitions(arch_path):
 
 # ------------------------------------------------------------------------------ forward_vol / as_dict
 def test_forward_vol_matches_the_term_structure_and_interpolates(arch_path):
+    # consistency of our own API (no external source): forward_vol(T) is the term-structure vol
     h, _ = arch_path("garch", [0.02, 0.05, 0.08, 0.88], 1500, seed=12)
     fit = fit_garch(h, "garch")
     ts = dict(zip(fit.term_structure["horizon"], fit.term_structure["vol"]))
@@ -163,6 +164,7 @@ def test_as_dict_is_json_safe_with_the_issue_shape(arch_path, make_history):
 
 # ------------------------------------------------------------------------------ honest failure
 def test_constant_series_falls_back_with_a_warning(make_history):
+    # common practice, no source: constant prices have zero return variance, so EWMA gives 0
     h = make_history(np.full(400, 50.0))
     fit = fit_garch(h, "garch")
     assert not fit.fitted and not fit.converged

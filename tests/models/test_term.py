@@ -93,6 +93,7 @@ def test_average_of_a_path_matches_a_plain_loop():
 
 
 def test_fractional_days_interpolate_total_variance():
+    # our convention (common practice, no source): total variance linear within a bar
     v = np.array([1.0, 2.0, 3.0, 4.0])
     assert term.interpolate_average_variance(v, 2) == pytest.approx(1.5)
     assert term.interpolate_average_variance(v, 2.5) == pytest.approx((1 + 2 + 0.5 * 3) / 2.5)
