@@ -26,7 +26,7 @@ def test_brownian_history_is_consistent_with_every_property(history_from_returns
     # Theory: a Gaussian random walk with no drift has all four properties; seeded, 2520 bars of
     # 1 % daily vol. Not every seed passes all four: each test rejects 5 % of the time, and the
     # 60-bar vol is more than 10 % off sqrt-time scaling by chance about a quarter of the time,
-    # which the rule calls "doubtful" (see the batch test below for the rates).
+    # which the sentence mentions without changing the status (see the batch test below for the rates).
     r = np.random.default_rng(1234).standard_normal(2520) * 0.01
     res = scaling_check(history_from_returns(r, name="brown"))
     assert [v.property for v in res.verdicts] == list(PROPERTIES)
@@ -49,13 +49,17 @@ def test_verdicts_reject_brownian_motion_at_about_the_nominal_rate(history_from_
     # conservative, Lo & MacKinlay 1988 / Chow & Denning 1993; Ljung-Box with Bonferroni
     # conservative; t-test exact; Jarque-Bera asymptotic). 150 seeded series of 1260 bars:
     # "rejected" at most 10 % for every property (binomial sd 1.8 %).
+    # "doubtful" for variance scaling is the band alpha <= p < 2 alpha only: at most 15 %.
     rejected = dict.fromkeys(PROPERTIES, 0)
+    doubtful_scaling = 0
     rng = np.random.default_rng(99)
     for _ in range(150):
         res = scaling_check(history_from_returns(rng.standard_normal(1260) * 0.01))
         for v in res.verdicts:
             rejected[v.property] += v.status == "rejected"
+        doubtful_scaling += res.verdict("variance_proportional_to_horizon").status == "doubtful"
     assert all(count / 150 <= 0.10 for count in rejected.values()), rejected
+    assert doubtful_scaling / 150 <= 0.15, doubtful_scaling
 
 
 def test_mean_reverting_returns_reject_proportional_variance(history_from_returns, ar1_returns):
@@ -220,17 +224,18 @@ def test_excluded_flagged_rows_are_surfaced(sample_dir):
     assert any("rows flagged by data-quality warnings were excluded" in n for n in b.notes)
 
 
-def test_large_but_insignificant_variance_gap_is_doubtful_and_says_so():
+def test_large_but_insignificant_variance_gap_is_described_but_stays_consistent():
     # Rule of this module (common practice, no source): a >= 10 % gap between the measured h-bar vol
-    # and sqrt-time scaling is "doubtful" even when the joint test does not reject; the sentence
-    # names the horizon with the largest gap and says the gap is within sampling noise.
+    # and sqrt-time scaling that the joint test does not reject keeps the status "consistent" (long
+    # horizons are noisy); the sentence names the horizon with the largest gap and says the gap is
+    # within sampling noise.
     vr = np.array([1.0, 0.98, 0.72, 0.95])
     tab = pd.DataFrame({"h": [1, 2, 20, 60], "variance_ratio": vr, "vol_ratio": np.sqrt(vr),
                         "n_nonoverlap": [1000, 500, 50, 16], "sqrt_time_vol": 0.30,
                         "annualized_vol": 0.30 * np.sqrt(vr)})
     fit = LogLogFit(0.97, -8.0, 0.03, (0.91, 1.03), 0.95)
     v = variance_verdict(tab, 1.2, 0.40, fit, 0.05)
-    assert v.status == "doubtful"
+    assert v.status == "consistent"
     assert v.message.startswith("20-bar variance is 28% below 20 x 1-bar variance (25.5% measured vs 30.0%")
     assert "within sampling noise (Chow-Denning p = 0.400)" in v.message
     assert "rests on 50 non-overlapping periods" in v.message
