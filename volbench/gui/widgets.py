@@ -216,10 +216,17 @@ class Plot(pg.PlotWidget):
 
     def __init__(self, object_name: str, *, title: str = "", left: str = "", bottom: str = "",
                  date_axis: bool = False, parent: QWidget | None = None) -> None:
-        axis = {"bottom": pg.DateAxisItem(orientation="bottom")} if date_axis else None
+        axis = None
+        if date_axis:
+            # major date ticks only: minor ones add hundreds of grid lines to every repaint
+            axis = {"bottom": pg.DateAxisItem(orientation="bottom", maxTickLevel=0)}
         super().__init__(parent=parent, axisItems=axis)
         self.setObjectName(object_name)
         style_plot(self, left=left, bottom=bottom)
+        if date_axis:
+            # horizontal grid lines only: vertical ones across long date ranges cost more to paint
+            # than the data (see tests/benchmarks/bench_gui.py) and add little to a time series
+            self.getPlotItem().showGrid(x=False, y=True, alpha=palette.GRID_ALPHA)
         if title:
             self.getPlotItem().setTitle(title, color=palette.FOREGROUND, size="10pt")
         self.setMinimumSize(260, 180)

@@ -29,8 +29,9 @@ class RollingPane(QWidget):
         self.legend = self.plot.legend(offset=(10, 10), colCount=3)
         self.lines: dict[str, pg.PlotDataItem] = {}
         for key, spec in REGISTRY.items():
-            self.lines[key] = self.plot.plot([], [], pen=pg.mkPen(palette.estimator_colour(key), width=1.5),
-                                             name=spec.label)
+            # one-pixel (cosmetic) pens draw several times faster than wider ones on long series
+            self.lines[key] = self.plot.plot([], [], pen=pg.mkPen(palette.estimator_colour(key), width=1),
+                                             name=spec.label, skipFiniteCheck=True)
         self.pricing_line = pg.InfiniteLine(
             angle=0, movable=False, pen=pg.mkPen(palette.PRICING_VOL, width=1.6, style=Qt.PenStyle.DashLine),
             label="pricing vol {value:.1f} %", labelOpts={"position": 0.03, "color": palette.PRICING_VOL,
@@ -68,6 +69,7 @@ class RollingPane(QWidget):
         self.card = Card(split, "rolling_card")
         lay = QVBoxLayout(self)
         lay.addWidget(self.card)
+        self._title = ""
         self._x: dict[str, np.ndarray] = {}
         self._y: dict[str, np.ndarray] = {}
         results.updated.connect(self._on_results)
@@ -104,9 +106,10 @@ class RollingPane(QWidget):
             line.setData(x, y)
         self._apply_visibility()
         self._render_pricing()
-        self.plot.getPlotItem().setTitle(
-            f"Rolling {rolling.window}-bar volatility, annualized with {rolling.annualization:g} bars/yr",
-            color=palette.FOREGROUND, size="10pt")
+        title = f"Rolling {rolling.window}-bar volatility, annualized with {rolling.annualization:g} bars/yr"
+        if title != self._title:
+            self.plot.getPlotItem().setTitle(title, color=palette.FOREGROUND, size="10pt")
+            self._title = title
         self.plot.enableAutoRange()
         self._render_table()
         self.card.show_content()
