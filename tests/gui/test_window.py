@@ -211,3 +211,15 @@ def test_crosshair_readout_names_the_date_and_each_visible_value(make_window, ke
     text = pane.readout_text(float(x))
     assert "<b>2021-06-01</b>" in text
     assert text.count("%") == len(REGISTRY) - 1 and "EWMA" not in text
+
+
+def test_clicking_a_legend_entry_hides_that_line_only(make_window, kestrel):
+    w = make_window()
+    w.open_files([kestrel])
+    pane = w.panes["rolling"]
+    pane.toggle_from_legend("yang_zhang")
+    assert not line(w, "rolling_plot", "Yang-Zhang").isVisible()
+    assert line(w, "rolling_plot", "Close-to-close").isVisible()
+    assert "yang_zhang" in w.state.estimators  # a view choice, not a change of the analysis
+    pane.toggle_from_legend("yang_zhang")
+    assert line(w, "rolling_plot", "Yang-Zhang").isVisible()

@@ -6,6 +6,7 @@ from __future__ import annotations
 import math
 from pathlib import Path
 
+import numpy as np
 import pandas as pd
 import pyqtgraph as pg
 from pyqtgraph.exporters import ImageExporter
@@ -240,6 +241,21 @@ class Plot(pg.PlotWidget):
         kw.setdefault("offset", (10, 10))
         return self.addLegend(labelTextColor=palette.FOREGROUND, brush=pg.mkBrush(255, 255, 255, 215),
                               pen=pg.mkPen("#D3D6CD"), **kw)
+
+    def fit_view(self, arrays, headroom: float = 0.3) -> None:
+        """Auto-range x; fit y to ``arrays`` with ``headroom`` (share of the span) on top for the legend."""
+        vals = [np.asarray(a, dtype=float) for a in arrays if a is not None and len(a)]
+        self.enableAutoRange(axis="x")
+        if not vals:
+            self.enableAutoRange(axis="y")
+            return
+        both = np.concatenate(vals)
+        both = both[np.isfinite(both)]
+        if not len(both):
+            return
+        lo, hi = float(both.min()), float(both.max())
+        span = (hi - lo) or max(abs(hi), 1.0)
+        self.setYRange(lo - 0.04 * span, hi + headroom * span, padding=0)
 
     def save_image(self, path: str | Path) -> Path:
         """Write the plot to ``path``; the suffix chooses the format (.png or .svg).

@@ -47,7 +47,7 @@ class ModelPane(QWidget):
         self.cond_legend = self.cond_plot.legend(offset=(10, 10))
         self.term_plot = Plot("garch_term_plot", title="Forward volatility over an option's life",
                               left="Annualized volatility (%)", bottom="Option life (bars)")
-        self.term_legend = self.term_plot.legend(offset=(10, 10))
+        self.term_legend = self.term_plot.legend(offset=(-10, -10))
         self.cond_pricing = pg.InfiniteLine(angle=0, pen=pg.mkPen(palette.PRICING_VOL, width=1.4,
                                                                   style=Qt.PenStyle.DashLine))
         self.term_pricing = pg.ScatterPlotItem(symbol="star", size=16, pen=pg.mkPen(palette.PRICING_VOL),
@@ -119,12 +119,14 @@ class ModelPane(QWidget):
         for plot, legend in ((self.cond_plot, self.cond_legend), (self.term_plot, self.term_legend)):
             plot.clear()
             legend.clear()
+        cond = []
         for fit in comp.fits:
             name = fit.label + (" (preferred)" if fit.model == comp.preferred else "")
             cv = fit.conditional_vol
             if len(cv):
-                self.cond_plot.plot(epoch_seconds(cv.index.to_numpy()), cv.to_numpy() * 100.0,
-                                    pen=_pen(fit.model), name=name)
+                cond.append(cv.to_numpy() * 100.0)
+                self.cond_plot.plot(epoch_seconds(cv.index.to_numpy()), cond[-1], pen=_pen(fit.model, 1),
+                                    name=name, skipFiniteCheck=True)
             ts = fit.term_structure
             if len(ts):
                 self.term_plot.plot(ts["horizon"].to_numpy(dtype=float), ts["vol"].to_numpy(dtype=float) * 100.0,
@@ -137,8 +139,8 @@ class ModelPane(QWidget):
         self.term_pricing.setData([days], [100.0 * pv])
         self.term_plot.addItem(self.term_pricing)
         self.term_legend.addItem(self.term_pricing, f"pricing vol at {days} bars")
-        for plot in (self.cond_plot, self.term_plot):
-            plot.enableAutoRange()
+        self.cond_plot.fit_view(cond + [[100.0 * pv]], headroom=0.35)
+        self.term_plot.enableAutoRange()
 
         rows, raw = [], []
         for fit in comp.fits:
@@ -153,7 +155,9 @@ class ModelPane(QWidget):
                         "days": days, "notes": notes})
         self.fit_table.set_frame(pd.DataFrame(rows, columns=FIT_COLUMNS), pd.DataFrame(raw),
                                  right=FIT_COLUMNS[3:9])
-        self.message.setText(f"<b>{comp.name}</b>: {comp.message} Forward vol is for an option of "
+        message = comp.message.rstrip()
+        message += "" if message.endswith(".") else "."
+        self.message.setText(f"<b>{comp.name}</b>: {message} Forward vol is for an option of "
                              f"{days} bars; * marks the preferred model (lowest BIC among usable fits).")
         self.card.show_content()
 

@@ -26,7 +26,7 @@ class PricePane(QWidget):
         self.legend = self.plot.legend(offset=(10, 10))
         self.line = self.plot.plot([], [], pen=pg.mkPen(palette.PRICE_LINE, width=1.4), name="Close")
         self.flagged = pg.ScatterPlotItem(symbol="x", size=11, pen=pg.mkPen(palette.FLAGGED, width=2),
-                                          brush=pg.mkBrush(palette.FLAGGED), name="Flagged row (kept)")
+                                          brush=pg.mkBrush(palette.FLAGGED))
         self.plot.addItem(self.flagged)
         self.legend.addItem(self.flagged, "Flagged row")
         self.as_of_line = pg.InfiniteLine(angle=90, pen=pg.mkPen(palette.REFERENCE, width=1,

@@ -28,10 +28,18 @@ class RollingPane(QWidget):
         self.plot = Plot("rolling_plot", left="Annualized volatility (%)", bottom="Date", date_axis=True)
         self.legend = self.plot.legend(offset=(10, 10), colCount=3)
         self.lines: dict[str, pg.PlotDataItem] = {}
+        self.keys: dict[pg.PlotDataItem, str] = {}
+        self.muted: set[str] = set()  # estimators switched off by clicking their legend entry
         for key, spec in REGISTRY.items():
+            colour = palette.estimator_colour(key)
             # one-pixel (cosmetic) pens draw several times faster than wider ones on long series
-            self.lines[key] = self.plot.plot([], [], pen=pg.mkPen(palette.estimator_colour(key), width=1),
-                                             name=spec.label, skipFiniteCheck=True)
+            self.lines[key] = self.plot.plot([], [], pen=pg.mkPen(colour, width=1), skipFiniteCheck=True)
+            self.lines[key].opts["name"] = spec.label
+            # the legend shows a thick sample of the same colour; clicking it toggles the line
+            sample = pg.PlotDataItem(pen=pg.mkPen(colour, width=3))
+            self.keys[sample] = key
+            self.legend.addItem(sample, spec.label)
+        self.legend.sigSampleClicked.connect(self._on_legend_click)
         self.pricing_line = pg.InfiniteLine(
             angle=0, movable=False, pen=pg.mkPen(palette.PRICING_VOL, width=1.6, style=Qt.PenStyle.DashLine),
             label="pricing vol {value:.1f} %", labelOpts={"position": 0.03, "color": palette.PRICING_VOL,
@@ -87,6 +95,8 @@ class RollingPane(QWidget):
             self._render_table()
         if "pricing_vol" in names:
             self._render_pricing()
+        if names & {"estimators", "pricing_vol"} and self._y:
+            self._fit()
 
     def render(self) -> None:
         rolling = self.results.get("rolling")
@@ -106,16 +116,36 @@ class RollingPane(QWidget):
             line.setData(x, y)
         self._apply_visibility()
         self._render_pricing()
+        self._fit()
         title = f"Rolling {rolling.window}-bar volatility, annualized with {rolling.annualization:g} bars/yr"
         if title != self._title:
             self.plot.getPlotItem().setTitle(title, color=palette.FOREGROUND, size="10pt")
             self._title = title
-        self.plot.enableAutoRange()
         self._render_table()
         self.card.show_content()
 
+    def _fit(self) -> None:
+        chosen = [k for k in self.state.estimators if k in self._y and k not in self.muted]
+        self.plot.fit_view([self._y[k] for k in chosen] + [[100.0 * self.state.pricing_vol]], headroom=0.25)
+
+    def _on_legend_click(self, sample) -> None:
+        key = self.keys.get(sample)
+        if key is None:
+            return
+        if sample.isVisible():
+            self.muted.discard(key)
+        else:
+            self.muted.add(key)
+        self._apply_visibility()
+
+    def toggle_from_legend(self, key: str) -> None:
+        """What a click on ``key``'s legend entry does (tests and keyboard users)."""
+        sample = next(s for s, k in self.keys.items() if k == key)
+        sample.setVisible(not sample.isVisible())
+        self._on_legend_click(sample)
+
     def _apply_visibility(self) -> None:
-        chosen = set(self.state.estimators)
+        chosen = set(self.state.estimators) - self.muted
         for key, line in self.lines.items():
             line.setVisible(key in chosen and key in self._x)
 

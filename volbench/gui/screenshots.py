@@ -1,0 +1,77 @@
+"""Write the README screenshots: the whole window and each pane, with the bundled sample data.
+
+Run ``QT_QPA_PLATFORM=offscreen python -m volbench.gui.screenshots --out resources/screenshots``.
+Settings are redirected to a temporary folder, so the user's remembered settings are untouched.
+"""
+
+from __future__ import annotations
+
+import argparse
+import tempfile
+from pathlib import Path
+
+from PySide6.QtCore import QSettings
+
+from volbench.cli.cmd_gui import default_files
+
+SIZE = (1600, 1000)
+# pane key -> (file name, series shown)
+SHOTS = {
+    "data": ("data.png", "quillon_textiles"),
+    "prices": ("prices.png", "quillon_textiles"),
+    "rolling": ("rolling.png", "ironvale_mining"),
+    "scaling": ("scaling.png", "ironvale_mining"),
+    "cone": ("cone.png", "ironvale_mining"),
+    "model": ("model.png", "ironvale_mining"),
+}
+
+
+def write_screenshots(out: str | Path, files=None) -> list[Path]:
+    """Save window.png and one PNG per pane into ``out``; returns the paths written."""
+    out = Path(out)
+    out.mkdir(parents=True, exist_ok=True)
+    with tempfile.TemporaryDirectory() as tmp:
+        QSettings.setPath(QSettings.Format.IniFormat, QSettings.Scope.UserScope, tmp)
+        from volbench.gui.app import application
+        from volbench.gui.state import Choices
+        from volbench.gui.window import MainWindow
+
+        app = application()
+        w = MainWindow(synchronous=True, choices=Choices(garch_model="all"))
+        w.resize(*SIZE)
+        w.show()
+        w.open_files(list(files or default_files()))
+        written = []
+        for key, (name, series) in SHOTS.items():
+            if any(h.name == series for h in w.state.histories):
+                w.state.set("selected", series)
+            w.tabs.setCurrentWidget(w.panes[key])
+            if key == "model":
+                w.fit_all_series()
+            for _ in range(3):
+                app.processEvents()
+            path = out / name
+            w.panes[key].grab().save(str(path))
+            written.append(path)
+        w.tabs.setCurrentWidget(w.panes["rolling"])
+        for _ in range(3):
+            app.processEvents()
+        path = out / "window.png"
+        w.grab().save(str(path))
+        written.append(path)
+        w.close()
+    return written
+
+
+def main(argv: list[str] | None = None) -> int:
+    ap = argparse.ArgumentParser(prog="python -m volbench.gui.screenshots", description=__doc__.splitlines()[0])
+    ap.add_argument("--out", default="resources/screenshots", help="folder to write into")
+    ap.add_argument("files", nargs="*", help="price files (default: the bundled samples)")
+    args = ap.parse_args(argv)
+    for p in write_screenshots(args.out, args.files or None):
+        print(p)
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
