@@ -149,16 +149,23 @@ def _parse_rows(table: RawTable, date_format: str | None, use_adjusted: bool):
         values[canon] = num
     if close_key == "adj_close" and "close" in table.columns:
         raw_close = parse_numbers(pd.Series(table.columns["close"], dtype=object), decimal_comma).to_numpy(float)
-        factor = values["close"] / raw_close
+        with np.errstate(divide="ignore", over="ignore", invalid="ignore"):  # judged just below
+            factor = values["close"] / raw_close
+            scaled = {c: values[c] * factor for c in ("open", "high", "low") if c in values}
         bad_factor = ~(factor > 0) | ~np.isfinite(factor)
         for i in np.flatnonzero(bad_factor & ~unusable):
             findings.append(Finding("error", "non_positive", lines[i], date_iso[i], "close",
                                     f"line {lines[i]}: close is missing or not positive, so the adjustment "
                                     "factor cannot be applied to open/high/low; row left out", (lines[i],)))
         unusable |= bad_factor
-        for c in ("open", "high", "low"):
-            if c in values:
-                values[c] = values[c] * factor
+        for c, v in scaled.items():
+            out_of_range = ~unusable & ~(np.isfinite(v) & (v > 0))
+            for i in np.flatnonzero(out_of_range):
+                findings.append(Finding("error", "non_numeric", lines[i], date_iso[i], c,
+                                        f"line {lines[i]}: adjusted {c} is out of the range of numbers "
+                                        "(factor adjusted/raw close too extreme); row left out", (lines[i],)))
+            unusable |= out_of_range
+            values[c] = v
     volume = None
     if "volume" in table.columns:
         volume = parse_numbers(pd.Series(table.columns["volume"], dtype=object), decimal_comma).to_numpy(float)
