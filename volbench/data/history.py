@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field, replace
+from functools import cached_property
 from pathlib import Path
 
 import numpy as np
@@ -167,8 +168,9 @@ class PriceHistory:
     def last_date(self) -> str | None:
         return _iso(self.dates[-1]) if self.n else None
 
-    @property
+    @cached_property
     def index(self) -> pd.DatetimeIndex:
+        """The dates as a (immutable) ``DatetimeIndex`` named ``date``, built once per history."""
         return pd.DatetimeIndex(self.dates, name="date")
 
     @property

@@ -117,9 +117,12 @@ def rolling_vol(
     seg = var[first:]
     bad = ~(seg >= 0)
     idx = history.index[first:]
-    values = pd.Series(np.sqrt(np.where(bad, np.nan, seg) * a), index=idx, name=spec.key)
+    if not bad.any():  # the usual case: no inconsistent bars, no masking needed
+        values = pd.Series(np.sqrt(seg * a), index=idx, name=spec.key, copy=False)
+        return RollingVol(spec.key, spec.label, w, a, values, ())
+    values = pd.Series(np.sqrt(np.where(bad, np.nan, seg) * a), index=idx, name=spec.key, copy=False)
     invalid = tuple(_iso(d) for d in history.dates[first:][bad])
-    return RollingVol(spec.key, spec.label, w, a, values[~bad] if bad.any() else values, invalid)
+    return RollingVol(spec.key, spec.label, w, a, values[~bad], invalid)
 
 
 def point_estimate(
