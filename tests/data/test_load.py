@@ -253,3 +253,16 @@ def test_up_to_with_a_time_of_day(tmp_path):
     assert h.up_to("2021-03-01").n == 2  # a plain date covers the whole day
     assert h.up_to("2021-03-01 12:00").n == 1  # a time of day is an instant
     assert h.up_to("2021-03-02 09:59").n == 2
+
+
+def test_extreme_adjustment_factor_is_reported_not_overflowed(tmp_path):
+    text = ("Date,Open,Close,Adj Close\n"
+            "2021-03-01,1e300,1e-10,1\n"   # factor 1e10 pushes open past the float limit
+            "2021-03-02,10,0,1\n"          # raw close 0: no factor
+            "2021-03-03,10,10,5\n"
+            "2021-03-04,10,10,5\n")
+    (h,) = load_prices(_write(tmp_path, text), use_adjusted=True)
+    assert h.n == 2 and np.isfinite(h.open).all()
+    assert [(f.kind, f.line, f.column) for f in h.findings] == [("non_numeric", 2, "open"), ("non_positive", 3, "close")]
+    assert h.findings[0].message == ("line 2: adjusted open is out of the range of numbers (factor adjusted/raw "
+                                     "close too extreme); row left out")

@@ -231,3 +231,20 @@ def test_findings_are_in_line_order_and_serialise(tmp_path):
     assert [f.line for f in h.findings] == sorted(f.line for f in h.findings)
     d = h.findings[0].as_dict()
     assert set(d) == {"severity", "kind", "line", "date", "column", "message"}
+
+
+def test_prices_near_the_float_limit_do_not_overflow(tmp_path):
+    # Found by fuzzing: ratios and range tolerances overflowed (a RuntimeWarning, an error in this
+    # suite). Jumps are judged on log returns; range checks on differences.
+    text = ("Date,Open,High,Low,Close\n"
+            "2021-03-01,1.79e308,1.797e308,1e308,1.5e308\n"
+            "2021-03-02,10,11,9,12\n"
+            "2021-03-03,10,11,9,10\n")
+    (h,) = load_prices(_write(tmp_path, text))
+    assert h.n == 3
+    assert _row(_only(h, "outside_range")) == ("warning", "outside_range", 3, "2021-03-02", "close")
+    c = list(_walk(40, seed=9))
+    c[19], c[20] = 0.5, 1.5e308  # ratio 3e308 exceeds the largest float
+    (j,) = load_prices(_write(tmp_path, _closes_csv(c), "j.csv"))
+    jumps = {f.line: f.message for f in j.findings if f.kind == "jump"}
+    assert sorted(jumps) == [21, 22] and "bad tick" in jumps[22]
