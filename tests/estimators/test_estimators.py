@@ -67,6 +67,7 @@ def test_whole_sample_estimate_on_tiny_table(tiny_ohlc, plain, key):
 
 @pytest.mark.parametrize("key", ESTIMATOR_KEYS)
 def test_rolling_series_equals_plain_loop_on_tiny_table(tiny_ohlc, plain, key):
+    # METHODS.md formulas written as plain loops (sources per estimator in conftest.py).
     h = tiny_ohlc()
     w = 3
     rv = rolling_vol(h, key, w)
