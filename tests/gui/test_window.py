@@ -223,3 +223,25 @@ def test_clicking_a_legend_entry_hides_that_line_only(make_window, kestrel):
     assert "yang_zhang" in w.state.estimators  # a view choice, not a change of the analysis
     pane.toggle_from_legend("yang_zhang")
     assert line(w, "rolling_plot", "Yang-Zhang").isVisible()
+
+
+def test_a_window_longer_than_the_history_says_why_in_the_rolling_pane(make_window, kestrel):
+    w = make_window()
+    w.open_files([kestrel])
+    w.state.set("window", 3000)
+    card = w.findChild(Card, "rolling_card")
+    assert card.currentIndex() == 1
+    assert "No estimator fits a 3000-bar window" in card.message
+    assert "window 3000 needs 3001 rows, history has 1512" in card.message
+
+
+def test_the_cone_estimator_stays_selectable_when_the_cone_cannot_be_built(make_window, sample_dir):
+    w = make_window()
+    w.open_files([sample_dir / "vell_harbour_index.csv"])
+    combo = w.findChild(QComboBox, "cone_estimator_combo")
+    combo.setCurrentIndex(combo.findData("parkinson"))
+    card = w.findChild(Card, "cone_card")
+    assert card.currentIndex() == 1 and "no cone window fits" in card.message
+    assert not combo.isHidden()
+    combo.setCurrentIndex(combo.findData("close_to_close"))
+    assert card.currentIndex() == 0

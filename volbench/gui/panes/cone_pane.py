@@ -68,7 +68,6 @@ class ConePane(QWidget):
         upper = QWidget()
         ul = QVBoxLayout(upper)
         ul.setContentsMargins(0, 0, 0, 0)
-        ul.addLayout(top)
         ul.addWidget(self.plot, 1)
         ul.addWidget(self.reading)
         split = QSplitter(Qt.Orientation.Vertical)
@@ -77,6 +76,7 @@ class ConePane(QWidget):
         split.setSizes([460, 200])
         self.card = Card(split, "cone_card")
         lay = QVBoxLayout(self)
+        lay.addLayout(top)  # outside the card: the estimator can be changed even when the cone fails
         lay.addWidget(self.card)
         self._key = None
         results.updated.connect(self._on_results)

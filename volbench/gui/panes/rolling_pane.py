@@ -103,6 +103,11 @@ class RollingPane(QWidget):
         if rolling is None:
             self.card.show_message(self.results.problem("rolling") or "Load a price file to begin.")
             return
+        if not rolling.series:
+            reasons = "; ".join(f"{REGISTRY[k].label}: {why}" for k, why in rolling.unavailable.items())
+            self.card.show_message(f"No estimator fits a {rolling.window}-bar window here ({reasons}). "
+                                   "Choose a shorter window or a later as-of date.")
+            return
         self._x.clear()
         self._y.clear()
         for key, line in self.lines.items():
