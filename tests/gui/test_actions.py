@@ -233,3 +233,20 @@ def test_fit_every_series_fills_the_batch_table(make_window, sample_dir):
     batch = w.findChild(FrameTable, "garch_batch_table").table_model.display
     assert list(batch["series"]) == ["kestrel_orchards", "ironvale_mining"]
     assert all(v.endswith("%") for v in batch["forward vol"])
+
+
+def test_export_xlsx_reads_back_equal_with_openpyxl(make_window, kestrel, tmp_path, qtbot):
+    from openpyxl import load_workbook
+
+    w = make_window(window=20)
+    w.open_files([kestrel])
+    path = tmp_path / "sheet.xlsx"
+    with qtbot.waitSignal(w.exported, timeout=20000):
+        w.export_to(path)
+    sheet = load_workbook(path, read_only=True)["estimates"]
+    rows = list(sheet.iter_rows(values_only=True))
+    header = list(rows[0])
+    got = {r[header.index("estimator")]: r[header.index("vol")] for r in rows[1:]}
+    shown = w.findChild(FrameTable, "estimates_table").raw_frame().set_index("estimator")
+    # openpyxl reads back the stored double exactly (reference library: openpyxl)
+    assert got == {k: shown.loc[k, "vol"] for k in shown.index}
