@@ -250,3 +250,14 @@ def test_export_xlsx_reads_back_equal_with_openpyxl(make_window, kestrel, tmp_pa
     shown = w.findChild(FrameTable, "estimates_table").raw_frame().set_index("estimator")
     # openpyxl reads back the stored double exactly (reference library: openpyxl)
     assert got == {k: shown.loc[k, "vol"] for k in shown.index}
+
+
+def test_export_without_the_export_module_says_not_available(make_window, kestrel, tmp_path, monkeypatch,
+                                                             message_boxes):
+    import sys
+
+    w = make_window()
+    w.open_files([kestrel])
+    monkeypatch.setitem(sys.modules, "volbench.export", None)
+    w.export_to(tmp_path / "sheet.json")
+    assert message_boxes == [("volbench: export", "Export is not available in this build.")]

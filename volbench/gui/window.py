@@ -373,11 +373,13 @@ class MainWindow(QMainWindow):
             self.results.announce({"garch_all"})
 
     def _on_job_error(self, kind: str, exc) -> None:
+        if isinstance(exc, compute.NotInBuild):
+            exc = f"{exc.feature} is not available in this build."
         if kind == "export":
             show_error(self, "export", exc)
             self.show_status("Export failed; see the message.")
         elif kind == "garch_all":
-            self.results.fail("garch_all", error_text(exc))
+            self.results.fail("garch_all", exc if isinstance(exc, str) else error_text(exc))
             self.results.announce({"garch_all"})
 
     # ------------------------------------------------------------------ plots, help
