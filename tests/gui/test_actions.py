@@ -261,3 +261,24 @@ def test_export_without_the_export_module_says_not_available(make_window, kestre
     monkeypatch.setitem(sys.modules, "volbench.export", None)
     w.export_to(tmp_path / "sheet.json")
     assert message_boxes == [("volbench: export", "Export is not available in this build.")]
+
+
+def test_recent_files_menu_lists_and_reopens_files(make_window, kestrel, sample_dir):
+    w = make_window()
+    w.open_files([kestrel])
+    w.open_files([sample_dir / "ironvale_mining.csv"])
+    w.recent_menu.aboutToShow.emit()
+    entries = [a.text() for a in w.recent_menu.actions() if a.text()]
+    assert entries[:2] == [str(sample_dir / "ironvale_mining.csv"), str(kestrel)]
+    w.state.set_histories([], [])
+    next(a for a in w.recent_menu.actions() if a.text() == str(kestrel)).trigger()
+    assert [h.name for h in w.state.histories] == ["kestrel_orchards"]
+
+
+def test_the_stylesheet_ships_with_the_package_and_is_applied(qapp):
+    from volbench.gui import theme
+
+    text = theme.stylesheet()
+    assert "QTableView" in text and "QTabBar::tab:selected" in text
+    theme.apply(qapp)
+    assert qapp.styleSheet() == text
