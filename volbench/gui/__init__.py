@@ -3,5 +3,3 @@
 Start it with ``volbench gui [FILE...]`` or :func:`volbench.gui.app.run`. Panes show numbers from
 the core only (:mod:`volbench.gui.compute`), so the window and the command line always agree.
 """
-
-from volbench.gui import _refguard  # noqa: F401 - must run before any other Qt use (see its docstring)
