@@ -115,6 +115,21 @@ def test_comparison_section_with_option(make_bundle, sample_histories):
     assert (notes[notes["section"] == "comparison"]["kind"] == "reading").any()
 
 
+def test_comparison_window_sets_the_candidate_window_and_is_recorded(make_bundle, sample_histories):
+    # Common practice, no source: the candidate vols are the estimators over the chosen window, equal
+    # to volbench.estimators.point_estimate over that window (the core the comparison calls).
+    from volbench.estimators import point_estimate
+
+    h = sample_histories("kestrel_orchards.csv")
+    default = make_bundle(h, pricing_vol=0.25, days=30, include_scaling=False)
+    chosen = make_bundle(h, pricing_vol=0.25, days=30, include_scaling=False, comparison_window=60)
+    row = lambda b: b.table("comparison").set_index("key").loc["yang_zhang"]  # noqa: E731
+    assert row(default)["candidate_window"] == 30 and row(chosen)["candidate_window"] == 60
+    assert row(chosen)["vol"] == pytest.approx(point_estimate(h[0], "yang_zhang", 60).vol, rel=1e-12)
+    assert default.provenance["settings"]["pricing"]["estimator_window"] == "days (the option's life)"
+    assert chosen.provenance["settings"]["pricing"]["estimator_window"] == 60
+
+
 def test_bad_pricing_inputs(make_bundle):
     with pytest.raises(VolbenchError, match=r"needs both the pricing vol and the option's days"):
         make_bundle(pricing_vol=0.25)

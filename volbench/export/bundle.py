@@ -97,6 +97,7 @@ def build_bundle(
     pricing_vol: float | None = None,
     days: int | None = None,
     option: Mapping[str, Any] | Any | None = None,
+    comparison_window: int | None = None,
     include_cone: bool = True,
     cone_estimator: str = "close_to_close",
     cone_windows: Sequence[int] | None = None,
@@ -124,6 +125,9 @@ def build_bundle(
         The proposed vol (decimal), the option's life in bars, and optionally the option
         (``OptionSpec`` or a mapping of its fields: strike, rate, dividend_yield, kind, spot). The
         comparison section is built only when both ``pricing_vol`` and ``days`` are given.
+    comparison_window
+        Bars behind each estimator's candidate vol in the comparison; ``None`` (default) uses the
+        option's life (``days``), as ``volbench compare`` does without ``--window``.
     include_cone, cone_estimator, cone_windows, hodges_tompkins
         Volatility cone section and its settings; the comparison places the pricing vol in a cone
         with the same estimator and windows.
@@ -184,7 +188,8 @@ def build_bundle(
         settings["garch"] = {"models": list(garch_models), "dist": garch_dist}
     if pricing_vol is not None:
         settings["pricing"] = {"pricing_vol": pricing_vol, "days": days, "option": option_dict,
-                               "estimator_window": "days (the option's life)"}
+                               "estimator_window": ("days (the option's life)" if comparison_window is None
+                                                    else comparison_window)}
     total = len(SECTIONS)
 
     def step(i: int, name: str) -> None:
@@ -225,7 +230,7 @@ def build_bundle(
         built["comparison"] = sec.comparison_section(
             cut, pricing_vol=pricing_vol, days=days, option=option if option is not None else {},
             annualization=a, cone_estimator=cone_estimator, cone_windows=cone_windows,
-            scaling=dict(built["scaling"].results), garch=dict(built["garch"].results),
+            window=comparison_window, scaling=dict(built["scaling"].results), garch=dict(built["garch"].results),
             given=given.get("comparison"))
     else:
         built["comparison"] = sec.not_requested("give a pricing vol and the option's days (CLI: --pricing-vol, --days)")

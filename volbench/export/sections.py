@@ -335,6 +335,7 @@ def comparison_section(
     scaling: Mapping[str, Any],
     garch: Mapping[str, Any],
     given: Mapping[str, Any] | None = None,
+    window: int | None = None,
 ) -> SectionResult:
     """The proposed pricing vol against every candidate, per series, with the option's price impact.
 
@@ -351,7 +352,7 @@ def comparison_section(
         compare, option_spec = imported
         spec = option_spec(**option) if isinstance(option, Mapping) else option
         kw: dict[str, Any] = {"option": spec, "annualization": annualization, "scaling": scaling.get(h.name),
-                              "garch": garch.get(h.name), "cone_estimator": cone_estimator}
+                              "garch": garch.get(h.name), "cone_estimator": cone_estimator, "window": window}
         if cone_windows:
             kw["cone_windows"] = tuple(cone_windows)
         return compare(h, pricing_vol, days, **kw)

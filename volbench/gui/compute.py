@@ -11,7 +11,7 @@ from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 from volbench.data.history import PriceHistory
-from volbench.errors import EstimatorUnavailable, VolbenchError
+from volbench.errors import EstimatorUnavailable
 from volbench.estimators import (
     ESTIMATOR_KEYS,
     EstimateReport,
@@ -146,46 +146,23 @@ def export_bundle(histories: Sequence[PriceHistory], *, window: int, annualizati
                   garch_dist: str, import_settings: dict, given: dict, progress: Progress | None = None):
     """:func:`volbench.export.build_bundle` with the window's settings and results already on screen.
 
-    ``given`` maps section -> series -> result (as :func:`build_bundle` takes it); comparisons for
-    series not in it are computed here with the same window, so every row follows the screen.
+    ``given`` maps section -> series -> result (as :func:`build_bundle` takes it); comparisons the
+    export computes itself use the same estimator window as the screen (``comparison_window``).
     """
     try:
         from volbench.export import build_bundle
     except ImportError:
         raise NotInBuild("Export") from None
-    given = {k: dict(v) for k, v in given.items()}
     try:
         option = option_spec(strike, rate, dividend_yield, kind)
     except NotInBuild:
         option = {"strike": strike, "rate": rate, "dividend_yield": dividend_yield, "kind": kind}
-    else:
-        cut = [h.up_to(as_of) for h in histories]
-        have = given.setdefault("comparison", {})
-        for i, h in enumerate(cut):
-            if h.name in have:
-                continue
-            if progress is not None:
-                progress(i, len(cut), f"comparing {h.name}")
-            for section, fn in (("scaling", lambda h=h: scaling(h, annualization)),
-                                ("garch", lambda h=h: garch(h, garch_model, garch_dist, annualization))):
-                if h.name not in given.setdefault(section, {}):
-                    try:
-                        given[section][h.name] = fn()
-                    except (VolbenchError, NotInBuild):
-                        pass  # the export's own section records why
-            try:
-                have[h.name] = comparison(
-                    h, pricing_vol, days, strike=strike, rate=rate, dividend_yield=dividend_yield,
-                    kind=kind, annualization=annualization, window=window,
-                    scaling_result=given["scaling"].get(h.name), garch_result=given["garch"].get(h.name),
-                    cone_estimator=cone_estimator)
-            except VolbenchError:
-                pass  # the export's own comparison section records why
     kw = {}
     if garch_model != "all":
         kw["garch_models"] = (garch_model,)
     return build_bundle(histories, window=window, annualization=annualization, as_of=as_of,
-                        pricing_vol=pricing_vol, days=days, option=option, cone_estimator=cone_estimator,
+                        pricing_vol=pricing_vol, days=days, option=option, comparison_window=window,
+                        cone_estimator=cone_estimator,
                         include_scaling=True, include_garch=True, garch_dist=garch_dist,
                         import_settings=import_settings, results=given, progress=progress, **kw)
 
