@@ -223,6 +223,15 @@ def test_select_is_one_way(tmp_path):
         excl.select(False)
 
 
+def test_excluding_when_every_row_is_flagged_says_so(tmp_path):
+    text = "Date,Open,High,Low,Close\n" + "".join(
+        f"2021-03-0{d},10.0,9.0,11.0,10.0\n" for d in range(1, 5))  # high below low on every row
+    (h,) = load_prices(_write(tmp_path, text))
+    assert h.n == 4 and h.flagged_lines == {2, 3, 4, 5}
+    with pytest.raises(VolbenchError, match=r"every one of its 4 rows is flagged .* keep flagged rows or correct the file"):
+        h.select(True)
+
+
 def test_price_history_validates_its_arrays():
     d = np.array(["2021-03-01", "2021-03-02"], dtype="datetime64[ns]")
     with pytest.raises(VolbenchError, match="x: column open has 1 values, close has 2"):

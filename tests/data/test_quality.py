@@ -202,6 +202,8 @@ def test_split_label():
     assert split_label(2.0) == "1:2 reverse split"
     assert split_label(0.25) == "4:1 split"
     assert split_label(0.9) is None
+    assert split_label(1.25) is None and split_label(0.8) is None  # 5:4 / 4:5 are plausible real moves
+    assert split_label(2 / 3) == "3:2 split"
     assert split_label(0.0) is None
     assert split_label(-1.0) is None
 

@@ -210,6 +210,11 @@ class PriceHistory:
             )
         flagged = self.flagged_lines
         keep = ~np.isin(self.lines, np.fromiter(flagged, dtype=np.int64, count=len(flagged)))
+        if not keep.any():
+            raise VolbenchError(
+                f"{self.name}: every one of its {self.n} rows is flagged by a data-quality warning, so "
+                "leaving flagged rows out leaves nothing; keep flagged rows or correct the file"
+            )
         return self.take(keep, exclude_flagged=True, excluded_lines=tuple(sorted(int(x) for x in self.lines[~keep])))
 
     def take(self, mask: np.ndarray, **changes) -> PriceHistory:

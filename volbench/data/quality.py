@@ -48,7 +48,8 @@ class QualitySettings:
 _SPLITS = {}
 for _n in range(1, 6):
     for _m in range(1, 6):
-        if _n != _m and np.gcd(_n, _m) == 1:
+        # only ratios of at least 3:2 either way: a 5:4 "split" is a plausible genuine move
+        if _n != _m and np.gcd(_n, _m) == 1 and max(_n, _m) / min(_n, _m) >= 1.5:
             _SPLITS[_m / _n] = f"{_n}:{_m}" + (" reverse split" if _m > _n else " split")
 _SPLIT_TOLERANCE = 0.05  # in log points
 

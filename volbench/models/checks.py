@@ -29,6 +29,12 @@ _RESPONSE = {"garch": ("alpha[1]",), "gjr": ("alpha[1]", "gamma[1]"), "egarch": 
 _NU_BOUNDS = (2.05, 500.0)  # arch's bounds on the Student-t degrees of freedom
 
 
+def _block(cov: pd.DataFrame, keys: list[str]) -> np.ndarray:
+    """The covariance sub-matrix of ``keys`` (positional numpy indexing; label ``.loc`` is slow)."""
+    pos = [cov.columns.get_loc(k) for k in keys]
+    return cov.to_numpy()[np.ix_(pos, pos)]
+
+
 def persistence_of(model: str, params: Mapping[str, float], cov: pd.DataFrame | None = None) -> tuple[float, float]:
     """Persistence and its delta-method standard error (NaN when the covariance is unusable).
 
@@ -44,7 +50,7 @@ def persistence_of(model: str, params: Mapping[str, float], cov: pd.DataFrame | 
     if cov is not None:
         keys = list(w)
         vec = np.array([w[k] for k in keys])
-        var = float(vec @ cov.loc[keys, keys].to_numpy() @ vec)
+        var = float(vec @ _block(cov, keys) @ vec)
         if math.isfinite(var) and var >= 0:
             se = math.sqrt(var)
     return p, se
@@ -62,7 +68,7 @@ def _clustering_p_value(model: str, params: Mapping[str, float], cov: pd.DataFra
         return float("nan")
     keys = list(_RESPONSE[model])
     theta = np.array([params[k] for k in keys])
-    sigma = cov.loc[keys, keys].to_numpy()
+    sigma = _block(cov, keys)
     try:
         w = float(theta @ np.linalg.solve(sigma, theta))
     except np.linalg.LinAlgError:
