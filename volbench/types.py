@@ -42,3 +42,18 @@ def check_window(window: int | str | None, *, minimum: int = 2) -> int | None:
     if w < minimum:
         raise VolbenchError(f"window must be >= {minimum} bars, got {w}")
     return w
+
+
+def check_positive(value, message: str) -> float:
+    """``value`` as a finite float > 0; otherwise VolbenchError ``"{message}, got {value!r}"``."""
+    import math
+
+    from volbench.errors import VolbenchError
+
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise VolbenchError(f"{message}, got {value!r}") from None
+    if not (math.isfinite(v) and v > 0):
+        raise VolbenchError(f"{message}, got {value!r}")
+    return v

@@ -19,7 +19,13 @@ from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY, estimate_all, get_spec
 from volbench.pricing.bsm import bsm_greeks, check_kind, check_pricing_vol, check_rate
 from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, ConePlacement, _check_days, vol_cone
-from volbench.types import DEFAULT_ANNUALIZATION, OptionType, check_annualization, check_window
+from volbench.types import (
+    DEFAULT_ANNUALIZATION,
+    OptionType,
+    check_annualization,
+    check_positive,
+    check_window,
+)
 
 REFERENCE_ESTIMATORS = ("yang_zhang", "close_to_close")
 """Estimator the reading compares against first: the most efficient one available, else close-to-close."""
@@ -192,19 +198,9 @@ def _option(history: PriceHistory, option: OptionSpec | None) -> tuple[float, fl
     if not isinstance(o, OptionSpec):
         raise VolbenchError(f"option must be an OptionSpec, got {type(o).__name__}")
     kind = check_kind(o.kind)
-    spot = float(history.close[-1]) if o.spot is None else _positive(o.spot, "spot")
-    strike = spot if o.strike is None else _positive(o.strike, "strike")
+    spot = float(history.close[-1]) if o.spot is None else check_positive(o.spot, "spot must be a positive price")
+    strike = spot if o.strike is None else check_positive(o.strike, "strike must be a positive price")
     return spot, strike, check_rate(o.rate, "rate"), check_rate(o.dividend_yield, "dividend yield"), kind
-
-
-def _positive(x, what: str) -> float:
-    try:
-        v = float(x)
-    except (TypeError, ValueError):
-        raise VolbenchError(f"{what} must be a positive price, got {x!r}") from None
-    if not (math.isfinite(v) and v > 0):
-        raise VolbenchError(f"{what} must be a positive price, got {x!r}")
-    return v
 
 
 # ---------------------------------------------------------------------------- main entry

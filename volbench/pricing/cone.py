@@ -16,7 +16,7 @@ import pandas as pd
 from volbench.data.history import PriceHistory, _iso
 from volbench.errors import EstimatorUnavailable, VolbenchError
 from volbench.estimators import get_spec, rolling_vol
-from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_window
+from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_positive, check_window
 
 DEFAULT_CONE_WINDOWS: tuple[int, ...] = (10, 20, 40, 60, 120, 250)
 PERCENTILES: dict[str, float] = {"min": 0, "p10": 10, "p25": 25, "p50": 50, "p75": 75, "p90": 90, "max": 100}
@@ -184,7 +184,7 @@ class Cone:
         (clamped, and the note says so). With Hodges-Tompkins the adjusted distribution
         mean + factor (x - mean) is used (common practice, no source, for the interpolation).
         """
-        v = _check_vol(vol)
+        v = check_positive(vol, "vol must be a positive decimal such as 0.25")
         d = _check_days(days)
         ws = self.windows
         adj = self.hodges_tompkins
@@ -224,16 +224,6 @@ class Cone:
                            if self.hodges_tompkins else None),
             "windows": rows, "dropped": {str(w): r for w, r in self.dropped.items()}, "notes": list(self.notes),
         }
-
-
-def _check_vol(vol) -> float:
-    try:
-        v = float(vol)
-    except (TypeError, ValueError):
-        raise VolbenchError(f"vol must be a positive decimal such as 0.25, got {vol!r}") from None
-    if not (math.isfinite(v) and v > 0):
-        raise VolbenchError(f"vol must be a positive decimal such as 0.25, got {vol!r}")
-    return v
 
 
 def _check_days(days) -> int:
