@@ -14,7 +14,7 @@ import pytest
 
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 
-from volbench.data.history import PriceHistory  # noqa: E402
+from volbench.data.history import PriceHistory
 
 ROOT = Path(__file__).resolve().parents[1]
 

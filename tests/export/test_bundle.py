@@ -123,7 +123,7 @@ def test_comparison_window_sets_the_candidate_window_and_is_recorded(make_bundle
     h = sample_histories("kestrel_orchards.csv")
     default = make_bundle(h, pricing_vol=0.25, days=30, include_scaling=False)
     chosen = make_bundle(h, pricing_vol=0.25, days=30, include_scaling=False, comparison_window=60)
-    row = lambda b: b.table("comparison").set_index("key").loc["yang_zhang"]  # noqa: E731
+    row = lambda b: b.table("comparison").set_index("key").loc["yang_zhang"]
     assert row(default)["candidate_window"] == 30 and row(chosen)["candidate_window"] == 60
     assert row(chosen)["vol"] == pytest.approx(point_estimate(h[0], "yang_zhang", 60).vol, rel=1e-12)
     assert default.provenance["settings"]["pricing"]["estimator_window"] == "days (the option's life)"
