@@ -35,16 +35,34 @@ def test_gui_without_pyside6_prints_one_line_and_exits_2(monkeypatch, capsys):
     assert len(lines) == 1 and "cannot be imported" in lines[0] and "volbench estimate" in lines[0]
 
 
-@pytest.mark.parametrize(("env", "platform", "expected"), [
-    ({}, "linux", "no display available (DISPLAY and WAYLAND_DISPLAY are not set)"),
-    ({"DISPLAY": ":0"}, "linux", None),
-    ({"WAYLAND_DISPLAY": "wayland-0"}, "linux", None),
-    ({"QT_QPA_PLATFORM": "offscreen"}, "linux", None),
-    ({}, "darwin", None),
-    ({}, "win32", None),
+def _found(name):
+    return f"lib{name}.so.0"
+
+
+def _missing(name):
+    return None
+
+
+def _no_cursor_or_keysyms(name):
+    return None if name in ("xcb-cursor", "xcb-keysyms") else _found(name)
+
+
+NO_CURSOR = ("the Qt window needs system libraries that are not installed "
+             "(Debian/Ubuntu: sudo apt-get install libxcb-cursor0 libxcb-keysyms1)")
+
+
+@pytest.mark.parametrize(("env", "platform", "find", "expected"), [
+    ({}, "linux", _found, "no display available (DISPLAY and WAYLAND_DISPLAY are not set)"),
+    ({"DISPLAY": ":0"}, "linux", _found, None),
+    ({"DISPLAY": ":0"}, "linux", _no_cursor_or_keysyms, NO_CURSOR),
+    ({"DISPLAY": ":0", "QT_QPA_PLATFORM": "xcb"}, "linux", _no_cursor_or_keysyms, NO_CURSOR),
+    ({"WAYLAND_DISPLAY": "wayland-0"}, "linux", _missing, None),
+    ({"QT_QPA_PLATFORM": "offscreen"}, "linux", _missing, None),
+    ({}, "darwin", _missing, None),
+    ({}, "win32", _missing, None),
 ])
-def test_display_problem(env, platform, expected):
-    assert display_problem(env, platform) == expected
+def test_display_problem(env, platform, find, expected):
+    assert display_problem(env, platform, find) == expected
 
 
 def test_gui_opens_the_window_with_the_given_files(monkeypatch):

@@ -3,13 +3,31 @@
 from __future__ import annotations
 
 import argparse
+import ctypes.util
 import os
 import sys
+from collections.abc import Callable
 from pathlib import Path
 
 from volbench.cli import EXIT_BAD_INPUT
 
 HEADLESS_PLATFORMS = ("offscreen", "minimal")
+
+# System libraries Qt 6's X11 (xcb) platform plugin loads, with the Debian/Ubuntu package of each.
+# Without one of them Qt aborts the process, so they are checked before the window starts.
+XCB_LIBRARIES = {
+    "xcb-cursor": "libxcb-cursor0",
+    "xcb-icccm": "libxcb-icccm4",
+    "xcb-keysyms": "libxcb-keysyms1",
+    "xcb-image": "libxcb-image0",
+    "xcb-render-util": "libxcb-render-util0",
+    "xcb-shape": "libxcb-shape0",
+    "xcb-randr": "libxcb-randr0",
+    "xcb-xkb": "libxcb-xkb1",
+    "xkbcommon-x11": "libxkbcommon-x11-0",
+    "fontconfig": "libfontconfig1",
+    "EGL": "libegl1",
+}
 
 
 def register(sub) -> None:
@@ -22,14 +40,27 @@ def register(sub) -> None:
     p.set_defaults(func=run_gui)
 
 
-def display_problem(environ=None, platform: str | None = None) -> str | None:
-    """Why no window can open here (``None`` when a display looks available)."""
+def display_problem(environ=None, platform: str | None = None,
+                    find_library: Callable[[str], str | None] = ctypes.util.find_library) -> str | None:
+    """Why no window can open here (``None`` when a display looks available).
+
+    On Linux under X11, Qt also needs the system libraries in :data:`XCB_LIBRARIES`; without one
+    of them Qt aborts the process, so they are checked here first and named with their packages.
+    """
     env = os.environ if environ is None else environ
     platform = sys.platform if platform is None else platform
-    if env.get("QT_QPA_PLATFORM", "").split(":")[0] in HEADLESS_PLATFORMS:
+    qpa = env.get("QT_QPA_PLATFORM", "").split(":")[0]
+    if qpa in HEADLESS_PLATFORMS:
         return None
-    if platform.startswith("linux") and not env.get("DISPLAY") and not env.get("WAYLAND_DISPLAY"):
+    if not platform.startswith("linux"):
+        return None
+    if not env.get("DISPLAY") and not env.get("WAYLAND_DISPLAY"):
         return "no display available (DISPLAY and WAYLAND_DISPLAY are not set)"
+    uses_x11 = qpa == "xcb" or (qpa == "" and not env.get("WAYLAND_DISPLAY"))
+    missing = [pkg for lib, pkg in XCB_LIBRARIES.items() if uses_x11 and find_library(lib) is None]
+    if missing:
+        return (f"the Qt window needs system libraries that are not installed "
+                f"(Debian/Ubuntu: sudo apt-get install {' '.join(missing)})")
     return None
 
 
