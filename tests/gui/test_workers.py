@@ -99,7 +99,8 @@ def test_synchronous_mode_runs_the_job_before_submit_returns(qtbot):
 
 
 @pytest.mark.parametrize(("changed", "expected"), [
-    ({"window"}, ["rolling", "estimates", "comparison"]),
+    ({"window"}, ["rolling", "estimates"]),
+    ({"days"}, ["comparison"]),
     ({"pricing_vol"}, ["comparison"]),
     ({"garch_dist"}, ["garch", "comparison"]),
     ({"annualization"}, ["rolling", "estimates", "cone", "scaling", "garch", "comparison"]),

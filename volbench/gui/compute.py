@@ -100,9 +100,13 @@ def option_spec(strike: float | None, rate: float, dividend_yield: float, kind: 
 
 
 def comparison(history: PriceHistory, pricing_vol: float, days: int, *, strike: float | None,
-               rate: float, dividend_yield: float, kind: str, annualization: float, window: int,
-               scaling_result=None, garch_result=None, cone_estimator: str = "close_to_close"):
-    """:func:`volbench.pricing.compare.compare` with the window's candidates and any fitted models."""
+               rate: float, dividend_yield: float, kind: str, annualization: float,
+               window: int | None = None, scaling_result=None, garch_result=None, cone_estimator: str = "close_to_close"):
+    """:func:`volbench.pricing.compare.compare` with any fitted models.
+
+    Candidates are each estimator over ``window`` bars; ``None`` (what the window uses) means the
+    option's life, as ``volbench compare`` does without ``--window``.
+    """
     try:
         from volbench.pricing.compare import compare
     except ImportError:
@@ -147,7 +151,7 @@ def export_bundle(histories: Sequence[PriceHistory], *, window: int, annualizati
     """:func:`volbench.export.build_bundle` with the window's settings and results already on screen.
 
     ``given`` maps section -> series -> result (as :func:`build_bundle` takes it); comparisons the
-    export computes itself use the same estimator window as the screen (``comparison_window``).
+    export computes itself use the option's life as the estimator window, like the screen.
     """
     try:
         from volbench.export import build_bundle
@@ -161,7 +165,7 @@ def export_bundle(histories: Sequence[PriceHistory], *, window: int, annualizati
     if garch_model != "all":
         kw["garch_models"] = (garch_model,)
     return build_bundle(histories, window=window, annualization=annualization, as_of=as_of,
-                        pricing_vol=pricing_vol, days=days, option=option, comparison_window=window,
+                        pricing_vol=pricing_vol, days=days, option=option,
                         cone_estimator=cone_estimator,
                         include_scaling=True, include_garch=True, garch_dist=garch_dist,
                         import_settings=import_settings, results=given, progress=progress, **kw)

@@ -27,7 +27,7 @@ DEPENDS: dict[str, frozenset[str]] = {
     "cone": frozenset({"view", "annualization", "cone_estimator"}),
     "scaling": frozenset({"view", "annualization"}),
     "garch": frozenset({"view", "annualization", "garch_model", "garch_dist"}),
-    "comparison": frozenset({"view", "window", "annualization", "pricing_vol", "days", "strike", "rate",
+    "comparison": frozenset({"view", "annualization", "pricing_vol", "days", "strike", "rate",
                              "dividend_yield", "kind", "cone_estimator", "scaling", "garch"}),
 }
 ORDER = ("rolling", "estimates", "cone", "scaling", "garch", "comparison")
@@ -180,7 +180,7 @@ class Controller(QObject):
                 value = compute.comparison(
                     view, c.pricing_vol, c.days, strike=c.strike, rate=c.rate,
                     dividend_yield=c.dividend_yield, kind=c.kind, annualization=c.annualization,
-                    window=c.window, scaling_result=self._fresh("scaling", view),
+                    scaling_result=self._fresh("scaling", view),
                     garch_result=self._fresh("garch", view), cone_estimator=c.cone_estimator)
             else:  # pragma: no cover - ORDER and DEPENDS are fixed above
                 raise KeyError(job)

@@ -95,7 +95,8 @@ class ComparisonPane(QWidget):
         self.heading.setText(
             f"Pricing vol {pct(c.pricing_vol)} for a {c.days}-bar {c.kind} on {c.name} ({strike}, spot "
             f"{c.spot:,.4g}, rate {pct(c.rate)}, yield {pct(c.dividend_yield)}), as of {c.as_of}: price "
-            f"{c.price:,.4f}. Estimators over the last {c.window} bars.")
+            f"{c.price:,.4f}. Estimators over the last {c.window} bars"
+            + (" (the option's life)." if c.window == c.days else "."))
         lines = [f"<li>{t[0].upper() + t[1:]}.</li>" for t in c.reading]
         missing = []
         for kind, words in PENDING_WORDS.items():
