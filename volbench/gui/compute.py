@@ -10,6 +10,8 @@ from __future__ import annotations
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
+import numpy as np
+
 from volbench.data.history import PriceHistory
 from volbench.errors import EstimatorUnavailable
 from volbench.estimators import (
@@ -40,6 +42,7 @@ class RollingSet:
     annualization: float
     series: dict[str, RollingVol]
     unavailable: dict[str, str]
+    span: tuple[np.datetime64, np.datetime64] | None = None  # first and last date of the history
 
 
 def rolling_all(history: PriceHistory, window: int, annualization: float,
@@ -52,7 +55,8 @@ def rolling_all(history: PriceHistory, window: int, annualization: float,
             series[key] = rolling_vol(history, key, window, annualization=annualization)
         except EstimatorUnavailable as exc:
             unavailable[key] = exc.reason
-    return RollingSet(window, annualization, series, unavailable)
+    span = (history.dates[0], history.dates[-1]) if history.n else None
+    return RollingSet(window, annualization, series, unavailable, span)
 
 
 def estimates(history: PriceHistory, window: int, annualization: float) -> EstimateReport:

@@ -242,10 +242,17 @@ class Plot(pg.PlotWidget):
         return self.addLegend(labelTextColor=palette.FOREGROUND, brush=pg.mkBrush(255, 255, 255, 215),
                               pen=pg.mkPen("#D3D6CD"), **kw)
 
-    def fit_view(self, arrays, headroom: float = 0.3) -> None:
-        """Auto-range x; fit y to ``arrays`` with ``headroom`` (share of the span) on top for the legend."""
+    def fit_view(self, arrays, headroom: float = 0.3, x_range: tuple[float, float] | None = None) -> None:
+        """Fit x to ``x_range`` (auto when None) and y to ``arrays``, ``headroom`` of the span on top.
+
+        A fixed ``x_range`` keeps the axis still when only the data change (e.g. a new window), so
+        the date axis is not laid out again: the costliest part of a redraw.
+        """
         vals = [np.asarray(a, dtype=float) for a in arrays if a is not None and len(a)]
-        self.enableAutoRange(axis="x")
+        if x_range is None:
+            self.enableAutoRange(axis="x")
+        else:
+            self.setXRange(*x_range, padding=0.01)
         if not vals:
             self.enableAutoRange(axis="y")
             return

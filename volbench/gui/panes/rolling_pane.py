@@ -78,6 +78,7 @@ class RollingPane(QWidget):
         lay = QVBoxLayout(self)
         lay.addWidget(self.card)
         self._title = ""
+        self._span = None  # first and last date of the history: the x range, whatever the window
         self._x: dict[str, np.ndarray] = {}
         self._y: dict[str, np.ndarray] = {}
         results.updated.connect(self._on_results)
@@ -121,6 +122,7 @@ class RollingPane(QWidget):
             line.setData(x, y)
         self._apply_visibility()
         self._render_pricing()
+        self._span = rolling.span
         self._fit()
         title = f"Rolling {rolling.window}-bar volatility, annualized with {rolling.annualization:g} bars/yr"
         if title != self._title:
@@ -131,7 +133,9 @@ class RollingPane(QWidget):
 
     def _fit(self) -> None:
         chosen = [k for k in self.state.estimators if k in self._y and k not in self.muted]
-        self.plot.fit_view([self._y[k] for k in chosen] + [[100.0 * self.state.pricing_vol]], headroom=0.25)
+        x_range = None if self._span is None else tuple(epoch_seconds(np.asarray(self._span)))
+        self.plot.fit_view([self._y[k] for k in chosen] + [[100.0 * self.state.pricing_vol]], headroom=0.25,
+                           x_range=x_range)
 
     def _on_legend_click(self, sample) -> None:
         key = self.keys.get(sample)
