@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import importlib
 import math
 from dataclasses import replace
 
@@ -181,29 +182,23 @@ def _pick_series(histories, name):
 
 def _optional_results(args, history):
     """GARCH and scaling results on request, with the reason when they cannot be had."""
-    garch = scaling = None
+    results: dict[str, object] = {}
     reasons: dict[str, str] = {}
-    if args.with_garch:
+    wanted = (("garch", args.with_garch, "volbench.models", "fit_models"),
+              ("scaling", args.with_scaling, "volbench.scaling", "scaling_check"))
+    for key, asked, module, function in wanted:
+        if not asked:
+            continue
         try:
-            from volbench.models import fit_models
+            run = getattr(importlib.import_module(module), function)
         except ImportError:
-            reasons["garch"] = NOT_IN_BUILD
-        else:
-            try:
-                garch = fit_models(history, annualization=args.annualization)
-            except VolbenchError as exc:
-                reasons["garch"] = str(exc)
-    if args.with_scaling:
+            reasons[key] = NOT_IN_BUILD
+            continue
         try:
-            from volbench.scaling import scaling_check
-        except ImportError:
-            reasons["scaling"] = NOT_IN_BUILD
-        else:
-            try:
-                scaling = scaling_check(history, annualization=args.annualization)
-            except VolbenchError as exc:
-                reasons["scaling"] = str(exc)
-    return garch, scaling, reasons
+            results[key] = run(history, annualization=args.annualization)
+        except VolbenchError as exc:
+            reasons[key] = str(exc)
+    return results.get("garch"), results.get("scaling"), reasons
 
 
 def run_compare(args: argparse.Namespace) -> int:
