@@ -86,6 +86,19 @@ def test_cone_percentile_is_the_cone_placement(hist):
     assert other.cone_percentile == pytest.approx(vol_cone(hist, "yang_zhang").percentile_of(0.25, 30))
 
 
+def test_a_cone_already_built_is_used_as_is_and_must_match_the_history(hist):
+    # Agreement check, no external source: passing the cone a caller already has gives the same
+    # placement as letting compare build it; a cone of other rows or settings is refused.
+    built = compare(hist, 0.25, 30)
+    given = compare(hist, 0.25, 30, cone=vol_cone(hist))
+    assert given.cone == built.cone and given.cone_percentile == built.cone_percentile
+    with pytest.raises(VolbenchError, match=r"the cone given was built for series 'KESTREL-SIM' .*"
+                                            r"yang_zhang\): pass a cone of this history or none"):
+        compare(hist, 0.25, 30, cone=vol_cone(hist), cone_estimator="yang_zhang")
+    with pytest.raises(VolbenchError, match=r"\(400 rows, 252 bars/year, close_to_close\); this comparison"):
+        compare(hist, 0.25, 30, cone=vol_cone(hist.take(np.arange(hist.n) < 400)))
+
+
 def test_reading_says_where_the_vol_sits_and_what_the_gap_is_worth(hist):
     c = compare(hist, 0.25, 30)
     yz = c.candidates.set_index("key").loc["yang_zhang"]

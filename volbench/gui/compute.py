@@ -105,7 +105,8 @@ def option_spec(strike: float | None, rate: float, dividend_yield: float, kind: 
 
 def comparison(history: PriceHistory, pricing_vol: float, days: int, *, strike: float | None,
                rate: float, dividend_yield: float, kind: str, annualization: float,
-               window: int | None = None, scaling_result=None, garch_result=None, cone_estimator: str = "close_to_close"):
+               window: int | None = None, scaling_result=None, garch_result=None,
+               cone_estimator: str = "close_to_close", cone_result=None):
     """:func:`volbench.pricing.compare.compare` with any fitted models.
 
     Candidates are each estimator over ``window`` bars; ``None`` (what the window uses) means the
@@ -118,7 +119,7 @@ def comparison(history: PriceHistory, pricing_vol: float, days: int, *, strike: 
     option = option_spec(strike, rate, dividend_yield, kind)
     return compare(history, pricing_vol, days, option=option, annualization=annualization,
                    window=window, scaling=scaling_result, garch=garch_result,
-                   cone_estimator=cone_estimator)
+                   cone_estimator=cone_estimator, cone=cone_result)
 
 
 def table_tsv(frame) -> str:

@@ -181,7 +181,8 @@ class Controller(QObject):
                     view, c.pricing_vol, c.days, strike=c.strike, rate=c.rate,
                     dividend_yield=c.dividend_yield, kind=c.kind, annualization=c.annualization,
                     scaling_result=self._fresh("scaling", view),
-                    garch_result=self._fresh("garch", view), cone_estimator=c.cone_estimator)
+                    garch_result=self._fresh("garch", view), cone_estimator=c.cone_estimator,
+                    cone_result=self.results.get("cone"))
             else:  # pragma: no cover - ORDER and DEPENDS are fixed above
                 raise KeyError(job)
         except compute.NotInBuild as exc:

@@ -18,7 +18,7 @@ from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY, estimate_all, get_spec
 from volbench.pricing.bsm import bsm_greeks, check_kind, check_pricing_vol, check_rate
-from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, ConePlacement, _check_days, vol_cone
+from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, Cone, ConePlacement, _check_days, vol_cone
 from volbench.types import (
     DEFAULT_ANNUALIZATION,
     OptionType,
@@ -203,6 +203,18 @@ def _option(history: PriceHistory, option: OptionSpec | None) -> tuple[float, fl
     return spot, strike, check_rate(o.rate, "rate"), check_rate(o.dividend_yield, "dividend yield"), kind
 
 
+def _check_cone(cone: Cone, history: PriceHistory, annualization: float, estimator: str) -> None:
+    built = (cone.name, cone.end, cone.rows, cone.annualization, cone.estimator)
+    wanted = (history.name, history.last_date, history.n, annualization, estimator)
+    if built != wanted:
+        raise VolbenchError(
+            f"the cone given was built for series {cone.name!r} to {cone.end} ({cone.rows} rows, "
+            f"{cone.annualization:g} bars/year, {cone.estimator}); this comparison needs "
+            f"{history.name!r} to {history.last_date} ({history.n} rows, {annualization:g} bars/year, "
+            f"{estimator}): pass a cone of this history or none"
+        )
+
+
 # ---------------------------------------------------------------------------- main entry
 def compare(
     history: PriceHistory,
@@ -216,6 +228,7 @@ def compare(
     garch=None,
     cone_estimator: str = "close_to_close",
     cone_windows: Sequence[int] = DEFAULT_CONE_WINDOWS,
+    cone: Cone | None = None,
 ) -> Comparison:
     """Set a proposed pricing vol against the history and reprice the option at each candidate vol.
 
@@ -242,6 +255,10 @@ def compare(
         ``forward_vol(days)``.
     cone_estimator, cone_windows
         Estimator and windows of the cone the pricing vol is placed in.
+    cone
+        A cone already built on this history (e.g. the one a caller shows); used instead of
+        building the same cone again. It must match the history (name, last date, rows),
+        ``annualization`` and ``cone_estimator``.
 
     Returns
     -------
@@ -250,7 +267,8 @@ def compare(
     Raises
     ------
     VolbenchError
-        Bad pricing vol (also when it looks like a percent), days, window, annualization or option.
+        Bad pricing vol (also when it looks like a percent), days, window, annualization or option;
+        a ``cone`` built on another history or with other settings.
 
     Notes
     -----
@@ -271,6 +289,8 @@ def compare(
             raise VolbenchError("window must be a number of bars for a comparison, not 'all'")
         window_note = ""
     get_spec(cone_estimator)
+    if cone is not None:
+        _check_cone(cone, history, a, cone_estimator)
     spot, strike, rate, q, kind = _option(history, option)
     years = d / a
 
@@ -316,7 +336,8 @@ def compare(
 
     placement = None
     try:
-        cone = vol_cone(history, cone_estimator, cone_windows, annualization=a)
+        if cone is None:
+            cone = vol_cone(history, cone_estimator, cone_windows, annualization=a)
         placement = cone.place(pv, d)
     except VolbenchError as exc:
         unavailable["cone"] = str(exc)
