@@ -60,6 +60,8 @@ class EstimatorSpec:
     min_window: int = 2
     ci_exact: bool = False
     whole_sample_window: int | None = None
+    options: frozenset[str] = frozenset()
+    """Keyword options ``variance`` accepts (e.g. ``lam`` for EWMA); others passed are ignored."""
     short: str = ""
     """Short legend tag."""
 

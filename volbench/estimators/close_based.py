@@ -65,6 +65,7 @@ CLOSE_TO_CLOSE = EstimatorSpec(
     variance=close_to_close_variance,
     efficiency=1.0,
     ci_exact=True,
+    options=frozenset({"zero_mean"}),
     source="Common practice; e.g. Hull, Options, Futures and Other Derivatives",
     assumes="i.i.d. normal log returns; uses closes only, so intraday range information is ignored.",
 )
@@ -78,6 +79,7 @@ EWMA = EstimatorSpec(
     variance=ewma_variance,
     efficiency=1.0,
     whole_sample_window=20,
+    options=frozenset({"lam"}),
     source="J.P. Morgan/Reuters RiskMetrics Technical Document (1996)",
     assumes="Zero-mean returns whose variance drifts; recent returns weigh most (half-life about 11 bars).",
 )

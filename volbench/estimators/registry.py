@@ -69,13 +69,7 @@ def _check(history: PriceHistory, key: str, window: int | None) -> tuple[Estimat
 
 
 def _variance(spec: EstimatorSpec, history: PriceHistory, window: int, options: dict) -> np.ndarray:
-    opts = {k: v for k, v in options.items() if v is not None}
-    if spec.key == "ewma":
-        opts = {"lam": opts["lam"]} if "lam" in opts else {}
-    elif spec.key == "close_to_close":
-        opts = {"zero_mean": opts["zero_mean"]} if "zero_mean" in opts else {}
-    else:
-        opts = {}
+    opts = {k: v for k, v in options.items() if v is not None and k in spec.options}
     return spec.variance(history, window, **opts)
 
 
