@@ -165,6 +165,9 @@ def test_reading_states_the_promise_in_prices(hist):
     assert "on the downside" in c.reading[0] and "straddle at 25.0% costs" in c.reading[1]
     assert c.verdict.startswith("History kept the bands of Pricing vol (25.0%) best of 2 candidates")
     assert c.scores.loc["pricing", "rank"] == 1 and c.scores.loc["low", "rank"] == 2
+    tied = promise_check(hist, {"a": 0.25, "b": 0.25, "c": 0.1}, 30)
+    assert tied.scores["rank"].tolist() == [1, 1, 3]
+    assert tied.verdict.startswith("History kept the bands of a (25.0%, tied with b) best of 3 candidates")
 
 
 def test_too_little_history_gives_numbers_with_a_warning(make_history):

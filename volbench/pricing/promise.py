@@ -14,6 +14,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 import pandas as pd
+from scipy.stats import rankdata
 
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
@@ -101,7 +102,8 @@ class PromiseCheck:
         One row per candidate (:data:`BREAKEVEN_COLUMNS`): the chosen call (breakeven strike +
         premium) or put (strike - premium) and the share of moves ending beyond it.
     scores
-        Indexed by key: label, vol, g_statistic (see :func:`band_scores`), rank (1 = best).
+        Indexed by key: label, vol, g_statistic (see :func:`band_scores`), rank (1 = best; equal
+        scores, which discrete counts make common, share a rank).
     windows, overlapping_windows, unused_bars
         Non-overlapping and overlapping h-bar windows; oldest returns left out of the former.
     moves, overlapping_moves
@@ -320,9 +322,8 @@ def promise_check(
     }, columns=list(BREAKEVEN_COLUMNS))
 
     g = band_scores(res["below"], res["above"], m, k)
-    order = np.argsort(g, kind="stable")
-    rank = np.empty(nc, dtype=int)
-    rank[order] = np.arange(1, nc + 1)
+    # equal counts give equal scores: tied candidates share the best rank among them
+    rank = rankdata(np.round(g, 9), method="min").astype(int)
     scores = pd.DataFrame({"label": labs, "vol": v, "g_statistic": g, "rank": rank},
                           index=pd.Index(keys, name="key"))
 
@@ -366,8 +367,7 @@ def _verdict(c: PromiseCheck) -> str:
     sc = c.scores.sort_values("rank", kind="stable")
     best_key, best = sc.index[0], sc.iloc[0]
     rows = c.bands_of(best_key)
-    ties = [str(lab) for key, lab in sc["label"].items()
-            if key != best_key and math.isclose(sc.at[key, "g_statistic"], best["g_statistic"], abs_tol=1e-9)]
+    ties = [str(lab) for key, lab in sc.loc[sc["rank"] == 1, "label"].items() if key != best_key]
     who = f"{best['label']} ({_p(best['vol'])}" + (f", tied with {', '.join(ties)}" if ties else "") + ")"
     shares = ", ".join(f"{_p(r.observed)} outside {_sig(r.sigmas)} (promised {_p(r.promised)})"
                        for r in rows.itertuples())
