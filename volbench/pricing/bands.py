@@ -14,6 +14,8 @@ Conventions (docs/METHODS.md, Probability bands and breakevens):
   risk-neutral drift (r - q - sigma^2/2) is a pricing device, not a forecast of where the price
   goes, and the historical drift is estimated too poorly to help; over an option's life either
   shifts the centre by a small fraction of s (at 25 % vol and 30 bars, sigma^2 T / 2 is 4 % of s).
+  A shift d moves two-sided shares (bands, straddle) only to second order, one-sided ones (a call
+  or put breakeven) to first order.
 * **Non-overlapping windows for the counts**, anchored at the last close (the newest window ends
   on the as-of date; the oldest returns that do not fill a window are left out). Their moves are
   independent under Brownian motion, so a count is binomial and gets an exact Clopper-Pearson
