@@ -20,6 +20,7 @@ from volbench.pricing.promise import (
     MIN_WINDOWS,
     STRADDLE_COLUMNS,
     promise_check,
+    promises_for,
 )
 
 A = 252.0
@@ -137,6 +138,16 @@ def test_candidates_are_computed_together_exactly_as_alone(hist):
     pd.testing.assert_frame_equal(both.bands_of("b")[cols].reset_index(drop=True), alone.bands[cols])
     pd.testing.assert_frame_equal(both.straddles.iloc[[1]].reset_index(drop=True), alone.straddles)
     pd.testing.assert_frame_equal(both.breakevens.iloc[[1]].reset_index(drop=True), alone.breakevens)
+
+
+def test_promises_for_a_comparison_use_its_vols_and_option(hist):
+    from volbench.pricing.compare import OptionSpec, compare
+
+    comp = compare(hist, 0.25, 30, option=OptionSpec(strike=42.0, kind="put", rate=0.02))
+    c = promises_for(comp, hist)
+    assert list(c.scores.index) == comp.table["key"].tolist() and c.primary == "pricing"
+    assert c.breakevens["premium"].to_numpy() == pytest.approx(comp.table["price"].to_numpy(), rel=1e-14)
+    assert (c.strike, c.kind, c.rate, c.years) == (42.0, "put", 0.02, comp.years)
 
 
 # ---------------------------------------------------------------------------- result shape and text

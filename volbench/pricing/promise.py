@@ -336,6 +336,22 @@ def promise_check(
     return _with_text(check)
 
 
+def promises_for(comparison, history: PriceHistory, **kwargs) -> PromiseCheck:
+    """:func:`promise_check` for every vol of a comparison (pricing vol first), on its option.
+
+    ``comparison`` is used duck-typed (a :class:`volbench.pricing.compare.Comparison`: ``table``
+    with key, label and vol columns, ``days``, ``annualization``, ``years``, ``spot``, ``strike``,
+    ``kind``, ``rate``, ``dividend_yield``), so the command line, the window and the exports get
+    the same numbers from one call. ``kwargs`` (``sigmas``, ``level``) pass through.
+    """
+    t = comparison.table
+    return promise_check(
+        history, dict(zip(t["key"], t["vol"])), comparison.days, labels=dict(zip(t["key"], t["label"])),
+        spot=comparison.spot, strike=comparison.strike, kind=comparison.kind, rate=comparison.rate,
+        dividend_yield=comparison.dividend_yield, annualization=comparison.annualization,
+        years=comparison.years, **kwargs)
+
+
 # ---------------------------------------------------------------------------- plain reading
 def _p(x: float) -> str:
     """Share as a percentage: two decimals below 1 %, one above."""
