@@ -174,6 +174,9 @@ def test_reading_states_the_promise_in_prices(hist):
     assert c.reading[0].startswith(f"at 25.0%, a 30-bar move outside ±1 sigma ({100 * band['low_move']:+.1f}% "
                                    f"to {100 * band['high_move']:+.1f}%) should happen 31.7% of the time")
     assert "on the downside" in c.reading[0] and "straddle at 25.0% costs" in c.reading[1]
+    be = c.breakevens.iloc[0]
+    assert c.reading[2].startswith(f"the call struck at {c.strike:g} costs {be['premium']:.2f} at 25.0% and pays "
+                                   f"back only if the price ends above {be['breakeven_price']:.2f}")
     assert c.verdict.startswith("History kept the bands of Pricing vol (25.0%) best of 2 candidates")
     assert c.scores.loc["pricing", "rank"] == 1 and c.scores.loc["low", "rank"] == 2
     tied = promise_check(hist, {"a": 0.25, "b": 0.25, "c": 0.1}, 30)
@@ -192,7 +195,7 @@ def test_too_little_history_gives_numbers_with_a_warning(make_history):
     assert np.isfinite(c.straddles["observed_share_beyond"]).all()
     one = promise_check(make_history([10.0, 10.4, 10.1]), {"p": 0.3}, 2)
     assert one.windows == 1 and one.bands["observed_ci_high"].iloc[0] > 0.9
-    assert any("expect" in w and "confirms little" in w for w in one.warnings)
+    assert any("1 window make 0.0027 such moves the expected count, too few to test" in w for w in one.warnings)
 
 
 def test_plenty_of_history_draws_no_width_warning(hist):

@@ -113,7 +113,8 @@ class PromiseCheck:
     verdict
         One sentence: which candidate's bands history kept best, and by which rule.
     reading
-        Plain sentences for the reader: the primary candidate's band and straddle, and the verdict.
+        Plain sentences for the reader: the primary candidate's +-1st band, straddle and option
+        breakeven, then the verdict.
     """
 
     name: str
@@ -374,7 +375,8 @@ def _warnings(c: PromiseCheck) -> tuple[str, ...]:
     expected = c.windows * float(widest["promised"])
     if expected < 1.0:
         out.append(f"the {_sig(widest['sigmas'])} band promises {_p(widest['promised'])} of moves outside it: "
-                   f"{c.windows} windows expect {expected:.2f} such moves, so seeing none confirms little")
+                   f"{c.windows} window{'s' if c.windows != 1 else ''} make {expected:.2g} such moves the "
+                   f"expected count, too few to test that promise")
     return tuple(out)
 
 
@@ -405,7 +407,7 @@ def _with_text(c: PromiseCheck) -> PromiseCheck:
     """The check with its warnings, verdict and reading filled in."""
     verdict = _verdict(c)
     band = c.bands_of(c.primary).iloc[0]
-    st = c.straddles.iloc[0]
+    st, be = c.straddles.iloc[0], c.breakevens.iloc[0]
     lvl = f"{100 * c.level:g}%"
     reading = (
         (f"at {_p(band['vol'])}, a {c.days}-bar move outside {_sig(band['sigmas'])} "
@@ -417,6 +419,11 @@ def _with_text(c: PromiseCheck) -> PromiseCheck:
         f"and pays back only on a {c.days}-bar move beyond that: promised {_p(st['promised_share_beyond'])} "
         f"of the time, seen {_p(st['observed_share_beyond'])} ({lvl} interval {_p(st['observed_ci_low'])} to "
         f"{_p(st['observed_ci_high'])})"),
+        (f"the {c.kind} struck at {c.strike:g} costs {be['premium']:.2f} at {_p(be['vol'])} and pays back only "
+         f"if the price ends {'above' if c.kind == 'call' else 'below'} {be['breakeven_price']:.2f} "
+         f"({100 * be['breakeven_move']:+.1f}%): promised {_p(be['promised_share_beyond'])} of the time, seen "
+         f"{_p(be['observed_share_beyond'])} ({lvl} interval {_p(be['observed_ci_low'])} to "
+         f"{_p(be['observed_ci_high'])})"),
         verdict,
     )
     return replace(c, warnings=_warnings(c), verdict=verdict, reading=reading)
