@@ -22,7 +22,11 @@ from volbench.estimators import REGISTRY
 from volbench.pricing.bsm import bsm_greeks, check_pricing_vol, check_rate
 from volbench.pricing.compare import OptionSpec, compare
 from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, PERCENTILES, vol_cone
+from volbench.pricing.promise import promises_for
 
+PROMISE_KEYS = ("bands", "bands_by_candidate", "band_scores", "straddle", "straddle_by_candidate", "breakeven",
+                "breakeven_by_candidate")
+"""Price-promise fields placed at the top level of ``compare --format json``; the rest go under price_promise."""
 CAUTION = "Estimates are statistical and carry model risk; they are not advice."
 NOT_IN_BUILD = "not available in this build"
 
@@ -217,10 +221,19 @@ def run_compare(args: argparse.Namespace) -> int:
     garch, scaling, reasons = _optional_results(args, history)
     comp = compare(history, pv, days, option=option, annualization=args.annualization, window=window,
                    garch=garch, scaling=scaling, cone_estimator=args.cone_estimator)
+    try:
+        promises = promises_for(comp, history)
+    except VolbenchError as exc:
+        promises, reasons = None, {**reasons, "bands": str(exc)}
     if reasons:
         comp = replace(comp, unavailable={**comp.unavailable, **reasons})
     if args.format == "json":
-        print_json(comp.as_dict())
+        out = comp.as_dict()
+        if promises is not None:
+            p = promises.as_dict()
+            out.update({k: p.pop(k) for k in PROMISE_KEYS})
+            out["price_promise"] = p
+        print_json(out)
         return 0
     h = history
     atm = " (at the money)" if math.isclose(comp.strike, comp.spot) else ""
@@ -241,7 +254,8 @@ def run_compare(args: argparse.Namespace) -> int:
     print(f"estimators over the last {comp.window} bars; gap = candidate - pricing vol; price diff = exact "
           "repricing; vega approx = vega x gap")
     missing = dict(comp.unavailable)
-    labels = {**{k: REGISTRY[k].label for k in REGISTRY}, "garch": "GARCH", "scaling": "scaling check"}
+    labels = {**{k: REGISTRY[k].label for k in REGISTRY}, "garch": "GARCH", "scaling": "scaling check",
+              "bands": "price bands"}
     hints = {"garch": "add --with-garch", "scaling": "add --with-scaling"}
     if missing:
         parts = []
@@ -255,8 +269,10 @@ def run_compare(args: argparse.Namespace) -> int:
     print()
     if "cone" in missing:
         print(f"cone: not available ({missing['cone']})")
-    for line in comp.reading:
+    for line in comp.reading + (() if promises is None else promises.reading):
         print(f"- {line}")
+    for line in () if promises is None else promises.warnings:
+        print(f"note: {line}")
     print(f"\n{CAUTION}")
     return 0
 
