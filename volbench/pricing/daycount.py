@@ -42,6 +42,7 @@ CONVENTION = ("years = calendar days / 365 (ACT/365) for the Black-Scholes-Merto
               "trading days = weekdays after the as-of date up to and including the expiry, less holidays, "
               "for the variance horizon")
 
+_HEADER_NAMES = ("date", "dates", "day", "holiday", "holidays", "holiday date", "closed", "closure", "closures")
 _WEEKDAYS = ("Monday", "Tuesday", "Wednesday", "Thursday", "Friday", "Saturday", "Sunday")
 
 
@@ -86,8 +87,8 @@ NO_HOLIDAYS = Holidays(np.array([], dtype="datetime64[D]"))
 def read_holidays(path: str | Path) -> Holidays:
     """Read a holidays file: one date (YYYY-MM-DD) per line, first cell of each line.
 
-    A header line (the first line with content, when it is not a date), blank lines and lines
-    starting with ``#`` are skipped; text after the date (``2024-12-25,Harbour Day``) is ignored.
+    A header line (the first line with content, when its first cell is Date, Day, Holiday or
+    Closed), blank lines and lines starting with ``#`` are skipped; text after the date (``2024-12-25,Harbour Day``) is ignored.
 
     Returns
     -------
@@ -114,7 +115,7 @@ def read_holidays(path: str | Path) -> Holidays:
         raise VolbenchError(f"{path}: holds no dates; write one date (YYYY-MM-DD) per line")
     parsed = pd.to_datetime(pd.Series(cells, dtype=object), format="ISO8601", errors="coerce")
     bad = parsed.isna().to_numpy()
-    if bad[0] and len(cells) > 1:  # a header line such as "date" or "holiday"
+    if bad[0] and len(cells) > 1 and cells[0].strip().lower() in _HEADER_NAMES:
         lines, cells, parsed, bad = lines[1:], cells[1:], parsed.iloc[1:], bad[1:]
     if bad.all():
         raise VolbenchError(f"{path}: line {lines[0]}: {cells[0]!r} is not a date; write one date "
