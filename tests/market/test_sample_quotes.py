@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import itertools
 import json
 import math
 import shutil
@@ -67,7 +68,7 @@ def test_forward_implied_variance_matches_the_formula(surface, truth):
     p, _ = truth
     es = surface.expiries
     assert es[0].forward_variance == pytest.approx(es[0].atm_implied_vol ** 2, rel=1e-14)
-    for prev, cur in zip(es, es[1:]):
+    for prev, cur in itertools.pairwise(es):
         fv = forward_variance(prev.atm_implied_vol, prev.life.years, cur.atm_implied_vol, cur.life.years)
         assert cur.forward_variance == pytest.approx(fv, rel=1e-12)
         assert cur.forward_implied_vol == pytest.approx(math.sqrt(fv), rel=1e-12)

@@ -9,8 +9,8 @@ recalculate still show numbers (spreadsheet programs recalculate on open: the wo
 full calculation on load).
 
 Only functions every common spreadsheet program has are used: LN, EXP, SQRT, PI and the legacy
-NORMSDIST (the standard normal distribution function), never a function that needs the
-``_xlfn.`` prefix (docs/METHODS.md, "Black-Scholes-Merton").
+NORMSDIST (the standard normal distribution function), never a function that newer file formats
+store with an ``_xlfn.`` prefix (such as NORM.S.DIST), which older programs show as #NAME?.
 """
 
 from __future__ import annotations

@@ -15,7 +15,6 @@ See docs/METHODS.md, "Day counts and the option's life".
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Literal
