@@ -21,6 +21,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from volbench.sample_quotes import write_sample_quotes
+
 SEED = 20261201
 STEPS_PER_BAR = 390
 BARS_PER_YEAR = 252
@@ -159,6 +161,7 @@ def write_samples(out: str | Path) -> list[Path]:
                                 "line 302": "high below low", "line 403": "duplicate of line 402's date",
                                 "line 503": "bad tick (close x10 for one bar)"},
     }
+    meta["option_quotes"] = write_sample_quotes(out)
     (out / "PARAMETERS.json").write_text(json.dumps(meta, indent=2) + "\n")
     return paths
 
