@@ -21,6 +21,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from volbench import sample_events
+
 SEED = 20261201
 STEPS_PER_BAR = 390
 BARS_PER_YEAR = 252
@@ -131,7 +133,7 @@ def write_samples(out: str | Path) -> list[Path]:
     rng = np.random.default_rng(SEED)
     paths = []
     for p in SERIES:
-        frame = simulate(p, rng)
+        frame = sample_events.plant(p.file, simulate(p, rng))
         if p.bad_rows:
             frame = _plant_bad_rows(frame)
         path = out / p.file
@@ -159,6 +161,7 @@ def write_samples(out: str | Path) -> list[Path]:
                                 "line 302": "high below low", "line 403": "duplicate of line 402's date",
                                 "line 503": "bad tick (close x10 for one bar)"},
     }
+    meta["events"] = sample_events.write_events(out, pd.bdate_range(START, periods=YEARS * BARS_PER_YEAR))
     (out / "PARAMETERS.json").write_text(json.dumps(meta, indent=2) + "\n")
     return paths
 
