@@ -148,10 +148,10 @@ def _dedupe(events: list[Event], findings: list[Finding]) -> tuple[tuple[Event, 
     return tuple(kept.values()), findings
 
 
-def _header(row: list[str]) -> dict[str, int] | None:
+def _header(row: list[str], date_format: str | None) -> dict[str, int] | None:
     """Column positions when ``row`` is a header (its first cell is not a date), else ``None``."""
     first = row[0].strip() if row else ""
-    if pd.to_datetime(pd.Series([first]), format="ISO8601", errors="coerce").notna().iloc[0]:
+    if pd.to_datetime(pd.Series([first]), format=date_format or "ISO8601", errors="coerce").notna().iloc[0]:
         return None
     lookup = {alias: canon for canon, names in _HEADER_NAMES.items() for alias in names}
     found: dict[str, int] = {}
@@ -206,7 +206,7 @@ def read_events(path: str | Path, *, date_format: str | None = None) -> EventCal
     if not numbered:
         raise VolbenchError(f"{path}: events file is empty; write one event a line: date,label,timing")
     findings: list[Finding] = []
-    cols = _header(numbered[0][1])
+    cols = _header(numbered[0][1], date_format)
     if cols is None:
         cols = {"date": 0, "label": 1, "timing": 2}
     else:
@@ -259,8 +259,8 @@ def read_events(path: str | Path, *, date_format: str | None = None) -> EventCal
 
 
 def _delimiter(text: str) -> str:
-    head = "\n".join(text.splitlines()[:20])
-    try:
-        return csv.Sniffer().sniff(head, delimiters=",;\t").delimiter
-    except csv.Error:
-        return ","
+    """Comma, semicolon or tab: the one the first non-empty line uses most (comma when none)."""
+    first = next((ln for ln in text.splitlines() if ln.strip()), "")
+    counts = {d: first.count(d) for d in (",", ";", "\t")}
+    best = max(counts, key=counts.get)
+    return best if counts[best] else ","
