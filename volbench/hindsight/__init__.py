@@ -10,6 +10,7 @@ from volbench.hindsight.forecasts import Forecast, HindsightCancelled
 from volbench.hindsight.run import DEFAULT_REFIT_EVERY, DEFAULT_WINDOWS, SCORE_COLUMNS, Hindsight, hindsight
 from volbench.hindsight.scoring import (
     diebold_mariano,
+    dm_degrees_of_freedom,
     ewc_degrees_of_freedom,
     ewc_long_run_variance,
     prediction_factors,
@@ -24,6 +25,7 @@ __all__ = [
     "Hindsight",
     "HindsightCancelled",
     "diebold_mariano",
+    "dm_degrees_of_freedom",
     "ewc_degrees_of_freedom",
     "ewc_long_run_variance",
     "hindsight",

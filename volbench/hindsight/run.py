@@ -28,7 +28,7 @@ from volbench.hindsight.forecasts import (
     ewma_forecast,
     garch_forecast,
 )
-from volbench.hindsight.scoring import diebold_mariano, ewc_degrees_of_freedom, prediction_factors, qlike
+from volbench.hindsight.scoring import diebold_mariano, dm_degrees_of_freedom, prediction_factors, qlike
 from volbench.pricing.bsm import bsm_price
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_window
 
@@ -36,6 +36,9 @@ DEFAULT_WINDOWS: tuple[int, ...] = (20, 60, 250)
 """A month, a quarter and a year of daily bars."""
 DEFAULT_REFIT_EVERY = 63
 """GARCH refits at most every this many bars (a quarter of daily bars); parameters move slowly."""
+EWMA_REACH = 2 * 33
+"""Bars an EWMA (lambda 0.94) or GARCH forecast leans on, for the test's dependence: twice the
+effective sample size (1 + lambda) / (1 - lambda) of about 32 bars (common practice, no source)."""
 MIN_PERIODS = 10
 """Fewest evaluation periods a ranking is given for."""
 MAX_DAYS = 2520
@@ -305,7 +308,8 @@ def hindsight(
     perr = np.abs(p_fc - p_real[:, None])
     mean_loss = loss.mean(axis=0)
     best = int(np.argmin(mean_loss))
-    nu = ewc_degrees_of_freedom(grid.size)
+    reach = max([c.window or 0 for c in cands] + [EWMA_REACH]) + n_days  # bars a loss difference depends on
+    nu = dm_degrees_of_freedom(grid.size, math.ceil(reach / k_step))
     dm_stat, dm_p = diebold_mariano(loss, loss[:, best], nu)
     dm_stat[best], dm_p[best] = np.nan, np.nan
 

