@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
+from functools import cached_property
 
 import numpy as np
 import pandas as pd
@@ -86,9 +87,12 @@ class Hindsight:
     realized
         Close-to-close vol realized over the N bars after each as-of date, annualized, zero mean:
         sqrt(A / N sum r^2).
-    forecasts, lower, upper
-        (as-of date x candidate key) annualized vol forecasts and their ``confidence`` intervals
-        for the realized vol.
+    keys
+        Candidate keys in the column order of ``vols``.
+    vols, interval
+        (periods x candidates) annualized vol forecasts, and the multipliers (lower, upper) per
+        candidate giving their ``confidence`` intervals for the realized vol. The frames
+        :attr:`forecasts`, :attr:`lower` and :attr:`upper` are built from them on first use.
     scores
         One row per candidate, best QLIKE first, columns :data:`SCORE_COLUMNS`: bias and rmse in
         vol points (100 x decimal), mean QLIKE, coverage (share of periods inside the interval),
@@ -114,9 +118,9 @@ class Hindsight:
     confidence: float
     dates: pd.DatetimeIndex
     realized: np.ndarray
-    forecasts: pd.DataFrame
-    lower: pd.DataFrame
-    upper: pd.DataFrame
+    keys: tuple[str, ...]
+    vols: np.ndarray
+    interval: tuple[np.ndarray, np.ndarray]
     scores: pd.DataFrame
     best: str
     dm_dof: int
@@ -126,6 +130,21 @@ class Hindsight:
     @property
     def periods(self) -> int:
         return len(self.dates)
+
+    @cached_property
+    def forecasts(self) -> pd.DataFrame:
+        """(as-of date x candidate key) annualized vol forecasts."""
+        return pd.DataFrame(self.vols, index=self.dates, columns=list(self.keys))
+
+    @cached_property
+    def lower(self) -> pd.DataFrame:
+        """Lower ends of the candidates' intervals for the realized vol."""
+        return pd.DataFrame(self.vols * self.interval[0], index=self.dates, columns=list(self.keys))
+
+    @cached_property
+    def upper(self) -> pd.DataFrame:
+        """Upper ends of the candidates' intervals for the realized vol."""
+        return pd.DataFrame(self.vols * self.interval[1], index=self.dates, columns=list(self.keys))
 
     def as_dict(self) -> dict:
         """The JSON shape of one series (NaN -> None)."""
@@ -301,11 +320,11 @@ def hindsight(
     lo_k, hi_k = prediction_factors(n_days, np.array([c.dof for c in cands]), confidence)
     lower, upper = f * lo_k, f * hi_k
     inside = (realized[:, None] >= lower) & (realized[:, None] <= upper)
+    # at the money with no rate or yield the price is proportional to spot: price per unit of spot
     spot = history.close[grid]
-    years = n_days / a
-    p_fc = bsm_price(spot[:, None], spot[:, None], years, 0.0, f)
-    p_real = bsm_price(spot, spot, years, 0.0, realized)
-    perr = np.abs(p_fc - p_real[:, None])
+    unit = bsm_price(1.0, 1.0, n_days / a, 0.0, np.column_stack([f, realized]))
+    p_real = spot * unit[:, -1]
+    perr = spot[:, None] * np.abs(unit[:, :-1] - unit[:, -1:])
     mean_loss = loss.mean(axis=0)
     best = int(np.argmin(mean_loss))
     reach = max([c.window or 0 for c in cands] + [EWMA_REACH]) + n_days  # bars a loss difference depends on
@@ -323,14 +342,12 @@ def hindsight(
     scores = scores.sort_values("qlike", kind="stable").reset_index(drop=True)
     scores.insert(0, "rank", np.arange(1, len(scores) + 1))
     dates = history.index[grid]
-    cols = [c.key for c in cands]
     if k_step < n_days:
         notes.append(f"periods overlap ({n_days}-bar periods every {k_step} bar{'s' if k_step != 1 else ''}); "
                      "the Diebold-Mariano variance allows for it")
     return Hindsight(
         name=history.name, days=n_days, step=k_step, windows=wins, annualization=a, confidence=confidence,
-        dates=dates, realized=realized, forecasts=pd.DataFrame(f, index=dates, columns=cols),
-        lower=pd.DataFrame(lower, index=dates, columns=cols), upper=pd.DataFrame(upper, index=dates, columns=cols),
+        dates=dates, realized=realized, keys=tuple(c.key for c in cands), vols=f, interval=(lo_k, hi_k),
         scores=scores[list(SCORE_COLUMNS)], best=cands[best].key, dm_dof=nu, unavailable=unavailable,
         notes=tuple(notes),
     )

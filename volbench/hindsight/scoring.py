@@ -85,8 +85,9 @@ def ewc_long_run_variance(x: np.ndarray, nu: int | None = None) -> np.ndarray:
     nu = ewc_degrees_of_freedom(t) if nu is None else int(nu)
     if not 1 <= nu < t:
         raise VolbenchError(f"cosine terms must be between 1 and {t - 1}, got {nu}")
+    c = a - a.mean(axis=0)
     # DCT-II: y_j = 2 sum_t x_t cos(pi j (t + 1/2) / T) for t = 0..T-1, so L_j = y_j / sqrt(2 T)
-    y = dct(a - a.mean(axis=0), type=2, axis=0)[1:nu + 1]
+    y = dct(c, type=2, axis=0)[1:nu + 1]
     return (y * y).mean(axis=0) / (2.0 * t)
 
 
@@ -156,7 +157,8 @@ def prediction_factors(days: int, dof, confidence: float = 0.95) -> tuple[np.nda
     alpha = 1.0 - confidence
     d = np.asarray(dof, dtype=float)
     finite = np.isfinite(d)
-    lo = np.where(finite, stats.f.ppf(alpha / 2, days, np.where(finite, d, 1.0)), stats.chi2.ppf(alpha / 2, days) / days)
-    hi = np.where(finite, stats.f.ppf(1 - alpha / 2, days, np.where(finite, d, 1.0)),
-                  stats.chi2.ppf(1 - alpha / 2, days) / days)
-    return np.sqrt(lo), np.sqrt(hi)
+    q = np.array([alpha / 2, 1 - alpha / 2])[:, None]
+    out = stats.f.ppf(q, days, np.where(finite, d, 1.0))
+    if not finite.all():
+        out[:, ~finite] = stats.chi2.ppf(q, days) / days
+    return np.sqrt(out[0]), np.sqrt(out[1])
