@@ -17,7 +17,13 @@ from volbench.cli.common import (
     render_table,
 )
 from volbench.errors import VolbenchError
-from volbench.hindsight import DEFAULT_REFIT_EVERY, DEFAULT_WINDOWS, SCORE_COLUMNS, Hindsight, hindsight
+from volbench.hindsight import (
+    DEFAULT_REFIT_EVERY,
+    DEFAULT_WINDOWS,
+    SCORE_COLUMNS,
+    Hindsight,
+    hindsight,
+)
 
 
 def register(sub) -> None:

@@ -7,7 +7,13 @@ statistical, carry model risk and are not advice.
 """
 
 from volbench.hindsight.forecasts import Forecast, HindsightCancelled
-from volbench.hindsight.run import DEFAULT_REFIT_EVERY, DEFAULT_WINDOWS, SCORE_COLUMNS, Hindsight, hindsight
+from volbench.hindsight.run import (
+    DEFAULT_REFIT_EVERY,
+    DEFAULT_WINDOWS,
+    SCORE_COLUMNS,
+    Hindsight,
+    hindsight,
+)
 from volbench.hindsight.scoring import (
     diebold_mariano,
     dm_degrees_of_freedom,

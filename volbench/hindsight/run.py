@@ -29,7 +29,12 @@ from volbench.hindsight.forecasts import (
     ewma_forecast,
     garch_forecast,
 )
-from volbench.hindsight.scoring import diebold_mariano, dm_degrees_of_freedom, prediction_factors, qlike
+from volbench.hindsight.scoring import (
+    diebold_mariano,
+    dm_degrees_of_freedom,
+    prediction_factors,
+    qlike,
+)
 from volbench.pricing.bsm import bsm_price
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_window
 

@@ -36,7 +36,7 @@ def ewc_degrees_of_freedom(periods: int) -> int:
     nu = 0.4 T^(2/3) for the equal-weighted cosine estimator with Student-t(nu) critical values.
     """
     t = int(periods)
-    return max(2, min(t - 1, int(math.floor(0.4 * t ** (2.0 / 3.0)))))
+    return max(2, min(t - 1, math.floor(0.4 * t ** (2.0 / 3.0))))
 
 
 def dm_degrees_of_freedom(periods: int, dependence: int) -> int:
