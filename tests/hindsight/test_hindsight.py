@@ -120,6 +120,31 @@ def test_event_aware_candidate_beats_the_blended_one_on_an_event_series():
     assert any("40 event bars" in n for n in res.notes)
 
 
+def test_event_aware_forecasts_equal_a_plain_per_date_computation():
+    # reference: at each as-of bar t, from the returns up to t only (common practice, no source): the
+    # sample variance of the last W ordinary returns, the event move from the event bars up to t less
+    # the variance of every ordinary return up to t (floored at 0), and the event bars among t+1..t+N
+    rng = np.random.default_rng(29)
+    n, w, days = 700, 40, 15
+    r = rng.standard_normal(n - 1) * 0.012
+    bars = np.arange(25, n, 45)
+    r[bars - 1] += rng.standard_normal(bars.size) * 0.05
+    h = _close_only(r)
+    cal = make_calendar([str(pd.Timestamp(h.dates[b]).date()) for b in bars])
+    res = hindsight(h, days, windows=(w,), keys=("close_to_close",), events=cal, step=13)
+    is_event = np.zeros(n, bool)
+    is_event[bars] = True
+    for date, got in zip(res.dates, res.forecasts[f"event_aware:{w}"]):
+        t = int(np.searchsorted(h.index, date))
+        past = np.arange(1, t + 1)
+        ordinary = r[past[~is_event[past]] - 1]
+        events = r[past[is_event[past]] - 1]
+        move = max(np.mean(events**2) - np.var(ordinary, ddof=1), 0.0)
+        m = int(is_event[t + 1:t + days + 1].sum())
+        want = math.sqrt(A * (np.var(ordinary[-w:], ddof=1) + m * move / days))
+        assert got == pytest.approx(want, rel=1e-9)
+
+
 def test_garch_path_matches_the_fit_at_refits_and_reuses_parameters_between(simulate_ohlc):
     # reference: arch's own forecast through fit_garch at the refit bar; between refits one step of
     # the GARCH(1,1) recursion with the refit's parameters (Bollerslev 1986)

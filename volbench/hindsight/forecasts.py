@@ -144,11 +144,10 @@ def event_aware_forecasts(history: PriceHistory, emap: EventMap, windows: Sequen
     ev_n = np.cumsum(mask)
     ev_sq = np.cumsum(np.where(mask, r2, 0.0))
     ordinary = keep.copy()
-    ordinary[0] = False
+    ordinary[0] = False  # the first bar has no return
     o_n = np.cumsum(ordinary)
-    o_r = np.where(ordinary, np.nan_to_num(r), 0.0)
-    mean_o = np.cumsum(o_r) / np.maximum(o_n, 1)
-    centred = np.where(ordinary, np.nan_to_num(r) - mean_o[-1], 0.0)  # centred sums: no cancellation
+    r0 = np.nan_to_num(r)
+    centred = np.where(ordinary, r0 - r0[ordinary].mean(), 0.0)  # centred sums: no cancellation
     s1 = np.cumsum(centred)
     s2 = np.cumsum(centred * centred)
     with np.errstate(invalid="ignore", divide="ignore"):
