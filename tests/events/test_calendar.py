@@ -48,6 +48,11 @@ def test_every_bad_row_is_a_finding_naming_its_line(tmp_path):
     assert {f.kind for f in cal.findings} <= set(EVENT_FINDING_KINDS)
 
 
+def test_a_headerless_file_whose_first_date_is_mistyped_keeps_its_other_rows(tmp_path):
+    cal = read_events(_write(tmp_path, "2023-13-40,bad\n2023-04-18,ok\n"))
+    assert [e.label for e in cal.events] == ["ok"] and [(f.kind, f.line) for f in cal.findings] == [("bad_date", 1)]
+
+
 def test_date_format_option(tmp_path):
     cal = read_events(_write(tmp_path, "18/04/2023,Q1,before_open\n"), date_format="%d/%m/%Y")
     assert cal.events[0].date == "2023-04-18"

@@ -50,7 +50,8 @@ def register(sub) -> None:
     p.add_argument("--refit-every", type=int, default=DEFAULT_REFIT_EVERY, metavar="R",
                    help="bars between GARCH refits; parameters are kept in between (default %(default)s)")
     p.add_argument("--events", metavar="FILE", default=None,
-                   help="events CSV (date[,label][,timing]) of the instrument: adds event-aware candidates")
+                   help="events CSV (date[,label][,timing]; timing before_open or after_close; dates as "
+                        "--date-format says, ISO by default) of the instrument: adds event-aware candidates")
     add_annualization(p)
     add_format(p, ("table", "json", "csv"))
     p.set_defaults(func=run_hindsight)

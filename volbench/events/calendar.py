@@ -149,16 +149,23 @@ def _dedupe(events: list[Event], findings: list[Finding]) -> tuple[tuple[Event, 
 
 
 def _header(row: list[str], date_format: str | None) -> dict[str, int] | None:
-    """Column positions when ``row`` is a header (its first cell is not a date), else ``None``."""
-    first = row[0].strip() if row else ""
-    if pd.to_datetime(pd.Series([first]), format=date_format or "ISO8601", errors="coerce").notna().iloc[0]:
-        return None
+    """Column positions when ``row`` is a header, else ``None`` (a data row).
+
+    A header names at least one known column, or has a first cell that is neither a date nor
+    holds a digit (a data row with a mistyped date, such as 2023-13-40, stays a data row and
+    becomes a finding).
+    """
     lookup = {alias: canon for canon, names in _HEADER_NAMES.items() for alias in names}
     found: dict[str, int] = {}
     for i, cell in enumerate(row):
         canon = lookup.get(_norm(cell))
         if canon and canon not in found:
             found[canon] = i
+    if found:
+        return found
+    first = row[0].strip() if row else ""
+    if any(ch.isdigit() for ch in first):
+        return None
     return found
 
 
