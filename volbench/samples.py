@@ -22,6 +22,7 @@ import numpy as np
 import pandas as pd
 
 from volbench.sample_quotes import write_sample_quotes
+from volbench import sample_events
 
 SEED = 20261201
 STEPS_PER_BAR = 390
@@ -133,7 +134,7 @@ def write_samples(out: str | Path) -> list[Path]:
     rng = np.random.default_rng(SEED)
     paths = []
     for p in SERIES:
-        frame = simulate(p, rng)
+        frame = sample_events.plant(p.file, simulate(p, rng))
         if p.bad_rows:
             frame = _plant_bad_rows(frame)
         path = out / p.file
@@ -162,6 +163,7 @@ def write_samples(out: str | Path) -> list[Path]:
                                 "line 503": "bad tick (close x10 for one bar)"},
     }
     meta["option_quotes"] = write_sample_quotes(out)
+    meta["events"] = sample_events.write_events(out, pd.bdate_range(START, periods=YEARS * BARS_PER_YEAR))
     (out / "PARAMETERS.json").write_text(json.dumps(meta, indent=2) + "\n")
     return paths
 
