@@ -21,6 +21,8 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from volbench.sample_intraday import write_intraday_sample
+
 SEED = 20261201
 STEPS_PER_BAR = 390
 BARS_PER_YEAR = 252
@@ -158,6 +160,7 @@ def write_samples(out: str | Path) -> list[Path]:
         "bad_rows_in_quillon": {"line 102": "missing close", "line 202": "non-numeric high",
                                 "line 302": "high below low", "line 403": "duplicate of line 402's date",
                                 "line 503": "bad tick (close x10 for one bar)"},
+        "intraday": write_intraday_sample(out),
     }
     (out / "PARAMETERS.json").write_text(json.dumps(meta, indent=2) + "\n")
     return paths
