@@ -42,7 +42,7 @@ class IntradayParams:
     overnight_share: float = 0.15  # share of each day's diffusive variance that arrives overnight
     log_variance_persistence: float = 0.92  # daily AR(1) coefficient of log variance
     log_variance_shock_sd: float = 0.20  # daily shock to log variance
-    half_spread: float = 0.0002  # bid-ask bounce: trades print at +- this in log price
+    half_spread: float = 0.0003  # bid-ask bounce: trades print at +- this in log price
     jumps: int = 4
     jump_size_min: float = 0.02  # absolute log jump, drawn uniformly between min and max
     jump_size_max: float = 0.035

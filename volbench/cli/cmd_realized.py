@@ -100,8 +100,8 @@ def render_report(r: RealizedReport) -> str:
     """Plain-text report of one series."""
     h, lay = r.history, r.layout
     prov = h.provenance()
-    out = [f"{h.name}  ({prov.get('source_file') or ''}: {h.n} rows, {h.first_date} to {h.last_date}; flagged rows "
-           f"{'excluded' if h.exclude_flagged else 'kept'})"]
+    out = [(f"{h.name}  ({prov.get('source_file') or ''}: {h.n} rows, {h.first_date} to {h.last_date}; "
+            f"flagged rows {'excluded' if h.exclude_flagged else 'kept'})")]
     rule = lay.as_dict()["session_rule"]
     out.append(f"{lay.describe()} (sessions by {rule}); analysed by day, annualized with {r.annualization:g} "
                "trading days a year")
@@ -110,7 +110,7 @@ def render_report(r: RealizedReport) -> str:
                    "has one bar a day)")
     else:
         m = r.measures
-        out.append(f"realized and bipower variance sampled every {format_interval(m.interval_seconds)}; the "
+        out.append(f"realized and bipower variance sampled at {format_interval(m.interval_seconds)} intervals; the "
                    "realized kernel uses every bar")
         out += [f"note: {n}" for n in m.notes]
         out.append("")
@@ -122,16 +122,15 @@ def render_report(r: RealizedReport) -> str:
                          f"{pct(e.ci_low)} to {pct(e.ci_high)}" if e else r.unavailable.get(key, "")])
         rows.append(["realized kernel + overnight", pct(r.kernel_vol), ""])
         rows.append(["overnight share of variance", pct(r.overnight_share, 1), ""])
-        out.append(render_table(["measure", "vol", "95% interval (asymptotic)"], rows, "lrl"))
+        out.append(render_table(["measure", "vol", "95% interval (approximate)"], rows, "lrl"))
         if r.signature:
             s = r.signature
             out.append("")
             out.append(f"Signature plot (annualized whole-day realized vol by sampling interval, {s.days} days)")
             srows = [[format_interval(t.interval_seconds) if t.kind == "intraday" else "1-day close-to-close",
-                      pct(t.annualized_vol), "" if not math.isfinite(t.excess) else f"{t.excess:+.1%}",
-                      _f(t.t_excess, 1) if math.isfinite(t.t_excess) else ""]
+                      pct(t.annualized_vol), f"{t.noise_share:+.1%}" if math.isfinite(t.noise_share) else ""]
                      for t in s.table.itertuples(index=False)]
-            out.append(render_table(["interval", "vol", "vs plateau", "t"], srows, "lrrr"))
+            out.append(render_table(["interval", "vol", "noise share (estimated)"], srows, "lrr"))
             out.append(f"suggested sampling: {format_interval(s.suggested_interval_seconds)}; {s.reason}")
     c = r.continuity
     out.append("")

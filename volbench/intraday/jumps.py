@@ -331,8 +331,8 @@ def lee_mykland_screen(
                           "jump": jump})
     share = float(np.sum(r[i][jump] ** 2) / np.sum(r**2)) if np.any(r != 0) else 0.0
     j = int(np.argmax(np.abs(lstat)))
-    notes = [f"daily returns only: local volatility from the {k - 1} returns before each one; a daily return "
-             "cannot tell a jump from a volatile day, so this screen catches only very large moves"]
+    notes = [(f"daily returns only: local volatility from the {k - 1} returns before each one; a daily return "
+              "cannot tell a jump from a volatile day, so this screen catches only very large moves")]
     if i.size < n_r - (k - 1):
         notes.append(f"{n_r - (k - 1) - i.size} return(s) with zero local volatility (flat prices) not tested")
     verdict = _daily_verdict(i.size, int(jump.sum()), float(p[j]), float(MU1 * lstat[j]), tests["date"].iloc[j],

@@ -177,7 +177,7 @@ class RealizedMeasures:
 
 def sparse_step(layout: SessionLayout, seconds: float = IV_SAMPLING_SECONDS) -> int:
     """Whole number of bars closest to ``seconds`` (at least 1)."""
-    return max(1, int(round(seconds / layout.bar_interval_seconds)))
+    return max(1, round(seconds / layout.bar_interval_seconds))
 
 
 def realized_measures(

@@ -124,7 +124,7 @@ def parse_sampling(value, layout: SessionLayout) -> int | str:
     if not (np.isfinite(k) and k >= 1 and abs(k - round(k)) < 1e-9):
         raise VolbenchError(f"sampling {value!r} seconds must be a whole multiple of the {bar:g}-second bar "
                             f"interval, e.g. {bar:g} or {2 * bar:g}")
-    return int(round(k))
+    return round(k)
 
 
 def realized_report(

@@ -22,15 +22,13 @@ from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
 
 MAX_INTERVAL_SECONDS = 3600.0
 """Longest intraday sampling interval on the plot (about an hour)."""
-RISE_T = 2.33
-"""One-sided 1 % normal quantile: a paired t above this is a rise, not chance."""
-RISE_SHARE = 0.02
-"""...and the rise must exceed 2 % of variance (about 1 % of vol) to matter for pricing."""
-MIN_INTERVALS = 4
-"""Fewer intraday intervals than this up to an hour and no rise can be judged."""
+NOISE_T = 2.33
+"""One-sided 1 % normal quantile: a noise slope with |t| above this is not chance."""
+NOISE_SHARE = 0.02
+"""Noise matters while it makes up more than 2 % of the measured variance (about 1 % of vol)."""
 
-SIGNATURE_COLUMNS = ("interval_seconds", "sampling_bars", "returns_per_day", "annualized_vol", "excess",
-                     "t_excess", "kind")
+SIGNATURE_COLUMNS = ("interval_seconds", "sampling_bars", "returns_per_day", "annualized_vol", "noise_share",
+                     "kind")
 
 
 @dataclass(frozen=True, eq=False)
@@ -44,12 +42,13 @@ class SignaturePlot:
     table
         Columns :data:`SIGNATURE_COLUMNS`, one row per intraday interval (every multiple of the bar
         interval up to :data:`MAX_INTERVAL_SECONDS`) and a last row ``kind == "close_to_close"``
-        (interval one day). ``excess`` is the mean whole-day RV at that interval relative to the
-        plateau (the average over the longer half of the intervals) minus 1; ``t_excess`` its
-        paired t over days. Both are NaN on the close-to-close row.
+        (interval one day, ``sampling_bars`` 0). ``noise_share`` is the estimated share of the
+        measured variance at that interval that is noise (NaN on the close-to-close row).
+    noise_variance, noise_t
+        Estimated variance of the noise in log prices (omega^2) and the t statistic of that estimate.
     suggested_interval_seconds, suggested_sampling_bars
-        Shortest interval from which every longer interval up to the plateau is free of a material,
-        significant rise (rule in :func:`signature_plot`).
+        Shortest interval at which noise makes up at most :data:`NOISE_SHARE` of the variance (the
+        bar interval when the noise is not significant).
     reason
         One sentence on what the plot shows.
     days, annualization
@@ -58,6 +57,8 @@ class SignaturePlot:
 
     name: str
     table: pd.DataFrame
+    noise_variance: float
+    noise_t: float
     suggested_interval_seconds: float
     suggested_sampling_bars: int
     reason: str
@@ -68,6 +69,8 @@ class SignaturePlot:
         return {
             "points": [{"interval_seconds": float(t.interval_seconds), "annualized_vol": float(t.annualized_vol),
                         "kind": t.kind} for t in self.table.itertuples(index=False)],
+            "noise_variance": self.noise_variance,
+            "noise_t": self.noise_t,
             "suggested_interval_seconds": self.suggested_interval_seconds,
             "reason": self.reason,
             "days": self.days,
@@ -109,11 +112,16 @@ def signature_plot(
     At each k: whole-day variance v_t(k) = RV_t(k) + o_t^2 (every k-th grid price of the session,
     its last price always kept; o the overnight return), annualized vol sqrt(A mean_t v_t(k)). The
     last point is the close-to-close vol sqrt(A mean_t r_t^2) over the same days, equal in
-    expectation to every intraday point without noise. Plateau p_t = mean of v_t(k) over the
-    longer half of the intervals; at each shorter k the paired difference d_t = v_t(k) - p_t gives
-    excess = mean(d) / mean(p) and t = mean(d) / (sd(d) / sqrt(N)). A rise is t > 2.33 and
-    excess > 2 %; the suggested interval is one step longer than the longest interval that rises
-    (the bar interval when none does). A rule of thumb of our own, no source.
+    expectation to every intraday point without noise.
+
+    Suggested interval: with i.i.d. noise of variance omega^2, E[RV_t(k)] = IV_t + 2 n_t(k) omega^2,
+    n_t(k) the returns that day (Zhang, Mykland & Ait-Sahalia 2005, JASA 100; Bandi & Russell 2008,
+    Review of Economic Studies 75; from memory). The slope is read where it is measured best, at the
+    two shortest intervals, day by day: b_t = (v_t(1) - v_t(2)) / (n_t(1) - n_t(2)) (the overnight
+    return cancels), b = mean b_t = 2 omega^2, t = b / (sd(b_t) / sqrt(N)). Noise share at k:
+    b mean n(k) / mean v(k). When |t| > 2.33 the suggestion is the shortest k whose noise share is at
+    most 2 %; otherwise the bar interval. A negative slope (RV falling toward short intervals) points
+    to stale or smoothed prices and is treated the same way by its size.
     """
     a = check_annualization(annualization)
     lay = layout if layout is not None else infer_layout(history.dates, session_break)
@@ -122,11 +130,12 @@ def signature_plot(
     bar = lay.bar_interval_seconds
     top = max(1, int(np.floor(max_interval_seconds / bar + 1e-9)))
     p, sess = session_prices(history, lay)
-    rows, per_day = [], []
-    for k in range(1, top + 1):
+    rows, per_day, counts_k = [], [], []
+    for k in range(1, top + 1):  # a loop over sampling intervals, not bars
         sr = returns_on_grid(p, sess, lay.n_sessions, k, bar)
         rv = np.einsum("ij,ij->i", sr.returns, sr.returns)
         per_day.append((rv + sr.overnight**2)[1:])
+        counts_k.append(sr.counts[1:].astype(float))
         rows.append((k * bar, k, float(sr.counts.mean())))
     v = np.vstack(per_day)
     n_days = v.shape[1]
@@ -134,41 +143,55 @@ def signature_plot(
         raise VolbenchError(f"{history.name}: the signature plot needs at least 3 sessions, has {lay.n_sessions}")
     closes = np.log(history.close[lay.ends])
     cc = np.diff(closes) ** 2
-    excess = np.full(top, np.nan)
-    t = np.full(top, np.nan)
-    half = max(2, int(np.ceil(top / 2)))
-    if top >= MIN_INTERVALS:
-        ref = v[half - 1:].mean(axis=0)
-        d = v - ref
-        sd = d.std(axis=1, ddof=1)
-        excess = d.mean(axis=1) / ref.mean()
-        with np.errstate(divide="ignore", invalid="ignore"):
-            t = np.where(sd > 0, d.mean(axis=1) / (sd / np.sqrt(n_days)), 0.0)
-    vols = np.sqrt(a * v.mean(axis=1))
+    counts = np.vstack(counts_k)
+    mean_v = v.mean(axis=1)
+    b, t_b = _noise_slope(v, counts)
+    share = b * counts.mean(axis=1) / mean_v if np.isfinite(b) else np.full(top, np.nan)
     table = pd.DataFrame({
         "interval_seconds": [r[0] for r in rows] + [DAY_SECONDS],
         "sampling_bars": [r[1] for r in rows] + [0],
         "returns_per_day": [r[2] for r in rows] + [1.0],
-        "annualized_vol": np.concatenate((vols, [np.sqrt(a * cc.mean())])),
-        "excess": np.concatenate((excess, [np.nan])),
-        "t_excess": np.concatenate((t, [np.nan])),
+        "annualized_vol": np.concatenate((np.sqrt(a * mean_v), [np.sqrt(a * cc.mean())])),
+        "noise_share": np.concatenate((share, [np.nan])),
         "kind": ["intraday"] * top + ["close_to_close"],
     })
-    k_sug, reason = _suggest(top, half, excess, t, bar)
-    return SignaturePlot(history.name, table, k_sug * bar, k_sug, reason, n_days, a)
+    k_sug, reason = _suggest(top, share, t_b, bar)
+    return SignaturePlot(history.name, table, b / 2 if np.isfinite(b) else np.nan, t_b, k_sug * bar, k_sug,
+                         reason, n_days, a)
 
 
-def _suggest(top: int, half: int, excess: np.ndarray, t: np.ndarray, bar: float) -> tuple[int, str]:
-    if top < MIN_INTERVALS:
-        return 1, (f"only {top} sampling interval(s) of {format_interval(bar)} bars fit in an hour: too few to "
-                   "judge a rise, so the bar interval is used")
-    rising = (t[: half - 1] > RISE_T) & (excess[: half - 1] > RISE_SHARE)
-    plateau = f"{format_interval(half * bar)} to {format_interval(top * bar)}"
-    if not rising.any():
-        return 1, (f"flat: realized vol at the {format_interval(bar)} bar interval is within sampling noise of "
-                   f"its level at {plateau} sampling ({excess[0]:+.1%} in variance), so noise does not "
-                   "noticeably inflate it; the bar interval is used")
-    k = int(np.flatnonzero(rising)[-1]) + 2
-    return k, (f"rises toward short intervals: at {format_interval(bar)} sampling realized variance is "
-               f"{excess[0]:+.0%} above its level at {plateau} (t = {t[0]:.1f}), the mark of microstructure "
-               f"noise; from {format_interval(k * bar)} on the rise is gone or too small to matter")
+def _noise_slope(v: np.ndarray, counts: np.ndarray) -> tuple[float, float]:
+    """b = mean over days of (v(1) - v(2)) / (n(1) - n(2)) and its t; NaN without two intervals."""
+    if v.shape[0] < 2:
+        return float("nan"), float("nan")
+    dn = counts[0] - counts[1]
+    ok = dn > 0
+    if ok.sum() < 2:
+        return float("nan"), float("nan")
+    bt = (v[0] - v[1])[ok] / dn[ok]
+    b = float(bt.mean())
+    sd = float(bt.std(ddof=1))
+    return b, (b / (sd / np.sqrt(bt.size)) if sd > 0 else 0.0)
+
+
+def _suggest(top: int, share: np.ndarray, t_b: float, bar: float) -> tuple[int, str]:
+    if not np.isfinite(t_b):
+        return 1, (f"only one sampling interval of {format_interval(bar)} bars fits in an hour: no noise can be "
+                   "judged, so the bar interval is used")
+    bar_txt = format_interval(bar)
+    if abs(t_b) <= NOISE_T:
+        return 1, (f"flat: realized variance does not change significantly toward the {bar_txt} bar interval "
+                   f"(noise estimated at {share[0]:+.1%} of the variance there, t = {t_b:.1f}), so the bar "
+                   "interval is used")
+    small = np.flatnonzero(np.abs(share) <= NOISE_SHARE)
+    direction = ("rises toward short intervals, the mark of microstructure noise (bid-ask bounce)" if t_b > 0
+                 else "falls toward short intervals, the mark of stale or smoothed prices")
+    head = f"{direction}: at {bar_txt} sampling it makes up {share[0]:+.1%} of realized variance (t = {t_b:.1f})"
+    if small.size == 0:
+        return top, (f"{head}, and still more than {NOISE_SHARE:.0%} at {format_interval(top * bar)}; the longest "
+                     "interval on the plot is suggested, and the realized kernel is the safer measure")
+    k = int(small[0]) + 1
+    if k == 1:
+        return 1, f"{head}, at most {NOISE_SHARE:.0%}: the bar interval is used"
+    return k, (f"{head}; from {format_interval(k * bar)} on it is at most {NOISE_SHARE:.0%}, so that is the "
+               "suggested sampling")
