@@ -120,12 +120,13 @@ def har_forecast(
     Notes
     -----
     Fitted on y_t = S_t + o_t^2 (session measure plus squared overnight return) with
-    ``arch.univariate.HARX(y, lags=[1, 5, 22])``; the multi-day forecast iterates the regression
-    (``forecast(method="analytic")``). A linear HAR can forecast a zero or negative variance (for
-    instance a negative constant after a calm spell). Such a day is replaced by the floor: the
-    smallest positive whole-day variance in the fitting sample, the lowest level the data show as
-    possible. How many days were floored is reported; with none floored the path is arch's forecast
-    unchanged. Term structure as for GARCH: vol(T) = sqrt(A (1/T) sum_{h=1..T} E[y_{t+h}])
+    ``arch.univariate.HARX(y, lags=[1, 5, 22])``; the multi-day forecast iterates the fitted
+    regression day by day (:func:`iterate_har`; equal to arch's ``forecast(method="analytic")`` when
+    nothing is floored). A linear HAR can forecast a zero or negative variance (for instance after
+    a sharp fall when the weekly or monthly coefficient is negative). Such a day is replaced by the
+    floor, the smallest positive whole-day variance in the fitting sample (the lowest level the data
+    show as possible), before it feeds the next day's forecast; how many days were floored is
+    reported. Term structure as for GARCH: vol(T) = sqrt(A (1/T) sum_{h=1..T} E[y_{t+h}])
     (docs/METHODS.md, "GARCH and the vol over an option's life").
     """
     a = check_annualization(annualization)
@@ -143,18 +144,36 @@ def har_forecast(
     params["const"] /= SCALE
     ses = {k: float(res.std_err[n]) for k, n in zip(PARAM_NAMES, names)}
     ses["const"] /= SCALE
-    path = res.forecast(horizon=max(hz), reindex=False, method="analytic").mean.to_numpy()[-1] / SCALE
-    positive = y.to_numpy()[y.to_numpy() > 0]
-    floor = float(positive.min())
-    bad = ~(path > 0)
+    floor = float(y[y > 0].min())
+    path, bad = iterate_har(params, y.to_numpy(), max(hz), floor)
     notes = []
-    if bad.any():
-        notes.append(f"{int(bad.sum())} of {path.size} daily variance forecasts were zero or negative and were "
-                     f"replaced by the smallest positive daily variance in the sample ({floor:.3g})")
-        path = np.where(bad, floor, path)
+    if bad:
+        notes.append(f"{bad} of {path.size} daily variance forecasts came out zero or negative and were replaced "
+                     f"by the smallest positive daily variance in the sample ({floor:.3g}) before feeding the "
+                     "next day's forecast")
     path.setflags(write=False)
     return HarForecast(
         name=measures.name, params=params, std_errors=ses, r_squared=float(res.rsquared), nobs=int(res.nobs),
-        variance_path=path, term_structure=term_structure(path, hz, a), floored_days=int(bad.sum()), floor=floor,
+        variance_path=path, term_structure=term_structure(path, hz, a), floored_days=bad, floor=floor,
         annualization=a, notes=tuple(notes),
     )
+
+
+def iterate_har(params: dict[str, float], y: np.ndarray, horizon: int, floor: float) -> tuple[np.ndarray, int]:
+    """Expected whole-day variance for days 1..horizon ahead by iterating the fitted HAR.
+
+    y_{T+h} = const + daily y_{T+h-1} + weekly mean(y_{T+h-5..T+h-1}) + monthly mean(y_{T+h-22..T+h-1}),
+    forecasts standing in for unknown future values; a forecast <= 0 is replaced by ``floor``.
+    Returns the path and the number of days floored. Loops over days ahead, not over bars.
+    """
+    lag = HAR_LAGS[-1]
+    buf = np.concatenate((np.asarray(y, dtype=float)[-lag:], np.empty(horizon)))
+    c, bd, bw, bm = (params[k] for k in PARAM_NAMES)
+    floored = 0
+    for h in range(horizon):
+        t = lag + h
+        f = c + bd * buf[t - 1] + bw * buf[t - 5:t].mean() + bm * buf[t - lag:t].mean()
+        if not f > 0:
+            f, floored = floor, floored + 1
+        buf[t] = f
+    return buf[lag:].copy(), floored
