@@ -10,7 +10,7 @@ from arch.covariance.kernel import Parzen
 from scipy import integrate
 
 from volbench.errors import VolbenchError
-from volbench.intraday.grid import session_returns
+from volbench.intraday.grid import sampled_rv, session_prices, session_returns
 from volbench.intraday.measures import (
     C_STAR,
     MU1,
@@ -59,12 +59,15 @@ def _loop_measures(r, bandwidth):
     return rv, bv, tq, k
 
 
-def test_measures_equal_plain_loops_to_1e12(sim_intraday):
-    # reference: straightforward loops over each day's returns (common practice, no source)
-    h = _ragged(sim_intraday)
+@pytest.mark.parametrize("ragged, with_open", [(True, True), (False, True), (True, False), (False, False)])
+def test_measures_equal_plain_loops_to_1e12(sim_intraday, ragged, with_open):
+    # reference: straightforward loops over each day's returns (common practice, no source); regular
+    # sessions take a reshape path, ragged ones (a missing bar, an early close) a scatter path
+    h = _ragged(sim_intraday, with_open=with_open) if ragged else sim_intraday(8, 78, 0.25, 19, with_open=with_open)
     m = realized_measures(h)
     days = _loop_returns(h)
-    assert list(m.daily["n_returns"]) == [len(r) for r in days] == [78, 76, 78, 77, 78, 78, 78, 40]
+    want = [78, 76, 78, 77, 78, 78, 78, 40] if ragged else [78] * 8
+    assert list(m.daily["n_returns"]) == [len(r) for r in days] == [w - (not with_open) for w in want]
     for (_, row), r in zip(m.daily.iterrows(), days):
         rv, bv, tq, k = _loop_measures(r, int(row["bandwidth"]))
         assert row["rv"] == pytest.approx(rv, rel=1e-12, abs=0)
@@ -73,9 +76,10 @@ def test_measures_equal_plain_loops_to_1e12(sim_intraday):
         assert row["kernel"] == pytest.approx(k, rel=1e-12, abs=0)
 
 
-def test_kernel_equals_arch_parzen_long_run_times_n(sim_intraday):
+@pytest.mark.parametrize("ragged", [True, False])
+def test_kernel_equals_arch_parzen_long_run_times_n(sim_intraday, ragged):
     # reference library arch: Parzen(r, bandwidth=H, center=False, force_int=True).cov.long_run x M
-    h = _ragged(sim_intraday)
+    h = _ragged(sim_intraday) if ragged else sim_intraday(8, 78, 0.25, 20, half_spread=0.0004)
     m = realized_measures(h)
     for (_, row), r in zip(m.daily.iterrows(), _loop_returns(h)):
         bw = int(row["bandwidth"])
@@ -184,3 +188,29 @@ def test_whole_day_adds_the_squared_overnight_return(sim_intraday):
     with pytest.raises(VolbenchError, match="unknown session measure 'tq'; choose one of: rv, bv, kernel"):
         m.whole_day("tq")
     assert m.as_dict()["days"][1]["n_returns"] == 78
+
+
+@pytest.mark.parametrize("ragged", [True, False])
+def test_sampled_returns_equal_a_plain_loop(sim_intraday, ragged):
+    # every k-th grid price from the session's first, and always its last (common practice, no source)
+    h = _ragged(sim_intraday) if ragged else sim_intraday(8, 78, 0.25, 21)
+    lay = infer_layout(h.dates)
+    p, sess = session_prices(h, lay)
+    for k in (2, 5, 13):
+        rv_loop = []
+        for prices in _loop_prices(h):
+            kept = [prices[j] for j in range(len(prices)) if j % k == 0 or j == len(prices) - 1]
+            rv_loop.append(sum((kept[j] - kept[j - 1]) ** 2 for j in range(1, len(kept))))
+        sr = session_returns(h, lay, k)
+        np.testing.assert_allclose(np.einsum("ij,ij->i", sr.returns, sr.returns), rv_loop, rtol=1e-12)
+        np.testing.assert_allclose(sampled_rv(p, sess, lay.n_sessions, k), rv_loop, rtol=1e-12)
+
+
+def _loop_prices(h):
+    days: dict = {}
+    for i in range(h.n):
+        day = str(h.dates[i])[:10]
+        if day not in days:
+            days[day] = [math.log(h.open[i])]
+        days[day].append(math.log(h.close[i]))
+    return list(days.values())

@@ -83,24 +83,74 @@ def session_returns(history: PriceHistory, layout: SessionLayout, sampling_bars:
 
 def returns_on_grid(p: np.ndarray, sess: np.ndarray, n_sess: int, k: int, bar_seconds: float) -> SessionReturns:
     """:func:`session_returns` from a price grid already built by :func:`session_prices`."""
-    idx = np.arange(n_sess)
-    first = np.searchsorted(sess, idx, side="left")
-    last = np.searchsorted(sess, idx, side="right") - 1
+    grid = _regular(p, sess, n_sess)
+    if grid is not None:  # every session has the same number of grid points: plain reshapes
+        g = grid if k == 1 else np.ascontiguousarray(grid[:, _columns(grid.shape[1], k)])
+        mat = np.diff(g, axis=1) if g.shape[1] > 1 else np.zeros((n_sess, 1))
+        counts = np.full(n_sess, g.shape[1] - 1)
+        overnight = np.full(n_sess, np.nan)
+        overnight[1:] = g[1:, 0] - g[:-1, -1]
+        return SessionReturns(mat, counts, overnight, k, k * bar_seconds)
+    first, last = _bounds(sess, n_sess)
     if k > 1:
-        pos = np.arange(p.shape[0]) - first[sess]
-        keep = (pos % k == 0)
-        keep[last] = True
-        p, sess = p[keep], sess[keep]
-        first = np.searchsorted(sess, idx, side="left")
-        last = np.searchsorted(sess, idx, side="right") - 1
-    r = np.diff(p)
-    within = sess[1:] == sess[:-1]
-    r, row = r[within], sess[1:][within]
+        p, sess = _thin(p, sess, first, last, k)
+        first, last = _bounds(sess, n_sess)
     counts = last - first
-    col = np.arange(r.shape[0]) - (first[row] - row)  # returns before session s = first[s] - s
-    width = int(counts.max()) if counts.size else 0
-    mat = np.zeros((n_sess, max(width, 1)))
-    mat[row, col] = r
     overnight = np.full(n_sess, np.nan)
     overnight[1:] = p[first[1:]] - p[last[:-1]]
+    r = np.diff(p)
+    width = int(counts.max()) if counts.size else 0
+    within = sess[1:] == sess[:-1]
+    r, row = r[within], sess[1:][within]
+    col = np.arange(r.shape[0]) - (first[row] - row)  # returns before session s = first[s] - s
+    mat = np.zeros((n_sess, max(width, 1)))
+    mat[row, col] = r
     return SessionReturns(mat, counts, overnight, k, k * bar_seconds)
+
+
+def sampled_rv(p: np.ndarray, sess: np.ndarray, n_sess: int, k: int) -> np.ndarray:
+    """Realized variance of each session sampled every k grid points (no return matrix kept)."""
+    grid = _regular(p, sess, n_sess)
+    if grid is not None:
+        d = np.diff(np.ascontiguousarray(grid[:, _columns(grid.shape[1], k)]), axis=1)
+        return np.einsum("ij,ij->i", d, d)
+    first, last = _bounds(sess, n_sess)
+    if k > 1:
+        p, sess = _thin(p, sess, first, last, k)
+    r = np.diff(p)
+    r2 = np.where(sess[1:] == sess[:-1], r * r, 0.0)
+    return np.bincount(sess[1:], r2, minlength=n_sess)
+
+
+def _regular(p: np.ndarray, sess: np.ndarray, n_sess: int) -> np.ndarray | None:
+    """The grid as a ``(sessions, points)`` view when every session has the same number of points."""
+    if n_sess == 0 or p.size % n_sess:
+        return None
+    g = p.size // n_sess
+    if sess[0] != 0 or sess[-1] != n_sess - 1 or not (sess[g - 1::g] == np.arange(n_sess)).all() or \
+            not (sess[::g] == np.arange(n_sess)).all():
+        return None
+    return p.reshape(n_sess, g)
+
+
+def _columns(g: int, k: int) -> np.ndarray:
+    """Grid positions kept when sampling every k points: 0, k, 2k, ... and always the last."""
+    cols = np.arange(0, g, k)
+    return cols if cols[-1] == g - 1 else np.append(cols, g - 1)
+
+
+def _bounds(sess: np.ndarray, n_sess: int) -> tuple[np.ndarray, np.ndarray]:
+    """Index of each session's first and last grid point (``sess`` sorted, every session present)."""
+    first = np.flatnonzero(np.concatenate(([True], sess[1:] != sess[:-1])))
+    if first.size != n_sess:
+        idx = np.arange(n_sess)
+        return (np.searchsorted(sess, idx, side="left"), np.searchsorted(sess, idx, side="right") - 1)
+    return first, np.concatenate((first[1:] - 1, [sess.size - 1]))
+
+
+def _thin(p: np.ndarray, sess: np.ndarray, first: np.ndarray, last: np.ndarray, k: int):
+    """Every k-th grid point of each session from its first, and always its last."""
+    pos = np.arange(p.shape[0]) - np.repeat(first, last - first + 1)
+    keep = pos % k == 0
+    keep[last] = True
+    return p[keep], sess[keep]

@@ -15,7 +15,7 @@ from scipy.special import gamma
 
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
-from volbench.intraday.grid import SessionReturns, returns_on_grid, session_prices
+from volbench.intraday.grid import SessionReturns, returns_on_grid, sampled_rv, session_prices
 from volbench.intraday.sessions import SessionLayout, format_interval, infer_layout
 
 
@@ -111,9 +111,15 @@ def realized_kernel(r: np.ndarray, bandwidth: np.ndarray) -> np.ndarray:
     """
     h_max = int(bandwidth.max()) if bandwidth.size else 0
     out = np.einsum("ij,ij->i", r, r)
-    for h in range(1, min(h_max, r.shape[1] - 1) + 1):
-        g = np.einsum("ij,ij->i", r[:, h:], r[:, :-h])
-        out = out + 2.0 * parzen(h / (bandwidth + 1.0)) * g
+    if h_max < 1:
+        return out
+    order = np.argsort(-bandwidth, kind="stable")  # longest bandwidth first: lag h needs a prefix of rows
+    rs, bs = r[order], bandwidth[order]
+    acc = np.zeros(r.shape[0])
+    for h in range(1, min(h_max, r.shape[1] - 1) + 1):  # a loop over lags, not bars
+        n = int(np.count_nonzero(bs >= h))
+        acc[:n] += 2.0 * parzen(h / (bs[:n] + 1.0)) * np.einsum("ij,ij->i", rs[:n, h:], rs[:n, :-h])
+    out[order] += acc
     return out
 
 
@@ -227,12 +233,12 @@ def realized_measures(
     bar = lay.bar_interval_seconds
     sr: SessionReturns = returns_on_grid(p, sess, lay.n_sessions, int(sampling_bars), bar)
     dense = sr if sr.sampling_bars == 1 else returns_on_grid(p, sess, lay.n_sessions, 1, bar)
-    sparse = returns_on_grid(p, sess, lay.n_sessions, sparse_step(lay), bar)
+    rv_sparse = sampled_rv(p, sess, lay.n_sessions, sparse_step(lay))
     rv = realized_variance(sr.returns)
     bv = bipower_variation(sr.returns, sr.counts)
     tq = tripower_quarticity(sr.returns, sr.counts)
     rv_dense = realized_variance(dense.returns)
-    bw = kernel_bandwidth(rv_dense, dense.counts, realized_variance(sparse.returns))
+    bw = kernel_bandwidth(rv_dense, dense.counts, rv_sparse)
     kern = realized_kernel(dense.returns, bw)
     daily = pd.DataFrame(
         {"n_returns": sr.counts, "rv": rv, "bv": bv, "tq": tq, "kernel": kern, "bandwidth": bw,

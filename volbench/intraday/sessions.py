@@ -18,6 +18,7 @@ from volbench.errors import VolbenchError
 
 DAY_SECONDS = 86400.0
 """Nominal spacing reported for a file of daily bars (one bar a session)."""
+_DAY_NS = 86_400_000_000_000
 
 
 def _ro(a: np.ndarray) -> np.ndarray:
@@ -150,21 +151,23 @@ def infer_layout(dates: np.ndarray, session_break: str | float | None = None) ->
     n = d.shape[0]
     if n == 0:
         raise VolbenchError("no bars to lay out in sessions")
-    ns = d.astype(np.int64)
+    ns = d.view(np.int64)
+    step = np.diff(ns)
+    new = np.empty(n, dtype=bool)
+    new[0] = True
     if brk is None:
-        day = d.astype("datetime64[D]").astype(np.int64)
-        new = np.concatenate(([True], day[1:] != day[:-1]))
+        day = ns // _DAY_NS  # floor division: calendar day number, also before 1970
+        np.not_equal(day[1:], day[:-1], out=new[1:])
     else:
-        new = np.concatenate(([True], np.diff(ns) > brk * 1e9))
+        np.greater(step, brk * 1e9, out=new[1:])
     starts = np.flatnonzero(new)
     ends = np.concatenate((starts[1:] - 1, [n - 1]))
     session = np.cumsum(new) - 1
     counts = ends - starts + 1
     per = int(np.median(counts))
-    same = ~new[1:]
-    gaps = np.diff(ns)[same] / 1e9
+    gaps = step[~new[1:]]
     intraday = per >= 2 and gaps.size > 0
-    interval = float(np.median(gaps)) if intraday else DAY_SECONDS
+    interval = float(np.median(gaps)) / 1e9 if intraday else DAY_SECONDS
     sdates = d[ends].astype("datetime64[D]").astype("datetime64[ns]")
     if sdates.size > 1 and not np.all(np.diff(sdates.astype(np.int64)) > 0):
         i = int(np.flatnonzero(np.diff(sdates.astype(np.int64)) <= 0)[0])
