@@ -214,3 +214,12 @@ def _loop_prices(h):
             days[day] = [math.log(h.open[i])]
         days[day].append(math.log(h.close[i]))
     return list(days.values())
+
+
+def test_constant_prices_are_refused(sim_intraday):
+    from dataclasses import replace
+
+    h = sim_intraday(5, 78, 0.2, 22)
+    flat = np.full(h.n, 10.0)
+    with pytest.raises(VolbenchError, match="prices are constant .* no variance to measure"):
+        realized_measures(replace(h, open=flat, high=flat, low=flat, close=flat))

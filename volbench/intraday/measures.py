@@ -235,6 +235,9 @@ def realized_measures(
     dense = sr if sr.sampling_bars == 1 else returns_on_grid(p, sess, lay.n_sessions, 1, bar)
     rv_sparse = sampled_rv(p, sess, lay.n_sessions, sparse_step(lay))
     rv = realized_variance(sr.returns)
+    if not (rv > 0).any() and not np.nansum(sr.overnight**2) > 0:
+        raise VolbenchError(f"{history.name}: prices are constant (every intraday and overnight return is zero), "
+                            "so there is no variance to measure; check that the file holds the right price column")
     bv = bipower_variation(sr.returns, sr.counts)
     tq = tripower_quarticity(sr.returns, sr.counts)
     rv_dense = realized_variance(dense.returns)

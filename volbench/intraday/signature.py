@@ -145,6 +145,9 @@ def signature_plot(
     cc = np.diff(closes) ** 2
     counts = np.vstack(counts_k)
     mean_v = v.mean(axis=1)
+    if not (mean_v > 0).all():
+        raise VolbenchError(f"{history.name}: prices do not move at some sampling intervals (zero realized "
+                            "variance), so there is no signature to plot; check the price column")
     b, t_b = _noise_slope(v, counts)
     share = b * counts.mean(axis=1) / mean_v if np.isfinite(b) else np.full(top, np.nan)
     table = pd.DataFrame({
