@@ -23,6 +23,7 @@ import pandas as pd
 
 from volbench.sample_quotes import write_sample_quotes
 from volbench import sample_events
+from volbench.sample_intraday import write_intraday_sample
 
 SEED = 20261201
 STEPS_PER_BAR = 390
@@ -161,6 +162,7 @@ def write_samples(out: str | Path) -> list[Path]:
         "bad_rows_in_quillon": {"line 102": "missing close", "line 202": "non-numeric high",
                                 "line 302": "high below low", "line 403": "duplicate of line 402's date",
                                 "line 503": "bad tick (close x10 for one bar)"},
+        "intraday": write_intraday_sample(out),
     }
     meta["option_quotes"] = write_sample_quotes(out)
     meta["events"] = sample_events.write_events(out, pd.bdate_range(START, periods=YEARS * BARS_PER_YEAR))
