@@ -7,6 +7,7 @@ from collections.abc import Iterable
 from dataclasses import dataclass
 
 from volbench.data.history import PriceHistory
+from volbench import validate
 from volbench.errors import VolbenchError
 from volbench.models.garch import (
     DEFAULT_SEED,
@@ -45,12 +46,7 @@ def evidence(delta_bic: float) -> str:
 
 def check_models(models: Iterable[str] | str) -> tuple[str, ...]:
     """``"all"``, one key or a list of keys -> unique model keys in the given order."""
-    if isinstance(models, str):
-        models = MODELS if models.lower() == "all" else (models,)
-    out = tuple(dict.fromkeys(check_model(m) for m in models))
-    if not out:
-        raise VolbenchError(f"models must name at least one of: {', '.join(MODELS)}")
-    return out
+    return validate.models(models)
 
 
 @dataclass(frozen=True, eq=False)

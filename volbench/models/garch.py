@@ -20,6 +20,7 @@ import pandas as pd
 from arch import arch_model
 
 from volbench.data.history import PriceHistory
+from volbench import validate
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY, point_estimate
 from volbench.models import term
@@ -52,9 +53,7 @@ _ARCH_SPEC = {
 
 
 def _choice(value, allowed: tuple[str, ...], what: str) -> str:
-    if not isinstance(value, str) or value.lower() not in allowed:
-        raise VolbenchError(f"unknown {what} {value!r}; choose one of: {', '.join(allowed)}")
-    return value.lower()
+    return validate.choice(value, allowed, what)
 
 
 def check_settings(
@@ -86,7 +85,7 @@ def check_settings(
 
 
 def check_model(model) -> str:
-    return _choice(model, MODELS, "model")
+    return validate.model(model)
 
 
 MAX_SIMULATED_VALUES = 20_000_000

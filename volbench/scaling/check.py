@@ -161,15 +161,10 @@ def check_horizons(horizons: Iterable[int]) -> tuple[int, ...]:
 
 
 def check_alpha(alpha: float) -> float:
-    try:
-        a = float(alpha)
-    except (TypeError, ValueError):
-        raise VolbenchError(f"alpha must be a significance level between 0 and 0.5, got {alpha!r}") from None
-    if not 0.0 < a < 0.5:
-        hint = f"; it looks like a percent: did you mean {a / 100:g}?" if 1.0 <= a < 50.0 else ""
-        raise VolbenchError(f"alpha must be a significance level between 0 and 0.5 (e.g. 0.05), got {alpha!r}"
-                            + hint)
-    return a
+    """Significance level of the verdicts (one rule everywhere: volbench.validate.significance)."""
+    from volbench import validate
+
+    return validate.significance(alpha)
 
 
 def scaling_check(
