@@ -53,7 +53,7 @@ def annualization(value) -> float:
     except (TypeError, ValueError):
         raise VolbenchError(f"annualization must be a number of bars per year, got {value!r}") from None
     if not (a > 0 and a < 1e6):
-        raise VolbenchError(f"annualization must be > 0 bars per year (e.g. 252 or 365), got {value!r}")
+        raise VolbenchError(f"annualization must be > 0 bars per year (e.g. 252 or 365), got {a:g}")
     return a
 
 
@@ -64,7 +64,7 @@ def pricing_vol(value) -> float:
     except (TypeError, ValueError):
         raise VolbenchError(f"pricing vol must be a decimal such as 0.25 for 25%, got {value!r}") from None
     if not math.isfinite(v) or v <= 0:
-        raise VolbenchError(f"pricing vol must be > 0 (a decimal such as 0.25 for 25%), got {value!r}")
+        raise VolbenchError(f"pricing vol must be > 0 (a decimal such as 0.25 for 25%), got {v:g}")
     if v >= PRICING_VOL_MAX:
         hint = f"; it looks like a percent: did you mean {v / 100:g}?" if v < 100 * PRICING_VOL_MAX else ""
         raise VolbenchError(f"pricing vol must be a decimal below {PRICING_VOL_MAX:g} (0.25 means 25%), "
@@ -79,7 +79,7 @@ def days(value) -> int:
     except (TypeError, ValueError):
         raise VolbenchError(f"days must be a whole number of bars >= 1, got {value!r}") from None
     if isinstance(value, bool) or not math.isfinite(d) or d != int(d) or d < 1:
-        raise VolbenchError(f"days must be a whole number of bars >= 1, got {value!r}")
+        raise VolbenchError(f"days must be a whole number of bars >= 1, got {d:g}")
     return int(d)
 
 
@@ -136,7 +136,7 @@ def level(value, what: str = "confidence") -> float:
     except (TypeError, ValueError):
         raise VolbenchError(f"{what} must be between 0 and 1, got {value!r}") from None
     if not 0 < c < 1:
-        raise VolbenchError(f"{what} must be between 0 and 1, got {value!r}")
+        raise VolbenchError(f"{what} must be between 0 and 1, got {c:g}")
     return c
 
 
@@ -148,8 +148,7 @@ def significance(value) -> float:
         raise VolbenchError(f"alpha must be a significance level between 0 and 0.5, got {value!r}") from None
     if not 0.0 < a < 0.5:
         hint = f"; it looks like a percent: did you mean {a / 100:g}?" if 1.0 <= a < 50.0 else ""
-        raise VolbenchError(f"alpha must be a significance level between 0 and 0.5 (e.g. 0.05), got {value!r}"
-                            + hint)
+        raise VolbenchError(f"alpha must be a significance level between 0 and 0.5 (e.g. 0.05), got {a:g}" + hint)
     return a
 
 
@@ -160,7 +159,7 @@ def lam(value) -> float:
     except (TypeError, ValueError):
         raise VolbenchError(f"EWMA lambda must be between 0 and 1 (exclusive), got {value!r}") from None
     if not 0 < x < 1:
-        raise VolbenchError(f"EWMA lambda must be between 0 and 1 (exclusive), got {value!r}")
+        raise VolbenchError(f"EWMA lambda must be between 0 and 1 (exclusive), got {x:g}")
     return x
 
 

@@ -51,6 +51,9 @@ def main(argv: list[str] | None = None) -> int:
             print(exc.code, file=sys.stderr)
             return EXIT_BAD_INPUT
         return int(exc.code or 0)
+    except VolbenchError as exc:  # a setting refused by volbench.validate (argparse ``type=``)
+        print(f"volbench: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
     try:
         return int(args.func(args) or 0)
     except VolbenchError as exc:

@@ -15,6 +15,7 @@ from volbench.cli.common import (
     print_json,
     render_table,
 )
+from volbench import validate
 from volbench.scaling import DEFAULT_HORIZONS, ScalingResult, scaling_check
 from volbench.scaling.check import check_alpha
 
@@ -41,7 +42,7 @@ def register(sub) -> None:
     add_file_options(p)
     p.add_argument("--horizons", default=",".join(str(h) for h in DEFAULT_HORIZONS), metavar="H,H,...",
                    help="horizons in bars (default %(default)s; 1 is always included as the base)")
-    p.add_argument("--alpha", type=float, default=0.05, metavar="P",
+    p.add_argument("--alpha", type=validate.significance, default=0.05, metavar="P",
                    help="significance level of the verdicts, between 0 and 0.5 (default %(default)s)")
     add_annualization(p)
     add_format(p)

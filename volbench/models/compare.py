@@ -90,7 +90,7 @@ class GarchComparison:
         return None if self.preferred is None else self.fit(self.preferred)
 
     def forward_vol(self, days: float) -> float:
-        """Forward vol of the preferred model, or the EWMA fallback when none is usable."""
+        """Forward vol of the preferred model, or the first fit's fallback when none is usable."""
         return (self.preferred_fit or self.fits[0]).forward_vol(days)
 
     def as_dict(self) -> dict:
@@ -112,7 +112,9 @@ def rank(name: str, fits: tuple[GarchFit, ...]) -> GarchComparison:
     parts: list[str] = []
     if not usable:
         best, delta = None, None
-        parts.append(f"no model gave a usable fit; the forward vol falls back to {FALLBACK}")
+        first = fits[0] if fits else None
+        source = first.forward_vol_source if first is not None and first.forward_vol_source else FALLBACK
+        parts.append(f"no model gave a usable fit; the forward vol is the fallback: {source}")
     else:
         best = usable[0]
         if len(usable) == 1:
@@ -128,7 +130,7 @@ def rank(name: str, fits: tuple[GarchFit, ...]) -> GarchComparison:
         parts.append(f"lowest BIC: {fitted[0].label} ({fitted[0].bic:.1f}), but every fit has warnings")
     for f in skipped:
         parts.append(f"{f.label} has a lower BIC ({f.bic:.1f}) but its fit has warnings, so its forward vol "
-                     f"falls back to {FALLBACK}")
+                     f"falls back to {f.fallback or FALLBACK}")
     return GarchComparison(name=name, fits=fits, preferred=None if best is None else best.model,
                            delta_bic=delta, ranking=tuple(f.model for f in fitted), message="; ".join(parts))
 

@@ -369,6 +369,10 @@ def vol_cone(
             row.update(zip((f"{k}_adj" for k in PERCENTILES), np.maximum(adj, 0.0).tolist()))
         rows[w] = row
         rolling[w] = rv.values
+    if not rows and dropped and len(set(dropped.values())) == 1 and next(iter(dropped.values())).startswith(
+            ("no range on any bar", "the closes do not change")):
+        raise VolbenchError(f"{h.name}: no {spec.label} cone: {next(iter(dropped.values()))}; choose another "
+                            "cone estimator")
     if not rows:
         by_reason: dict[str, list[str]] = {}
         for w, r in dropped.items():
