@@ -35,9 +35,12 @@ def register(sub) -> None:
                     "with the Chow-Denning joint test, skewness/kurtosis/Jarque-Bera by horizon, Ljung-Box on "
                     "returns and squared returns, the drift t-test, the annualized vol each horizon actually "
                     "saw against sqrt-time scaling of the 1-bar vol, and a verdict on each property.",
-        epilog="Verdicts: 'rejected' when p < alpha; 'doubtful' when p < 2 alpha or the effect is large "
-               "enough to matter for pricing; 'consistent' otherwise (the data do not contradict the "
-               "property; they do not prove it). Statistical evidence, not advice.",
+        epilog="Verdicts come from the tests alone: 'consistent' when p >= alpha (the data do not "
+               "contradict the property; they do not prove it); 'rejected' when the test rejects even "
+               "after allowing for the four properties tested together (Holm); 'doubtful' when p < alpha "
+               "on its own but not after that allowance. Effect sizes are described in the sentence. "
+               "The output states how often a perfectly Brownian series of the same length gets at least "
+               "one non-consistent verdict by chance. Statistical evidence, not advice.",
     )
     add_file_options(p)
     p.add_argument("--horizons", default=",".join(str(h) for h in DEFAULT_HORIZONS), metavar="H,H,...",
@@ -113,4 +116,7 @@ def render_result(r: ScalingResult) -> str:
         out.append(f"  {_LABELS.get(v.property, v.property)}: {v.status.upper()}  "
                    f"(statistic {_f(v.statistic)}, p {_p(v.p_value)})")
         out.append(f"    {v.message}")
+    fa = r.family_false_alarm
+    if fa:
+        out.append(f"  By chance: {fa['sentence']}")
     return "\n".join(out)

@@ -14,6 +14,7 @@ from typing import Any
 
 from PySide6.QtCore import QObject, Signal
 
+from volbench import validate
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators import ESTIMATOR_KEYS
@@ -62,7 +63,17 @@ _CHOICE = {"kind": ("call", "put"), "garch_model": ("all", "garch", "gjr", "egar
            "garch_dist": ("normal", "t")}
 
 
+_VALIDATE = {"window": lambda v: validate.window(v, minimum=2), "annualization": validate.annualization,
+             "pricing_vol": validate.pricing_vol, "days": validate.days,
+             "cone_estimator": validate.estimator}
+"""Settings checked by the same functions as the command line and the export (volbench.validate)."""
+
+
 def _coerce(key: str, value):
+    if key in _VALIDATE:
+        return _VALIDATE[key](value)
+    if key == "as_of":
+        return None if value in (None, "") or validate.as_of(value) is None else str(value)[:10]
     try:
         if key in _INT:
             return int(value)
@@ -151,7 +162,8 @@ class WorkbenchState(QObject):
         h = self.loaded()
         if h is None:
             return None
-        return h.select(self._choices.exclude_flagged).up_to(self._choices.as_of)
+        h = h.select(self._choices.exclude_flagged)
+        return h.up_to(validate.as_of_for(h, self._choices.as_of))
 
     def views(self) -> list[PriceHistory]:
         """Every loaded history with the flagged-rows policy applied."""

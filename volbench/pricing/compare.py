@@ -148,6 +148,8 @@ def _garch_candidates(garch, days: int) -> tuple[list[dict], dict[str, str]]:
         dist = getattr(fit, "dist", None)
         key = f"garch:{model}"
         label = getattr(fit, "candidate_label", None) or GARCH_LABELS.get(model, model.upper())
+        if getattr(fit, "fallback", None) and " → " not in label:  # never the bare model for a fallback's number
+            label += f" → {fit.fallback} fallback"
         if dist and dist != "normal":
             head, arrow, tail = label.partition(" → ")
             label = f"{head} ({dist}){arrow}{tail}"
