@@ -25,6 +25,7 @@ ABSURD_VOL = 5.0
 LAST = "last"
 """The as-of value meaning 'the last row of each file'."""
 _ISO_DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$")
+_ISO_DATE_TIME = re.compile(r"^\d{4}-\d{2}-\d{2}([T ]\d{2}:\d{2}(:\d{2}(\.\d+)?)?)?$")
 
 
 def _is_int(x) -> bool:
@@ -83,16 +84,18 @@ def days(value) -> int:
     return int(d)
 
 
-def date(value, what: str = "date") -> pd.Timestamp | None:
+def date(value, what: str = "date", *, time_of_day: bool = False) -> pd.Timestamp | None:
     """A calendar date: text must be ISO ``YYYY-MM-DD``; ``None`` stays ``None``.
 
     Dates such as ``01/06/2022`` are refused: month-first and day-first readings of them differ.
+    ``time_of_day=True`` (the core, for intraday rows) also accepts ISO ``YYYY-MM-DD HH:MM[:SS]``;
+    the command line accepts dates only.
     """
     if value is None:
         return None
     if isinstance(value, str):
         text = value.strip()
-        if not _ISO_DATE.match(text):
+        if not (_ISO_DATE_TIME if time_of_day else _ISO_DATE).match(text):
             raise VolbenchError(f"{what} must look like YYYY-MM-DD, got {value!r}")
         value = text
     try:
@@ -104,11 +107,11 @@ def date(value, what: str = "date") -> pd.Timestamp | None:
     return ts.tz_localize(None) if ts.tzinfo else ts
 
 
-def as_of(value) -> pd.Timestamp | None:
+def as_of(value, *, time_of_day: bool = False) -> pd.Timestamp | None:
     """The as-of date: ISO ``YYYY-MM-DD``, or ``None``/``"last"`` for the last row."""
     if value is None or (isinstance(value, str) and value.strip().lower() == LAST):
         return None
-    return date(value, "as-of date")
+    return date(value, "as-of date", time_of_day=time_of_day)
 
 
 def date_within(ts: pd.Timestamp | None, first: str, last: str, *, what: str, name: str) -> None:
@@ -124,9 +127,11 @@ def date_within(ts: pd.Timestamp | None, first: str, last: str, *, what: str, na
 
 def as_of_for(history, value) -> str | None:
     """The as-of date checked against ``history``'s range; ``None`` for the last row."""
-    ts = as_of(value)
+    ts = as_of(value, time_of_day=True)
     date_within(ts, history.first_date, history.last_date, what="as-of date", name=history.name)
-    return None if ts is None else ts.strftime("%Y-%m-%d")
+    if ts is None:
+        return None
+    return ts.strftime("%Y-%m-%d") if ts == ts.normalize() else ts.isoformat()
 
 
 def level(value, what: str = "confidence") -> float:

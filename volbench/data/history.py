@@ -266,4 +266,4 @@ def parse_as_of(as_of) -> pd.Timestamp:
     """An as-of date; text must be ISO YYYY-MM-DD (one rule everywhere: volbench.validate.date)."""
     from volbench import validate
 
-    return validate.date(as_of, "as-of date")
+    return validate.date(as_of, "as-of date", time_of_day=True)

@@ -63,7 +63,14 @@ _CHOICE = {"kind": ("call", "put"), "garch_model": ("all", "garch", "gjr", "egar
            "garch_dist": ("normal", "t")}
 
 
-_VALIDATE = {"window": lambda v: validate.window(v, minimum=2), "annualization": validate.annualization,
+def _window(value) -> int:
+    w = validate.window(value, minimum=2)
+    if w is None:
+        raise VolbenchError("window must be a whole number of bars, not 'all', in the window's settings")
+    return w
+
+
+_VALIDATE = {"window": _window, "annualization": validate.annualization,
              "pricing_vol": validate.pricing_vol, "days": validate.days,
              "cone_estimator": validate.estimator}
 """Settings checked by the same functions as the command line and the export (volbench.validate)."""
@@ -73,7 +80,7 @@ def _coerce(key: str, value):
     if key in _VALIDATE:
         return _VALIDATE[key](value)
     if key == "as_of":
-        return None if value in (None, "") or validate.as_of(value) is None else str(value)[:10]
+        return None if value in (None, "") or validate.as_of(value) is None else str(value).strip()
     try:
         if key in _INT:
             return int(value)

@@ -500,8 +500,7 @@ def _fallback(history: PriceHistory, base: dict, warn: list[str], notes: list[st
                                      name=base["model"]),
     }
     warn = [*warn, f"forward vol falls back to {name}: {fmt_pct(vol)} annualized, flat over every horizon"]
-    source = f"{name}, because: {'; '.join(causes)}"
-    source = source[0].upper() + source[1:]
+    source = f"{name}, because: {', '.join(causes)}"
     return GarchFit(**base, **info, term_structure=term.flat_term_structure(vol, base["horizons"]),
                     variance_path=None, forecast_method=method, warnings=tuple(warn), notes=tuple(notes),
                     fallback=name, fallback_vol=vol, forward_vol_source=source)

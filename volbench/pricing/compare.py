@@ -164,7 +164,7 @@ def _garch_candidates(garch, days: int) -> tuple[list[dict], dict[str, str]]:
             continue
         fallback = getattr(fit, "fallback", None)
         source = getattr(fit, "forward_vol_source", "")
-        notes = ([f"no usable forecast; forward vol from {source[0].lower()}{source[1:]}" if source
+        notes = ([f"no usable forecast; forward vol from {source}" if source
                   else f"no usable forecast; forward vol from the fallback {fallback}"] if fallback
                  else ["forward vol over the option's life"])
         if preferred is not None and model == preferred:
@@ -440,10 +440,9 @@ def _garch_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
     gap = f"{_points(abs(row['gap_points']))} vol points {side} the pricing vol"
     if " → " not in row["label"]:
         return [f"{row['label']} forward vol over {c.days} bars is {_pct1(row['vol'])}, {gap}"]
-    model = row["label"].split(" → ")[0]
-    source = str(row["note"]).split("forward vol from ", 1)[-1].split(";")[0]
-    return [(f"no GARCH-family fit gave a usable forecast ({model} and any others fitted have warnings); "
-             f"the fallback, {source}, is {_pct1(row['vol'])}, {gap}")]
+    source = str(row["note"]).split("forward vol from ", 1)[-1]
+    return [(f"no GARCH-family fit gave a usable forecast, so the forward vol over {c.days} bars is a fallback's: "
+             f"{_pct1(row['vol'])} from {source}; {gap}")]
 
 
 def _moneyness_line(c: Comparison) -> list[str]:
