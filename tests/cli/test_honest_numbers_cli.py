@@ -180,8 +180,8 @@ def test_scaling_json_and_text_state_the_family_false_alarm(capsys):
     (["estimate", KESTREL, "--as-of", "01/06/2022"], "as-of date must look like YYYY-MM-DD, got '01/06/2022'"),
     (["estimate", KESTREL, "--as-of", "17/10/2024"], "as-of date must look like YYYY-MM-DD, got '17/10/2024'"),
     (["estimate", KESTREL, "--as-of", "2030-01-01"],
-     "kestrel_orchards: as-of date 2030-01-01 is outside the data, which runs from 2019-01-02 to 2024-10-17; "
-     "choose a date in that range or 'last' for the last row"),
+     ("kestrel_orchards: as-of date 2030-01-01 is outside the data, which runs from 2019-01-02 to 2024-10-17; "
+      "choose a date in that range or 'last' for the last row")),
     (["export", KESTREL, "--to", "{tmp}/x.json", "--as-of", "2030-01-01"],
      "kestrel_orchards: as-of date 2030-01-01 is outside the data, which runs from 2019-01-02 to 2024-10-17"),
     (["cone", KESTREL, "--end", "31/12/2021"], "end date must look like YYYY-MM-DD, got '31/12/2021'"),

@@ -59,7 +59,7 @@ def test_yang_zhang_dof_matches_the_simulated_variance(n, share):
 
 def test_yang_zhang_reads_the_overnight_share_from_the_window():
     # With half the variance overnight the effective degrees of freedom fall towards those of the
-    # overnight sample variance; the interval widens accordingly (docs/METHODS.md derivation).
+    # overnight sample variance; the interval widens accordingly (docs/METHODS.md, "Confidence intervals and their coverage").
     b = brownian_bars(np.random.default_rng(9), 61, substeps=8, overnight_share=0.5, variance=1e-4)
     h = history_of(b)
     est = point_estimate(h, "yang_zhang", 60)

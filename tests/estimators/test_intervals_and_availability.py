@@ -9,23 +9,22 @@ import pytest
 from scipy import stats
 
 from volbench.errors import EstimatorUnavailable, VolbenchError
-from volbench.estimators import intervals
-from volbench.estimators.range_based import yang_zhang_k, yang_zhang_parts
 from volbench.estimators import (
     ESTIMATOR_KEYS,
-    REGISTRY,
     availability,
     estimate_all,
     get_spec,
+    intervals,
     point_estimate,
     rolling_vol,
 )
+from volbench.estimators.range_based import yang_zhang_k, yang_zhang_parts
 
 A = 252.0
 
 
 def test_close_to_close_interval_matches_scipy_chi_square(simulate_ohlc):
-    # (n-1) s^2 / sigma^2 ~ chi-square(n-1) under i.i.d. normal returns (Hull; METHODS.md), quantiles
+    # (n-1) s^2 / sigma^2 ~ chi-square(n-1) under i.i.d. normal returns (Hull; docs/METHODS.md, "Confidence intervals and their coverage"), quantiles
     # from scipy.stats.chi2 as reference library: [s sqrt((n-1)/q_hi), s sqrt((n-1)/q_lo)].
     h = simulate_ohlc(80, 0.3, seed=41, steps=5)
     n = 30

@@ -54,7 +54,7 @@ def test_recovers_known_sigma_on_seeded_brownian_path(simulate_ohlc, key):
 @pytest.mark.parametrize("key", ESTIMATOR_KEYS)
 def test_recovery_with_other_annualization(simulate_ohlc, key):
     # A 365-bar year: the simulated per-bar variance is sigma^2 / 365, so annualizing with 365
-    # recovers sigma (METHODS.md convention).
+    # recovers sigma (docs/METHODS.md, "Notation and conventions").
     h = simulate_ohlc(1500, 0.5, seed=12, annualization=365)
     est = point_estimate(h, key, annualization=365)
     n_eff = ewma_effective_n() if key == "ewma" else est.n * EFF[key]

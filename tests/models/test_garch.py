@@ -180,7 +180,7 @@ def test_thirty_bars_fall_back_to_ewma_and_say_how_many_are_needed(make_history)
     assert fit.fallback == FALLBACK
     assert f"29 returns, at least {MIN_RETURNS} are needed" in fit.warnings[0]
     # RiskMetrics (1996) EWMA, lambda 0.94, seeded with the sample variance of the first 20
-    # returns (METHODS.md), written as a plain loop
+    # returns (docs/METHODS.md, "Estimators"), written as a plain loop
     r = np.diff(np.log(close))
     v = np.var(r[:20], ddof=1)
     for x in r[20:]:

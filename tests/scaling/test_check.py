@@ -35,7 +35,7 @@ def test_brownian_history_is_consistent_with_every_property(history_from_returns
     assert list(res.horizons["h"]) == list(DEFAULT_HORIZONS)
     assert res.slope_ci[0] < 1 < res.slope_ci[1]
     assert res.hurst == pytest.approx(res.slope / 2)
-    # horizon vol: sqrt(Var_h * A / h), against sqrt(Var_1 * A) (METHODS.md)
+    # horizon vol: sqrt(Var_h * A / h), against sqrt(Var_1 * A) (docs/METHODS.md, "Brownian-scaling check")
     h = res.horizons.set_index("h")
     assert h.loc[20, "annualized_vol"] == pytest.approx(np.sqrt(h.loc[20, "variance"] * 252 / 20))
     np.testing.assert_allclose(h["sqrt_time_vol"], np.sqrt(h.loc[1, "variance"] * 252), rtol=1e-12)

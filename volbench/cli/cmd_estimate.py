@@ -9,13 +9,13 @@ import sys
 from volbench.cli.common import (
     add_annualization,
     add_as_of,
-    window_or_all,
     add_file_options,
     add_format,
     load_from_args,
     pct,
     print_json,
     render_table,
+    window_or_all,
 )
 from volbench.estimators import REGISTRY, estimate_all
 from volbench.types import check_window
@@ -30,7 +30,7 @@ def register(sub) -> None:
                     "inputs carry no information (high = low on every bar, closes that never move), are "
                     "listed with the reason.",
         epilog="Intervals: exact chi-square for close-to-close; for the others a chi-square with "
-               "effective degrees of freedom whose 95%% coverage is checked by simulation (docs/METHODS.md). "
+               "effective degrees of freedom whose 95%% coverage is checked by simulation (docs/METHODS.md, Confidence intervals and their coverage). "
                "Range estimators (Parkinson, Garman-Klass, Rogers-Satchell, Yang-Zhang) read low on "
                "discretely traded prices: with M trades a bar about 0.7/sqrt(M) to 0.95/sqrt(M) in vol "
                "(-3%% to -4%% at 500 trades); the intervals do not include this bias.",

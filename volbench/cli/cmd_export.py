@@ -6,7 +6,13 @@ import argparse
 import sys
 
 from volbench import validate
-from volbench.cli.common import add_annualization, add_as_of, add_file_options, load_from_args, window_or_all
+from volbench.cli.common import (
+    add_annualization,
+    add_as_of,
+    add_file_options,
+    load_from_args,
+    window_or_all,
+)
 from volbench.errors import VolbenchError
 from volbench.export import FORMATS, build_bundle, export_format, write_export
 from volbench.export.atomic import check_destination

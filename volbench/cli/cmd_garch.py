@@ -6,6 +6,7 @@ import argparse
 import math
 import sys
 
+from volbench import validate
 from volbench.cli.common import (
     add_annualization,
     add_file_options,
@@ -16,7 +17,6 @@ from volbench.cli.common import (
     print_json,
     render_table,
 )
-from volbench import validate
 from volbench.models import (
     DEFAULT_SEED,
     DEFAULT_SIMULATIONS,

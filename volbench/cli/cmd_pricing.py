@@ -10,15 +10,15 @@ from dataclasses import replace
 from volbench import validate
 from volbench.cli.common import (
     add_annualization,
-    end_text,
-    start_text,
     add_file_options,
     add_format,
+    end_text,
     load_from_args,
     parse_int_list,
     pct,
     print_json,
     render_table,
+    start_text,
 )
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY

@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import math
 
+from volbench import validate
 from volbench.cli.common import (
     add_annualization,
     add_file_options,
@@ -15,7 +16,6 @@ from volbench.cli.common import (
     print_json,
     render_table,
 )
-from volbench import validate
 from volbench.scaling import DEFAULT_HORIZONS, ScalingResult, scaling_check
 from volbench.scaling.check import check_alpha
 

@@ -8,11 +8,11 @@ import math
 import sys
 from collections.abc import Sequence
 
+from volbench import validate
 from volbench.data import load_many
 from volbench.data.history import PriceHistory
 from volbench.data.quality import QualitySettings
 from volbench.errors import VolbenchError
-from volbench import validate
 from volbench.formatting import pct as _pct
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
 

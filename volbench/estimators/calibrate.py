@@ -131,8 +131,8 @@ def render(rows: list[dict]) -> str:
 
 
 def write_constants(path: Path, moments: dict[str, float], bias: dict[str, float]) -> None:
-    text = ['"""Constants measured by ``python -m volbench.estimators.calibrate`` (seeded simulation; '
-            'do not edit by hand).', '',
+    text = [('"""Constants measured by ``python -m volbench.estimators.calibrate`` (seeded simulation; '
+             'do not edit by hand).'), '',
             'Per-bar moments of driftless Brownian motion with unit session variance, from exactly simulated',
             'highs and lows, and the vol bias of each range estimator on discretely traded prices:',
             f'vol reads about -c / sqrt(M) low with M trades a bar (c measured at M = {BIAS_TRADES}).', '"""', '']

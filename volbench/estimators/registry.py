@@ -11,7 +11,6 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
-from scipy import stats
 
 from volbench import validate
 from volbench.data.history import PriceHistory, _iso

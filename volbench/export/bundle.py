@@ -16,8 +16,7 @@ from typing import Any
 
 import pandas as pd
 
-from volbench import __version__
-from volbench import validate
+from volbench import __version__, validate
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators import estimate_all
@@ -159,7 +158,7 @@ def build_bundle(
     -----
     A section whose analysis module is missing, that was not requested, or that fails for a
     series (a :class:`VolbenchError` from that analysis) is recorded in ``sections`` with the
-    reason; the other sections are unaffected. Point estimates follow METHODS.md ("Estimators").
+    reason; the other sections are unaffected. Point estimates follow docs/METHODS.md, "Estimators".
     """
     histories = list(histories)
     if not histories:
@@ -168,7 +167,9 @@ def build_bundle(
     a = check_annualization(annualization)
     confidence = validate.level(confidence)
     cone_estimator = validate.estimator(cone_estimator)
-    as_of = [validate.as_of_for(h, as_of) for h in histories][0] if as_of is not None else None
+    if as_of is not None:  # inside every series' range (or "last"), one rule for every front end
+        resolved = {validate.as_of_for(h, as_of) for h in histories}
+        as_of = resolved.pop()
     pricing_vol, days = _check_pricing(pricing_vol, days)
     opts = {k: v for k, v in dict(estimator_options or {}).items() if v is not None}
     option_dict = _option_dict(option)

@@ -15,9 +15,9 @@ import threading
 from collections.abc import Callable, Iterable, Sequence
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
 
-from volbench.data.history import PriceHistory
 import numpy as np
 
+from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.models.compare import GarchComparison, check_models, fit_models
 from volbench.models.garch import (

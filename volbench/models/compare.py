@@ -6,8 +6,8 @@ import math
 from collections.abc import Iterable
 from dataclasses import dataclass
 
-from volbench.data.history import PriceHistory
 from volbench import validate
+from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.models.garch import (
     DEFAULT_SEED,
@@ -16,7 +16,6 @@ from volbench.models.garch import (
     MODEL_LABELS,
     MODELS,
     GarchFit,
-    check_model,
     check_settings,
     check_simulation_budget,
     fit_garch,

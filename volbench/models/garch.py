@@ -19,11 +19,11 @@ import numpy as np
 import pandas as pd
 from arch import arch_model
 
-from volbench.data.history import PriceHistory
 from volbench import validate
+from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
-from volbench.formatting import pct as fmt_pct
 from volbench.estimators import REGISTRY, point_estimate
+from volbench.formatting import pct as fmt_pct
 from volbench.models import term
 from volbench.models.checks import (
     BOUND_TOL,
@@ -334,11 +334,11 @@ def fit_garch(
     ``arch.arch_model`` on 100 x log returns (the library's advice), ``rescale=False``, fitted by
     maximum likelihood with robust (QMLE) standard errors. Forecasts: ``arch``'s analytic
     forecasts for GARCH and GJR, E[s2_{t+h}] = V_L + p^(h-1) (s2_{t+1} - V_L) (Bollerslev 1986;
-    METHODS.md); for EGARCH (Nelson 1991), whose multi-step forecast has no closed form, ``arch``'s
+    docs/METHODS.md, "GARCH and the vol over an option's life"); for EGARCH (Nelson 1991), whose multi-step forecast has no closed form, ``arch``'s
     simulation forecast with ``simulations`` paths drawn by a seeded numpy Generator from the
     fitted innovation distribution. Both come from the volatility process's ``forecast`` (what
     ``ARCHModelResult.forecast`` calls; identical numbers, without its mean-path bookkeeping).
-    Term structure vol(T) = sqrt(A mean_{h<=T} E[s2_{t+h}]) (METHODS.md).
+    Term structure vol(T) = sqrt(A mean_{h<=T} E[s2_{t+h}]) (docs/METHODS.md, "GARCH and the vol over an option's life").
     """
     model = check_model(model)
     s = check_settings(dist=dist, mean=mean, horizons=horizons, annualization=annualization,

@@ -5,7 +5,7 @@ several lengths, records each property's p-value, and writes to
 ``volbench/scaling/false_alarm_table.py``, per length and level, the share of series with at least
 one property below the level (at least one non-"consistent" verdict) and the share with any
 "rejected" (Holm). It also prints each property's
-own rate (its test's size) and the share with any "rejected" (Holm), for docs/METHODS.md.
+own rate (its test's size) and the share with any "rejected" (Holm), for docs/METHODS.md, "Brownian-scaling check".
 """
 
 from __future__ import annotations

@@ -10,11 +10,11 @@ import pandas as pd
 
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
+from volbench.scaling.false_alarm import family_false_alarm
 from volbench.scaling.increments import drift as drift_stats
 from volbench.scaling.increments import independence, normality_table, qq_pairs
 from volbench.scaling.ratio import chow_denning, robust_deltas, variance_ratio_table
 from volbench.scaling.variance import loglog_fit, nonoverlapping_variance
-from volbench.scaling.false_alarm import family_false_alarm
 from volbench.scaling.verdicts import (
     Verdict,
     drift_verdict,

@@ -16,6 +16,7 @@ is, and whether it would matter for pricing, is said in the sentence, never in t
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Literal
 
@@ -60,7 +61,7 @@ def family_statuses(p_values: list[float], alpha: float) -> list[Status]:
     family of true hypotheses sees any rejection is at most alpha, whatever their dependence.
     """
     m = len(p_values)
-    order = sorted(range(m), key=lambda i: (not p_values[i] == p_values[i], p_values[i]))
+    order = sorted(range(m), key=lambda i: (math.isnan(p_values[i]), p_values[i]))
     holm = [False] * m
     for rank, i in enumerate(order):
         if not p_values[i] < alpha / (m - rank):
