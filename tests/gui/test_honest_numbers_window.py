@@ -66,7 +66,7 @@ def test_the_scaling_pane_states_how_often_chance_alone_gives_a_verdict(make_win
     w.open_files([kestrel])
     text = w.findChild(QLabel, "scaling_false_alarm").text()
     fa = w.results.get("scaling").family_false_alarm
-    assert text.startswith("By chance alone: On a perfectly Brownian series of about this length")
+    assert text.startswith("On a perfectly Brownian series of about this length")
     assert f"about {fa['not_consistent']:.0%} of the time at level 0.05" in text
 
 

@@ -118,5 +118,5 @@ def render_result(r: ScalingResult) -> str:
         out.append(f"    {v.message}")
     fa = r.family_false_alarm
     if fa:
-        out.append(f"  By chance: {fa['sentence']}")
+        out.append(f"  {fa['sentence']}")
     return "\n".join(out)

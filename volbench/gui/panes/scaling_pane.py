@@ -181,7 +181,7 @@ class ScalingPane(QWidget):
         self.verdict_table.set_frame(pd.DataFrame(rows, columns=VERDICT_COLUMNS), pd.DataFrame(raw), fg=fg)
         fa = getattr(r, "family_false_alarm", None) or {}
         self.false_alarm.setText(
-            ("By chance alone: " + fa["sentence"] + " Each status comes from its test at this level; effect "
-             "sizes are in the sentences.") if fa else "")
+            (fa["sentence"] + " Each status comes from its test at this level; effect sizes are in the "
+             "sentences.") if fa else "")
         self.verdict_table.resizeRowsToContents()
         self.card.show_content()
