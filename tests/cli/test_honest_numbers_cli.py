@@ -156,7 +156,8 @@ def test_absurd_fits_are_never_preferred_and_percentages_stay_short(capsys, tmp_
 
 def test_no_percentage_prints_more_than_six_significant_digits(capsys, tmp_path):
     f = _close_file(tmp_path, "jumpy", np.array([1e-300, 1e300] * 20))
-    for argv in (["estimate", f], ["compare", f, "--pricing-vol", "0.25", "--days", "5"]):
+    for argv in (["estimate", f], ["scaling", f], ["garch", f], ["cone", f, "--windows", "5,10"],
+                 ["compare", f, "--pricing-vol", "0.25", "--days", "5", "--with-garch", "--with-scaling"]):
         code, out, _ = _run(capsys, *argv)
         assert code == 0
         for number in re.findall(r"([0-9][0-9.e+]*)%", out):

@@ -43,6 +43,11 @@ def build_parser() -> argparse.ArgumentParser:
 
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; returns the exit code."""
+    for stream in (sys.stdout, sys.stderr):  # labels such as "GARCH(1,1) → EWMA fallback" on any console
+        try:
+            stream.reconfigure(errors="backslashreplace")
+        except (AttributeError, ValueError):
+            pass
     parser = build_parser()
     try:
         args = parser.parse_args(argv)

@@ -91,11 +91,9 @@ def _coerce(key: str, value):
         if key in ("as_of", "date_format"):
             return None if value in (None, "") else str(value)
         if key == "estimators":
-            keys = tuple(str(k) for k in value)
-            unknown = [k for k in keys if k not in ESTIMATOR_KEYS]
-            if unknown:
-                raise VolbenchError(f"unknown estimator {unknown[0]!r}; choose among {', '.join(ESTIMATOR_KEYS)}")
-            return keys
+            return tuple(validate.estimator(str(k)) for k in value)
+        if key == "garch_model":
+            return value if value == "all" else validate.model(value)
         if key == "exclude_flagged":
             return bool(value)
         if key in _CHOICE:
