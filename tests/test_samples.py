@@ -48,9 +48,9 @@ def test_gbm_sample_recovers_its_true_vol(sample_dir):
     sigma = params["kestrel_orchards.csv"]["annual_vol"]
     (h,) = load_prices(sample_dir / "kestrel_orchards.csv")
     assert h.n == meta["bars"] and h.findings == ()
-    # efficiencies as quoted in METHODS.md (Parkinson 1980, Garman & Klass 1980, Rogers & Satchell 1991;
-    # from memory); Yang-Zhang conservatively 7 (its efficiency depends on the window and gaps).
-    for key, eff in (("close_to_close", 1.0), ("parkinson", 5.2), ("garman_klass", 7.4),
+    # efficiencies as in docs/METHODS.md, "Estimators" (Parkinson 1980 exact 4.91; Garman & Klass
+    # 1980, Rogers & Satchell 1991, from memory); Yang-Zhang 7 (it depends on the window and gaps).
+    for key, eff in (("close_to_close", 1.0), ("parkinson", 4.91), ("garman_klass", 7.4),
                      ("rogers_satchell", 6.0), ("yang_zhang", 7.0)):
         est = point_estimate(h, key, annualization=meta["bars_per_year"])
         assert _within(est, sigma, eff, meta["steps_per_bar"], key != "close_to_close"), (key, est.vol)

@@ -15,33 +15,17 @@ DEFAULT_ANNUALIZATION = 252.0
 
 
 def check_annualization(annualization: float) -> float:
-    """Validate an annualization factor (bars per year) and return it as float."""
-    from volbench.errors import VolbenchError
+    """Validate an annualization factor (bars per year) and return it as float (see volbench.validate)."""
+    from volbench import validate
 
-    try:
-        a = float(annualization)
-    except (TypeError, ValueError):
-        raise VolbenchError(f"annualization must be a number of bars per year, got {annualization!r}") from None
-    if not (a > 0 and a < 1e6):
-        raise VolbenchError(f"annualization must be > 0 bars per year (e.g. 252 or 365), got {annualization!r}")
-    return a
+    return validate.annualization(annualization)
 
 
 def check_window(window: int | str | None, *, minimum: int = 2) -> int | None:
-    """Validate a window of bars; ``None`` or ``"all"`` means the whole sample."""
-    from volbench.errors import VolbenchError
+    """Validate a window of bars; ``None`` or ``"all"`` means the whole sample (see volbench.validate)."""
+    from volbench import validate
 
-    if window is None or (isinstance(window, str) and window.strip().lower() == "all"):
-        return None
-    try:
-        w = int(window)
-    except (TypeError, ValueError):
-        raise VolbenchError(f"window must be a whole number of bars or 'all', got {window!r}") from None
-    if isinstance(window, float) and window != w:
-        raise VolbenchError(f"window must be a whole number of bars or 'all', got {window!r}")
-    if w < minimum:
-        raise VolbenchError(f"window must be >= {minimum} bars, got {w}")
-    return w
+    return validate.window(window, minimum=minimum)
 
 
 def check_positive(value, message: str) -> float:

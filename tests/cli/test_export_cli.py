@@ -77,7 +77,7 @@ def test_comparison_and_option_options(sample_dir, tmp_path):
     (["--pricing-vol", "0.25"], "a comparison needs both --pricing-vol and --days; missing --days"),
     (["--days", "30"], "a comparison needs both --pricing-vol and --days; missing --pricing-vol"),
     (["--strike", "40"], "--strike: option settings apply only to a comparison; also give --pricing-vol and --days"),
-    (["--pricing-vol", "25", "--days", "30"], "pricing vol must be a decimal between 0 and 10"),
+    (["--pricing-vol", "25", "--days", "30"], "pricing vol must be a decimal below 5 (0.25 means 25%), got 25"),
     (["--window", "1x"], "window must be a whole number of bars or 'all', got '1x'"),
 ])
 def test_bad_options_exit_2(sample_dir, tmp_path, capsys, args, message):

@@ -82,7 +82,7 @@ def test_short_file_reports_the_fallback(capsys, tmp_path):
     (["--horizons", "5,x"], "horizons must be whole numbers separated by commas"),
     (["--annualization", "-1"], "annualization must be > 0"),
     (["--simulations", "10"], "simulations must be a whole number between 100 and 100000, got 10"),
-    (["--model", "figarch"], "invalid choice: 'figarch'"),
+    (["--model", "figarch"], "unknown model 'figarch'; choose one of: garch, gjr, egarch"),
     (["--processes", "0"], "processes must be a whole number >= 1 or None, got 0"),
 ])
 def test_bad_input_exits_2_with_one_line(capsys, sample_dir, argv, msg):

@@ -45,9 +45,9 @@ def test_price_table(capsys):
 
 
 @pytest.mark.parametrize("argv,message", [
-    (["--vol", "20"], (r"--vol must be a decimal below 5 \(0.25 means 25%\), got 20; it looks like a percent: "
+    (["--vol", "20"], (r"pricing vol must be a decimal below 5 \(0.25 means 25%\), got 20; it looks like a percent: "
                       r"did you mean 0.2\?")),
-    (["--vol", "0"], "--vol must be > 0"),
+    (["--vol", "0"], "pricing vol must be > 0"),
     (["--spot", "-1"], "spot must be a positive finite number, got -1"),
     (["--years", "0"], "years to expiry must be a positive finite number, got 0"),
     (["--rate", "5"], r"--rate must be a decimal between -1 and 1 .*did you mean 0.05\?"),
@@ -165,10 +165,10 @@ def test_compare_with_scaling_when_present(capsys, sample_dir):
 
 
 @pytest.mark.parametrize("argv,message", [
-    (["--pricing-vol", "25", "--days", "30"], ("--pricing-vol must be a decimal below 5 (0.25 means 25%), got 25; "
+    (["--pricing-vol", "25", "--days", "30"], ("pricing vol must be a decimal below 5 (0.25 means 25%), got 25; "
                                               "it looks like a percent: did you mean 0.25?")),
-    (["--pricing-vol", "0.25", "--days", "0"], "--days must be a whole number of bars >= 1, got 0"),
-    (["--pricing-vol", "0.25", "--days", "2.5"], "--days must be a whole number of bars, got '2.5'"),
+    (["--pricing-vol", "0.25", "--days", "0"], "days must be a whole number of bars >= 1, got 0"),
+    (["--pricing-vol", "0.25", "--days", "2.5"], "days must be a whole number of bars >= 1, got 2.5"),
     (["--pricing-vol", "0.25", "--days", "30", "--window", "1"], "window must be >= 2 bars, got 1"),
     (["--pricing-vol", "0.25", "--days", "30", "--strike", "-2"], "strike must be a positive price, got -2"),
     (["--pricing-vol", "0.25", "--days", "30", "--rate", "3"], "--rate must be a decimal between -1 and 1"),

@@ -91,7 +91,7 @@ def test_short_file_drops_horizons_and_says_why(capsys, tmp_path):
     (["--horizons", "0,5"], r"^volbench: horizons must be positive whole numbers separated by commas; got '0,5'$"),
     (["--horizons", "a"], r"^volbench: horizons must be whole numbers separated by commas"),
     (["--horizons", "1"], r"^volbench: horizons must include at least one horizon of 2 bars or more"),
-    (["--alpha", "5"], (r"^volbench: alpha must be a significance level between 0 and 0.5 \(e.g. 0.05\), got 5.0; "
+    (["--alpha", "5"], (r"^volbench: alpha must be a significance level between 0 and 0.5 \(e.g. 0.05\), got 5; "
                        r"it looks like a percent: did you mean 0.05\?$")),
     (["--annualization", "0"], r"^volbench: annualization must be > 0 bars per year"),
 ])

@@ -1,6 +1,6 @@
 """Plain, obviously-correct reference calculations of every estimator (loops over bars, ``math`` only).
 
-They follow the formulas in METHODS.md and the papers named there, written the long way so that the
+They follow the formulas in docs/METHODS.md, "Estimators" and the papers named there, written the long way so that the
 vectorised O(n) implementations in :mod:`volbench.estimators` can be checked against them.
 """
 
@@ -74,7 +74,7 @@ def plain_yang_zhang(h, end, n):
 def plain_ewma(h, end, n, lam=0.94):
     """RiskMetrics (1996) recursion, seeded with the sample variance of the first n returns.
 
-    The value at bar t includes r_t: v_t = lam v_{t-1} + (1 - lam) r_t^2 (METHODS.md convention).
+    The value at bar t includes r_t: v_t = lam v_{t-1} + (1 - lam) r_t^2 (docs/METHODS.md, "Estimators").
     """
     c = h.close
     seed = [_r(c, i) for i in range(1, n + 1)]

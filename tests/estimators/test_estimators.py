@@ -1,7 +1,7 @@
 """Each estimator against a hand calculation on a tiny table, and against its published constants.
 
 Reference loops live in tests/estimators/conftest.py (the ``plain`` fixture); they follow the formulas
-in METHODS.md and the papers cited beside each test.
+in docs/METHODS.md, "Estimators" and the papers cited beside each test.
 """
 
 from __future__ import annotations
@@ -19,7 +19,7 @@ A = 252.0
 
 
 def test_registry_lists_the_six_classical_estimators_in_order():
-    # METHODS.md table (common practice, no source for the order)
+    # docs/METHODS.md, "Estimators" table (common practice, no source for the order)
     assert ESTIMATOR_KEYS == (
         "close_to_close", "parkinson", "garman_klass", "rogers_satchell", "yang_zhang", "ewma",
     )
@@ -48,7 +48,7 @@ def test_zero_mean_close_to_close_by_hand(make_history):
 @pytest.mark.parametrize("key", ESTIMATOR_KEYS)
 @pytest.mark.parametrize("window", [2, 3, 4])
 def test_point_estimate_equals_plain_loop_on_tiny_table(tiny_ohlc, plain, key, window):
-    # Formulas of METHODS.md written as plain loops (see conftest for the source of each).
+    # Formulas of docs/METHODS.md, "Estimators" written as plain loops (see conftest for the source of each).
     h = tiny_ohlc()
     est = point_estimate(h, key, window)
     expected = math.sqrt(plain.var[key](h, h.n - 1, window) * A)
@@ -67,7 +67,7 @@ def test_whole_sample_estimate_on_tiny_table(tiny_ohlc, plain, key):
 
 @pytest.mark.parametrize("key", ESTIMATOR_KEYS)
 def test_rolling_series_equals_plain_loop_on_tiny_table(tiny_ohlc, plain, key):
-    # METHODS.md formulas written as plain loops (sources per estimator in conftest.py).
+    # docs/METHODS.md, "Estimators": formulas written as plain loops (sources per estimator in conftest.py).
     h = tiny_ohlc()
     w = 3
     rv = rolling_vol(h, key, w)
@@ -78,7 +78,7 @@ def test_rolling_series_equals_plain_loop_on_tiny_table(tiny_ohlc, plain, key):
 
 
 def test_annualization_scales_vol_by_square_root(tiny_ohlc):
-    # vol = sqrt(variance x A) (METHODS.md convention; common practice, no source)
+    # vol = sqrt(variance x A) (docs/METHODS.md, "Notation and conventions"; common practice, no source)
     h = tiny_ohlc()
     for key in ESTIMATOR_KEYS:
         a252 = point_estimate(h, key, 4).vol

@@ -11,19 +11,20 @@ from scipy import stats
 from volbench.errors import EstimatorUnavailable, VolbenchError
 from volbench.estimators import (
     ESTIMATOR_KEYS,
-    REGISTRY,
     availability,
     estimate_all,
     get_spec,
+    intervals,
     point_estimate,
     rolling_vol,
 )
+from volbench.estimators.range_based import yang_zhang_k, yang_zhang_parts
 
 A = 252.0
 
 
 def test_close_to_close_interval_matches_scipy_chi_square(simulate_ohlc):
-    # (n-1) s^2 / sigma^2 ~ chi-square(n-1) under i.i.d. normal returns (Hull; METHODS.md), quantiles
+    # (n-1) s^2 / sigma^2 ~ chi-square(n-1) under i.i.d. normal returns (Hull; docs/METHODS.md, "Confidence intervals and their coverage"), quantiles
     # from scipy.stats.chi2 as reference library: [s sqrt((n-1)/q_hi), s sqrt((n-1)/q_lo)].
     h = simulate_ohlc(80, 0.3, seed=41, steps=5)
     n = 30
@@ -53,11 +54,19 @@ def test_zero_mean_close_to_close_interval_uses_n_degrees_of_freedom(simulate_oh
 
 @pytest.mark.parametrize("key", ["parkinson", "garman_klass", "rogers_satchell", "yang_zhang"])
 def test_range_estimator_interval_uses_effective_sample_size(simulate_ohlc, key):
-    # METHODS.md: approximate interval with effective n = n x efficiency in the chi-square formula
-    # (scipy.stats.chi2 quantiles as reference); labelled approximate.
-    h = simulate_ohlc(60, 0.3, seed=43, steps=50)
+    # docs/METHODS.md, "Confidence intervals and their coverage": approximate interval with effective
+    # degrees of freedom in the chi-square formula (scipy.stats.chi2 quantiles as reference); n x the
+    # per-bar efficiency for Parkinson, Garman-Klass and Rogers-Satchell, the n- and gap-dependent
+    # derivation for Yang-Zhang; labelled approximate.
+    h = simulate_ohlc(60, 0.3, seed=43, steps=50, overnight_share=0.2)
     est = point_estimate(h, key, 20)
-    dof = 20 * REGISTRY[key].efficiency
+    if key == "yang_zhang":
+        v_o, v_c, v_rs = (p[-1] for p in yang_zhang_parts(h, 20))
+        k = yang_zhang_k(20)
+        dof = intervals.yang_zhang_dof(20, v_o / (v_o + k * v_c + (1 - k) * v_rs))
+    else:
+        dof = 20 * intervals.BAR_EFFICIENCY[key]
+    assert est.dof == pytest.approx(dof, rel=1e-12)
     assert est.ci_low == pytest.approx(est.vol * math.sqrt(dof / stats.chi2.ppf(0.975, dof)), rel=1e-12)
     assert est.ci_high == pytest.approx(est.vol * math.sqrt(dof / stats.chi2.ppf(0.025, dof)), rel=1e-12)
     assert est.ci_method.startswith("approximate")
@@ -165,12 +174,18 @@ def test_estimate_all_report(simulate_ohlc):
 
 def test_as_of_outside_the_history(simulate_ohlc):
     h = simulate_ohlc(30, 0.2, seed=51, steps=5)
-    with pytest.raises(VolbenchError, match=r"as-of date 2019-01-01 is before the first row \(2020-01-01\)"):
+    with pytest.raises(VolbenchError, match=r"sim: as-of date 2019-01-01 is outside the data, which runs from 2020-01-01"):
         point_estimate(h, "close_to_close", as_of="2019-01-01")
     with pytest.raises(VolbenchError, match="as-of date must look like YYYY-MM-DD, got 'soon'"):
         point_estimate(h, "close_to_close", as_of="soon")
-    # an as-of date after the last row uses every row
-    assert point_estimate(h, "parkinson", as_of="2030-01-01").as_of == h.last_date
+    # an as-of date after the last row is refused, naming the range; "last" means the last row
+    with pytest.raises(VolbenchError, match=r"as-of date 2030-01-01 is outside the data, which runs from "
+                                            r"2020-01-01 to 2020-02-11; choose a date in that range or 'last'"):
+        point_estimate(h, "parkinson", as_of="2030-01-01")
+    assert point_estimate(h, "parkinson", as_of="last").as_of == h.last_date
+    for text in ("01/06/2020", "17/01/2020", "2020-1-6", "20200106"):  # not ISO YYYY-MM-DD: refused
+        with pytest.raises(VolbenchError, match=f"as-of date must look like YYYY-MM-DD, got '{text}'"):
+            point_estimate(h, "parkinson", as_of=text)
 
 
 def test_window_validation_messages(simulate_ohlc):
@@ -182,3 +197,38 @@ def test_window_validation_messages(simulate_ohlc):
     with pytest.raises(VolbenchError, match="annualization must be a number of bars per year, got 'x'"):
         point_estimate(h, "parkinson", annualization="x")
     assert get_spec("parkinson").label == "Parkinson"
+
+
+# --------------------------------------------------------------------------- no information
+def test_zero_range_bars_make_range_estimators_unavailable_not_zero(make_history):
+    # Close-only prices padded to OHLC (open = high = low = close): the range carries no information,
+    # so Parkinson, Garman-Klass, Rogers-Satchell and Yang-Zhang are unavailable with a reason rather
+    # than 0.00 % (docs/METHODS.md, "Estimators"; common practice, no source).
+    c = 100 * np.exp(np.cumsum(np.random.default_rng(60).normal(0, 0.01, 80)))
+    h = make_history(c, c, c, c)
+    rep = estimate_all(h, 20)
+    assert set(rep.estimates) == {"close_to_close", "ewma"}
+    for key in ("parkinson", "garman_klass", "rogers_satchell", "yang_zhang"):
+        assert rep.unavailable[key].startswith("no range on any bar of the window (high = low on every bar")
+        with pytest.raises(EstimatorUnavailable, match=f"{key}: no range on any bar"):
+            rolling_vol(h, key, 20)
+
+
+def test_a_zero_range_stretch_is_left_out_of_the_rolling_series(simulate_ohlc, make_history):
+    h0 = simulate_ohlc(60, 0.2, seed=61, steps=20)
+    hi, lo = h0.high.copy(), h0.low.copy()
+    o = h0.open.copy()
+    hi[:30] = lo[:30] = o[:30] = h0.close[:30]  # first 30 bars padded from closes
+    h = make_history(h0.close, o, hi, lo)
+    rv = rolling_vol(h, "parkinson", 10)
+    assert len(rv.invalid_dates) == 21 and (rv.values > 0).all()  # windows ending at bars 9..29 left out
+    assert point_estimate(h, "parkinson", 10).vol > 0
+
+
+def test_constant_closes_make_close_estimators_unavailable(make_history):
+    h = make_history(np.full(40, 50.0))
+    rep = estimate_all(h, 20)
+    assert rep.estimates == {}
+    assert rep.unavailable["close_to_close"] == ("the closes do not change over the window: there is no "
+                                                 "volatility to measure; check the price column")
+    assert rep.unavailable["ewma"] == rep.unavailable["close_to_close"]

@@ -33,7 +33,7 @@ def test_rolling_value_equals_point_estimate_at_every_checked_date(simulate_ohlc
 
 @pytest.mark.parametrize("key", ESTIMATOR_KEYS)
 def test_vectorised_rolling_equals_plain_loop_over_windows(simulate_ohlc, plain, key):
-    # METHODS.md formulas written as plain loops over each window (sources in conftest.py).
+    # docs/METHODS.md, "Estimators": formulas written as plain loops over each window (sources in conftest.py).
     h = simulate_ohlc(160, 0.25, seed=32, steps=20, mu_annual=0.3, overnight_share=0.3)
     w = 15
     rv = rolling_vol(h, key, w).values

@@ -36,7 +36,7 @@ def test_writes_bytes_text_and_streams(tmp_path, payload, expected):
 def test_refuses_to_overwrite_and_leaves_the_file_unchanged(tmp_path):
     target = tmp_path / "sheet.csv"
     target.write_bytes(b"old")
-    with pytest.raises(VolbenchError, match=r"sheet\.csv already exists; pass --force \(overwrite=True\)"):
+    with pytest.raises(VolbenchError, match=r"sheet\.csv already exists; pass --force \(in the window: confirm the replacement\) to replace it"):
         atomic_write(target, b"new")
     assert target.read_bytes() == b"old"
     assert _listing(tmp_path) == ["sheet.csv"]

@@ -131,12 +131,17 @@ def test_comparison_window_sets_the_candidate_window_and_is_recorded(make_bundle
 
 
 def test_bad_pricing_inputs(make_bundle):
-    with pytest.raises(VolbenchError, match=r"needs both the pricing vol and the option's days"):
+    with pytest.raises(VolbenchError, match=r"a comparison needs both --pricing-vol and --days"):
         make_bundle(pricing_vol=0.25)
-    with pytest.raises(VolbenchError, match=r"pricing vol must be a decimal between 0 and 10 .*got 25"):
+    with pytest.raises(VolbenchError, match=r"pricing vol must be a decimal below 5 \(0.25 means 25%\), got 25"):
         make_bundle(pricing_vol=25, days=30)
-    with pytest.raises(VolbenchError, match=r"window must be >= 1 bars, got 0"):
+    with pytest.raises(VolbenchError, match=r"pricing vol must be a decimal below 5 \(0.25 means 25%\), got 7; "
+                                            r"it looks like a percent: did you mean 0.07\?"):
+        make_bundle(pricing_vol=7, days=30)  # the same limit as 'volbench compare'
+    with pytest.raises(VolbenchError, match=r"days must be a whole number of bars >= 1, got 0"):
         make_bundle(pricing_vol=0.25, days=0)
+    with pytest.raises(VolbenchError, match=r"unknown estimator 'nope'; choose one of: close_to_close"):
+        make_bundle(cone_estimator="nope")
 
 
 def test_no_histories():

@@ -131,7 +131,7 @@ def test_session_save_and_reopen_restores_files_selection_and_choices(make_windo
      r"saved by a newer volbench \(session version 2; this one reads up to 1\); update volbench"),
     (json.dumps({"hello": 1}), r"not a volbench session"),
     (json.dumps({"kind": "volbench-session", "version": 1, "choices": {"window": "wide"}}),
-     r"setting 'window' has an unreadable value 'wide'"),
+     r"window must be a whole number of bars or 'all', got 'wide'"),
 ])
 def test_a_corrupt_or_newer_session_gives_a_clear_dialog(make_window, tmp_path, message_boxes, content, message):
     import re

@@ -175,8 +175,8 @@ def test_as_of_before_the_first_row_shows_the_message_in_the_panes(make_window, 
     w.state.set("as_of", "2001-01-01")
     card = w.findChild(Card, "rolling_card")
     assert card.currentIndex() == 1
-    assert "before the first row" in card.message
-    assert "before the first row" in w.status_label.text()
+    assert "is outside the data, which runs from" in card.message
+    assert "is outside the data, which runs from" in w.status_label.text()
 
 
 def test_dropping_files_on_the_window_loads_them(make_window, kestrel):

@@ -39,7 +39,8 @@ def test_fits_with_warnings_are_ranked_but_never_preferred(make_history):
     h = make_history(100 * np.exp(np.cumsum(np.r_[0.0, rng.normal(0, 0.01, 59)])))
     c = fit_models(h, "all")
     assert c.preferred is None and c.delta_bic is None and c.ranking == ()
-    assert c.message.startswith("no model gave a usable fit; the forward vol falls back to EWMA (lambda 0.94)")
+    assert c.message == ("no model gave a usable fit; the forward vol is the fallback: EWMA (lambda 0.94), "
+                         "because: too little data (59 returns, 250 needed)")
     assert c.forward_vol(10) == c.fits[0].fallback_vol
     json.dumps(c.as_dict(), allow_nan=False)
 

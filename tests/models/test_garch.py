@@ -163,15 +163,13 @@ def test_as_dict_is_json_safe_with_the_issue_shape(arch_path, make_history):
 
 
 # ------------------------------------------------------------------------------ honest failure
-def test_constant_series_falls_back_with_a_warning(make_history):
-    # common practice, no source: constant prices have zero return variance, so EWMA gives 0
-    h = make_history(np.full(400, 50.0))
-    fit = fit_garch(h, "garch")
-    assert not fit.fitted and not fit.converged
-    assert fit.fallback == FALLBACK == "EWMA (lambda 0.94)"
-    assert "returns do not vary (all 399 equal 0)" in fit.warnings[0]
-    assert np.all(fit.term_structure["vol"] == 0.0) and fit.forward_vol(30) == 0.0
-    assert fit.conditional_vol.empty and np.isnan(fit.bic)
+def test_constant_series_is_refused_not_a_zero_vol(make_history):
+    # common practice, no source: constant prices have zero return variance; a forward vol of 0 %
+    # would be a number passed off as a result, so the fit is refused with the reason.
+    h = make_history(np.full(400, 50.0), name="flat")
+    with pytest.raises(VolbenchError, match=r"flat: returns do not vary \(all 399 equal 0\): there is no "
+                                            "volatility to model; check the price column"):
+        fit_garch(h, "garch")
 
 
 def test_thirty_bars_fall_back_to_ewma_and_say_how_many_are_needed(make_history):
@@ -182,7 +180,7 @@ def test_thirty_bars_fall_back_to_ewma_and_say_how_many_are_needed(make_history)
     assert fit.fallback == FALLBACK
     assert f"29 returns, at least {MIN_RETURNS} are needed" in fit.warnings[0]
     # RiskMetrics (1996) EWMA, lambda 0.94, seeded with the sample variance of the first 20
-    # returns (METHODS.md), written as a plain loop
+    # returns (docs/METHODS.md, "Estimators"), written as a plain loop
     r = np.diff(np.log(close))
     v = np.var(r[:20], ddof=1)
     for x in r[20:]:

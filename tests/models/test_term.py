@@ -17,7 +17,7 @@ HORIZONS = (1, 2, 5, 10, 21, 42, 63, 126, 252)
     ("gjr", [0.03, 0.05, 0.03, 0.10, 0.87], 1),
 ])
 def test_closed_form_equals_average_of_arch_forecasts(arch_path, model, params, o):
-    # Reference library: arch's analytic h-step variance forecasts; closed form from METHODS.md
+    # Reference library: arch's analytic h-step variance forecasts; closed form from docs/METHODS.md, "GARCH and the vol over an option's life"
     # (V_L + p^(h-1)(s2_{t+1} - V_L), summed as a geometric series). Equal to rounding.
     h, _ = arch_path(model, params, 2000, seed=11)
     y = 100 * h.log_returns()  # exactly the returns fit_garch sees
@@ -29,7 +29,7 @@ def test_closed_form_equals_average_of_arch_forecasts(arch_path, model, params, 
     closed = term.garch_average_variance(fc[0], vl, p, HORIZONS)
     arch_avg = np.array([fc[:t].mean() for t in HORIZONS])
     np.testing.assert_allclose(closed, arch_avg, rtol=1e-10)
-    # the per-bar path too (METHODS.md h-step formula vs arch)
+    # the per-bar path too (docs/METHODS.md, "GARCH and the vol over an option's life": h-step formula vs arch)
     np.testing.assert_allclose(term.garch_variance_path(fc[0], vl, p, 252), fc, rtol=1e-10)
     # and our fit reports the same term structure (same data, same optimizer), in decimals
     fit = fit_garch(h, model, horizons=HORIZONS)
@@ -105,7 +105,7 @@ def test_fractional_days_interpolate_total_variance():
 
 
 def test_half_life_formula():
-    # METHODS.md: ln(0.5) / ln(p); p = 0.5 halves every bar
+    # docs/METHODS.md, "GARCH and the vol over an option's life": ln(0.5) / ln(p); p = 0.5 halves every bar
     assert term.half_life(0.5) == pytest.approx(1.0)
     assert term.half_life(0.98) == pytest.approx(np.log(0.5) / np.log(0.98))
     assert np.isnan(term.half_life(1.0)) and np.isnan(term.half_life(0.0))

@@ -160,8 +160,9 @@ def test_garch_comparison_stand_in(hist):
 def test_single_garch_fit_stand_in(hist):
     c = compare(hist, 0.25, 30, garch=_fit("gjr", 0.3, converged=False, fallback="EWMA", dist="t"))
     row = c.table[c.table["source"] == "garch"].iloc[0]
-    assert row["label"] == "GJR-GARCH (t)"
-    assert row["vol"] == 0.3 and row["note"] == "forward vol over the option's life; fit did not converge; fallback: EWMA"
+    # a fallback's number is never labelled with the bare model name
+    assert row["label"] == "GJR-GARCH (t) → EWMA fallback"
+    assert row["vol"] == 0.3 and row["note"] == "no usable forecast; forward vol from the fallback EWMA"
     bad = compare(hist, 0.25, 30, garch=object())
     assert bad.unavailable["garch"] == "object of type object has no GARCH fits or forward_vol"
 
@@ -212,7 +213,7 @@ def test_missing_columns_and_short_history(make_history):
     ({"days": 0}, "days must be a whole number of bars >= 1, got 0"),
     ({"days": 2.5}, "days must be a whole number of bars >= 1, got 2.5"),
     ({"window": 1}, "window must be >= 2 bars, got 1"),
-    ({"window": "all"}, "window must be a number of bars for a comparison, not 'all'"),
+    ({"window": "all"}, "window must be a whole number of bars for a comparison, not 'all'"),
     ({"annualization": -1}, "annualization must be > 0 bars per year"),
     ({"option": OptionSpec(kind="straddle")}, "option type must be 'call' or 'put', got 'straddle'"),
     ({"option": OptionSpec(strike=-3)}, "strike must be a positive price, got -3"),

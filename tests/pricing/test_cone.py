@@ -173,7 +173,7 @@ def test_place_uses_the_adjusted_distribution_under_hodges_tompkins(gbm):
     (-0.1, 20, "vol must be a positive decimal such as 0.25, got -0.1"),
     (0.2, 0, "days must be a whole number of bars >= 1, got 0"),
     (0.2, 2.5, "days must be a whole number of bars >= 1, got 2.5"),
-    (0.2, "30", "days must be a whole number of bars >= 1, got '30'"),
+    (0.2, "thirty", "days must be a whole number of bars >= 1, got 'thirty'"),
 ])
 def test_place_validation(gbm, vol, days, message):
     cone = vol_cone(gbm(n=300), windows=(10, 20))
@@ -234,7 +234,11 @@ def test_errors_are_clear(gbm, kwargs, message):
 def test_select_range_whole_history_is_identity(gbm):
     h = gbm(n=50)
     assert select_range(h) is h
-    assert select_range(h, "2000-01-01", "2100-01-01") is h
+    assert select_range(h, "2000-01-01", h.last_date) is h
+    with pytest.raises(VolbenchError, match=r"end date 2100-01-01 is outside the data, which runs from"):
+        select_range(h, "2000-01-01", "2100-01-01")
+    with pytest.raises(VolbenchError, match=r"end date must look like YYYY-MM-DD, got '31/12/2021'"):
+        select_range(h, None, "31/12/2021")
 
 
 def test_ewma_cone_carries_a_note(gbm):

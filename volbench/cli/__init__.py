@@ -43,6 +43,11 @@ def build_parser() -> argparse.ArgumentParser:
 
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; returns the exit code."""
+    for stream in (sys.stdout, sys.stderr):  # labels such as "GARCH(1,1) → EWMA fallback" on any console
+        try:
+            stream.reconfigure(errors="backslashreplace")
+        except (AttributeError, ValueError):
+            pass
     parser = build_parser()
     try:
         args = parser.parse_args(argv)
@@ -51,6 +56,9 @@ def main(argv: list[str] | None = None) -> int:
             print(exc.code, file=sys.stderr)
             return EXIT_BAD_INPUT
         return int(exc.code or 0)
+    except VolbenchError as exc:  # a setting refused by volbench.validate (argparse ``type=``)
+        print(f"volbench: {exc}", file=sys.stderr)
+        return EXIT_BAD_INPUT
     try:
         return int(args.func(args) or 0)
     except VolbenchError as exc:

@@ -5,7 +5,14 @@ from __future__ import annotations
 import argparse
 import sys
 
-from volbench.cli.common import add_annualization, add_file_options, load_from_args
+from volbench import validate
+from volbench.cli.common import (
+    add_annualization,
+    add_as_of,
+    add_file_options,
+    load_from_args,
+    window_or_all,
+)
 from volbench.errors import VolbenchError
 from volbench.export import FORMATS, build_bundle, export_format, write_export
 from volbench.export.atomic import check_destination
@@ -26,15 +33,14 @@ def register(sub) -> None:
     add_file_options(p)
     p.add_argument("--to", required=True, metavar="PATH",
                    help=f"output file; its suffix picks the format ({', '.join(FORMATS)})")
-    p.add_argument("--window", default="all", metavar="N|all",
+    p.add_argument("--window", default="all", metavar="N|all", type=window_or_all,
                    help="bars in the estimation window ending at the as-of date, or 'all' (default)")
-    p.add_argument("--as-of", metavar="YYYY-MM-DD", default=None,
-                   help="last date used by every table (default: last row of each file)")
+    add_as_of(p, "last date used by every table (default: last row of each file)")
     add_annualization(p)
     g = p.add_argument_group("pricing vol comparison (needs both --pricing-vol and --days)")
-    g.add_argument("--pricing-vol", type=float, default=None, metavar="V",
-                   help="proposed annualized vol as a decimal, e.g. 0.25")
-    g.add_argument("--days", type=int, default=None, metavar="D", help="option life in bars")
+    g.add_argument("--pricing-vol", type=validate.pricing_vol, default=None, metavar="V",
+                   help="proposed annualized vol as a decimal below 5, e.g. 0.25")
+    g.add_argument("--days", type=validate.days, default=None, metavar="D", help="option life in bars")
     g.add_argument("--strike", type=float, default=None, metavar="K", help="strike (default: at the money)")
     g.add_argument("--spot", type=float, default=None, metavar="S", help="spot (default: last close)")
     g.add_argument("--rate", type=float, default=0.0, metavar="R",
@@ -43,7 +49,7 @@ def register(sub) -> None:
                    help="continuous dividend yield as a decimal (default 0)")
     g.add_argument("--type", dest="kind", choices=("call", "put"), default="call", help="option type (default call)")
     s = p.add_argument_group("sections")
-    s.add_argument("--cone-estimator", default="close_to_close", metavar="KEY",
+    s.add_argument("--cone-estimator", default="close_to_close", metavar="KEY", type=validate.estimator,
                    help="estimator of the volatility cone (default close_to_close)")
     s.add_argument("--with-garch", action="store_true",
                    help="add GARCH, GJR and EGARCH fits (takes a few seconds per series)")

@@ -6,6 +6,7 @@ import argparse
 import math
 import sys
 
+from volbench import validate
 from volbench.cli.common import (
     add_annualization,
     add_file_options,
@@ -46,7 +47,7 @@ def register(sub) -> None:
         epilog="Estimates are statistical and carry model risk; they are not advice.",
     )
     add_file_options(p)
-    p.add_argument("--model", choices=[*MODELS, "all"], default="all",
+    p.add_argument("--model", type=validate.models, default="all", metavar="|".join([*MODELS, "all"]),
                    help="model to fit, or all three ranked by BIC (default all)")
     p.add_argument("--dist", choices=list(DISTS), default="normal",
                    help="innovation distribution: normal or Student-t (default normal)")
@@ -95,7 +96,8 @@ def run_garch(args: argparse.Namespace) -> int:
         _print_comparison(r, settings)
     print("\nForward vol: annualized sqrt of the average expected variance over bars 1..T after the last bar.")
     if any(f.fallback for r in results for f in r.fits):
-        print("* EWMA fallback, flat over every horizon (see warnings).")
+        print("* fallback (EWMA, or the close-to-close vol when the fit finds no clustering), flat over every "
+              "horizon; the warnings say why.")
     print("Estimates are statistical and carry model risk; they are not advice.")
     return 0
 
@@ -108,7 +110,7 @@ def _num(x: float, digits: int = 4) -> str:
 
 def _status(f: GarchFit, preferred: str | None) -> str:
     if f.fallback:
-        return "fallback*"
+        return f"{f.candidate_label.split(' → ')[-1]}*"
     tag = "preferred" if f.model == preferred else "ok"
     if f.forecast_method == "simulation":
         tag += f" ({f.simulations} paths)"

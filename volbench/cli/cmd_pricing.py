@@ -7,19 +7,22 @@ import importlib
 import math
 from dataclasses import replace
 
+from volbench import validate
 from volbench.cli.common import (
     add_annualization,
     add_file_options,
     add_format,
+    end_text,
     load_from_args,
     parse_int_list,
     pct,
     print_json,
     render_table,
+    start_text,
 )
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY
-from volbench.pricing.bsm import bsm_greeks, check_pricing_vol, check_rate
+from volbench.pricing.bsm import bsm_greeks, check_rate
 from volbench.pricing.compare import OptionSpec, compare
 from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, PERCENTILES, vol_cone
 from volbench.pricing.promise import promises_for
@@ -39,12 +42,14 @@ def register(sub) -> None:
                     "and how many overlapping and independent windows stand behind each column.",
     )
     add_file_options(c)
-    c.add_argument("--estimator", default="close_to_close", metavar="KEY",
+    c.add_argument("--estimator", default="close_to_close", metavar="KEY", type=validate.estimator,
                    help=f"estimator (default close_to_close; one of: {', '.join(REGISTRY)})")
     c.add_argument("--windows", default=",".join(map(str, DEFAULT_CONE_WINDOWS)), metavar="W,W,...",
                    help="window lengths in bars (default %(default)s)")
-    c.add_argument("--start", metavar="YYYY-MM-DD", default=None, help="first date of the range (default: first row)")
-    c.add_argument("--end", metavar="YYYY-MM-DD", default=None, help="last date of the range (default: last row)")
+    c.add_argument("--start", metavar="YYYY-MM-DD", default=None, type=start_text,
+                   help="first date of the range (default: first row)")
+    c.add_argument("--end", metavar="YYYY-MM-DD", default=None, type=end_text,
+                   help="last date of the range (default: last row); a date outside the file's range is refused")
     c.add_argument("--hodges-tompkins", action="store_true",
                    help="widen each column's spread for overlapping windows (Hodges & Tompkins 2002)")
     add_annualization(c)
@@ -60,15 +65,17 @@ def register(sub) -> None:
     )
     add_file_options(m, many=False)
     m.add_argument("--series", metavar="NAME", default=None, help="series to use when FILE holds several")
-    m.add_argument("--pricing-vol", required=True, metavar="V", help="proposed vol as a decimal, e.g. 0.25")
-    m.add_argument("--days", required=True, metavar="N", help="bars to expiry, e.g. 30")
+    m.add_argument("--pricing-vol", required=True, metavar="V", type=validate.pricing_vol,
+                   help="proposed vol as a decimal below 5, e.g. 0.25")
+    m.add_argument("--days", required=True, metavar="N", type=validate.days, help="bars to expiry, e.g. 30")
     m.add_argument("--strike", type=float, default=None, metavar="K", help="strike (default: at the money)")
     m.add_argument("--spot", type=float, default=None, metavar="S", help="spot (default: last close)")
     m.add_argument("--rate", default="0", metavar="R", help="risk-free rate, continuous, decimal (default 0)")
     m.add_argument("--dividend-yield", default="0", metavar="Q", help="dividend yield, continuous, decimal (default 0)")
     m.add_argument("--type", dest="kind", choices=["call", "put"], default="call", help="option type (default call)")
-    m.add_argument("--window", default=None, metavar="N", help="estimator window in bars (default: --days)")
-    m.add_argument("--cone-estimator", default="close_to_close", metavar="KEY",
+    m.add_argument("--window", default=None, metavar="N", type=lambda v: validate.window(v, minimum=2),
+                   help="estimator window in bars (default: --days)")
+    m.add_argument("--cone-estimator", default="close_to_close", metavar="KEY", type=validate.estimator,
                    help="estimator of the cone the pricing vol is placed in (default close_to_close)")
     m.add_argument("--with-garch", action="store_true", help="add GARCH-family forward vols for the option's life")
     m.add_argument("--with-scaling", action="store_true", help="add the scaling check's horizon vol")
@@ -85,7 +92,8 @@ def register(sub) -> None:
     p.add_argument("--spot", required=True, metavar="S", help="spot price")
     p.add_argument("--strike", required=True, metavar="K", help="strike price")
     p.add_argument("--rate", required=True, metavar="R", help="risk-free rate, continuous, decimal (0.05 = 5%%)")
-    p.add_argument("--vol", required=True, metavar="V", help="volatility, decimal (0.25 = 25%%)")
+    p.add_argument("--vol", required=True, metavar="V", type=validate.pricing_vol,
+                   help="volatility, decimal below 5 (0.25 = 25%%)")
     p.add_argument("--years", required=True, metavar="T", help="years to expiry")
     p.add_argument("--dividend-yield", default="0", metavar="Q", help="dividend yield, continuous, decimal (default 0)")
     add_format(p)
@@ -101,13 +109,6 @@ def _number(text: str, what: str) -> float:
     if not math.isfinite(x):
         raise VolbenchError(f"{what} must be a finite number, got {text!r}")
     return x
-
-
-def _whole(text: str, what: str) -> int:
-    try:
-        return int(text)
-    except (TypeError, ValueError):
-        raise VolbenchError(f"{what} must be a whole number of bars, got {text!r}") from None
 
 
 def _f(x: float, sign: str = "") -> str:
@@ -132,8 +133,6 @@ def _findings_hint(h) -> str:
 # ---------------------------------------------------------------------------- cone
 def run_cone(args: argparse.Namespace) -> int:
     windows = parse_int_list(args.windows, "--windows")
-    if args.estimator not in REGISTRY:
-        raise VolbenchError(f"unknown estimator {args.estimator!r}; choose one of: {', '.join(REGISTRY)}")
     histories = load_from_args(args)
     cones = [vol_cone(h, args.estimator, windows, start=args.start, end=args.end,
                       annualization=args.annualization, hodges_tompkins=args.hodges_tompkins)
@@ -206,17 +205,11 @@ def _optional_results(args, history):
 
 
 def run_compare(args: argparse.Namespace) -> int:
-    pv = check_pricing_vol(_number(args.pricing_vol, "--pricing-vol"), "--pricing-vol")
-    days = _whole(args.days, "--days")
-    window = None if args.window is None else _whole(args.window, "--window")
+    pv, days, window = args.pricing_vol, args.days, args.window
     option = OptionSpec(strike=args.strike, rate=check_rate(_number(args.rate, "--rate"), "--rate"),
                         dividend_yield=check_rate(_number(args.dividend_yield, "--dividend-yield"),
                                                   "--dividend-yield"),
                         kind=args.kind, spot=args.spot)
-    if args.cone_estimator not in REGISTRY:
-        raise VolbenchError(f"unknown estimator {args.cone_estimator!r}; choose one of: {', '.join(REGISTRY)}")
-    if days < 1:
-        raise VolbenchError(f"--days must be a whole number of bars >= 1, got {days}")
     history = _pick_series(load_from_args(args), args.series)
     garch, scaling, reasons = _optional_results(args, history)
     comp = compare(history, pv, days, option=option, annualization=args.annualization, window=window,
@@ -282,7 +275,7 @@ def run_price(args: argparse.Namespace) -> int:
     spot = _number(args.spot, "--spot")
     strike = _number(args.strike, "--strike")
     years = _number(args.years, "--years")
-    vol = check_pricing_vol(_number(args.vol, "--vol"), "--vol")
+    vol = args.vol
     rate = check_rate(_number(args.rate, "--rate"), "--rate")
     q = check_rate(_number(args.dividend_yield, "--dividend-yield"), "--dividend-yield")
     out = {kind: bsm_greeks(spot, strike, years, rate, vol, q, kind) for kind in ("call", "put")}

@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import math
 
+from volbench import validate
 from volbench.cli.common import (
     add_annualization,
     add_file_options,
@@ -34,14 +35,17 @@ def register(sub) -> None:
                     "with the Chow-Denning joint test, skewness/kurtosis/Jarque-Bera by horizon, Ljung-Box on "
                     "returns and squared returns, the drift t-test, the annualized vol each horizon actually "
                     "saw against sqrt-time scaling of the 1-bar vol, and a verdict on each property.",
-        epilog="Verdicts: 'rejected' when p < alpha; 'doubtful' when p < 2 alpha or the effect is large "
-               "enough to matter for pricing; 'consistent' otherwise (the data do not contradict the "
-               "property; they do not prove it). Statistical evidence, not advice.",
+        epilog="Verdicts come from the tests alone: 'consistent' when p >= alpha (the data do not "
+               "contradict the property; they do not prove it); 'rejected' when the test rejects even "
+               "after allowing for the four properties tested together (Holm); 'doubtful' when p < alpha "
+               "on its own but not after that allowance. Effect sizes are described in the sentence. "
+               "The output states how often a perfectly Brownian series of the same length gets at least "
+               "one non-consistent verdict by chance. Statistical evidence, not advice.",
     )
     add_file_options(p)
     p.add_argument("--horizons", default=",".join(str(h) for h in DEFAULT_HORIZONS), metavar="H,H,...",
                    help="horizons in bars (default %(default)s; 1 is always included as the base)")
-    p.add_argument("--alpha", type=float, default=0.05, metavar="P",
+    p.add_argument("--alpha", type=validate.significance, default=0.05, metavar="P",
                    help="significance level of the verdicts, between 0 and 0.5 (default %(default)s)")
     add_annualization(p)
     add_format(p)
@@ -112,4 +116,7 @@ def render_result(r: ScalingResult) -> str:
         out.append(f"  {_LABELS.get(v.property, v.property)}: {v.status.upper()}  "
                    f"(statistic {_f(v.statistic)}, p {_p(v.p_value)})")
         out.append(f"    {v.message}")
+    fa = r.family_false_alarm
+    if fa:
+        out.append(f"  {fa['sentence']}")
     return "\n".join(out)

@@ -8,10 +8,12 @@ import math
 import sys
 from collections.abc import Sequence
 
+from volbench import validate
 from volbench.data import load_many
 from volbench.data.history import PriceHistory
 from volbench.data.quality import QualitySettings
 from volbench.errors import VolbenchError
+from volbench.formatting import pct as _pct
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
 
 
@@ -31,8 +33,35 @@ def add_file_options(p: argparse.ArgumentParser, *, many: bool = True) -> None:
 
 
 def add_annualization(p: argparse.ArgumentParser) -> None:
-    p.add_argument("--annualization", type=float, default=DEFAULT_ANNUALIZATION, metavar="A",
+    p.add_argument("--annualization", type=validate.annualization, default=DEFAULT_ANNUALIZATION, metavar="A",
                    help="bars per year used to annualize (default %(default)g; 365 for markets open every day)")
+
+
+def as_of_text(value: str) -> str:
+    """``--as-of``: ISO YYYY-MM-DD or 'last' (checked against each file's range when it is read)."""
+    validate.as_of(value)
+    return value.strip()
+
+
+def end_text(value: str) -> str:
+    """``--end``: ISO YYYY-MM-DD (checked against each file's range when it is read)."""
+    validate.date(value, "end date")
+    return value.strip()
+
+
+def start_text(value: str) -> str:
+    """``--start``: ISO YYYY-MM-DD."""
+    validate.date(value, "start date")
+    return value.strip()
+
+
+def add_as_of(p: argparse.ArgumentParser, help_text: str) -> None:
+    p.add_argument("--as-of", metavar="YYYY-MM-DD|last", type=as_of_text, default=None,
+                   help=help_text + "; a date outside a file's range is refused")
+
+
+def window_or_all(value: str) -> int | None:
+    return validate.window(value, minimum=1)
 
 
 def add_format(p: argparse.ArgumentParser, choices: Sequence[str] = ("table", "json")) -> None:
@@ -96,7 +125,5 @@ def render_table(headers: Sequence[str], rows: Sequence[Sequence], align: str | 
 
 
 def pct(x: float | None, digits: int = 2) -> str:
-    """0.2345 -> '23.45%'; None/NaN -> 'n/a'."""
-    if x is None or not math.isfinite(x):
-        return "n/a"
-    return f"{100 * x:.{digits}f}%"
+    """0.2345 -> '23.45%'; None/NaN -> 'n/a'; never more than about 6 significant digits."""
+    return _pct(x, digits, space=False)

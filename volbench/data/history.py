@@ -263,10 +263,7 @@ def _iso(d: np.datetime64) -> str:
 
 
 def parse_as_of(as_of) -> pd.Timestamp:
-    try:
-        ts = pd.Timestamp(as_of)
-    except (ValueError, TypeError):
-        raise VolbenchError(f"as-of date must look like YYYY-MM-DD, got {as_of!r}") from None
-    if ts is pd.NaT:
-        raise VolbenchError(f"as-of date must look like YYYY-MM-DD, got {as_of!r}")
-    return ts.tz_localize(None) if ts.tzinfo else ts
+    """An as-of date; text must be ISO YYYY-MM-DD (one rule everywhere: volbench.validate.date)."""
+    from volbench import validate
+
+    return validate.date(as_of, "as-of date", time_of_day=True)

@@ -38,8 +38,9 @@ class EstimatorSpec:
         ``variance(history, window, **options) -> ndarray`` of per-bar variance, length ``history.n``,
         NaN where fewer than ``window + extra_bars`` rows are available.
     efficiency
-        Efficiency relative to close-to-close under Brownian motion (1.0 for close-to-close), used for
-        the approximate confidence interval of range estimators.
+        Per-bar efficiency relative to close-to-close under Brownian motion, rounded, for help texts;
+        the intervals use :func:`volbench.estimators.intervals.effective_dof` (n-dependent for
+        Yang-Zhang).
     ci_exact
         True when the confidence interval is exact under i.i.d. normal returns (close-to-close).
     whole_sample_window
@@ -88,6 +89,10 @@ class Estimate:
     annualization: float
     confidence: float
     ci_method: str
+    dof: float = float("nan")
+    """Degrees of freedom of the chi-square interval (effective for the approximate ones)."""
+    note: str = ""
+    """Caveat on the estimate (e.g. the discretisation bias of range estimators)."""
 
     def as_dict(self) -> dict:
         return {"vol": self.vol, "ci_low": self.ci_low, "ci_high": self.ci_high, "n": self.n}
@@ -155,6 +160,6 @@ def pad_front(x: np.ndarray, k: int) -> np.ndarray:
 
 
 def ohlc_logs(h: PriceHistory) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """u = ln(H/O), d = ln(L/O), c = ln(C/O) per bar (METHODS.md notation)."""
+    """u = ln(H/O), d = ln(L/O), c = ln(C/O) per bar (docs/METHODS.md, Notation and conventions)."""
     lo = np.log(h.open)
     return np.log(h.high) - lo, np.log(h.low) - lo, np.log(h.close) - lo

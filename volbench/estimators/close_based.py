@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 from scipy.signal import lfilter
 
+from volbench import validate
 from volbench.data.history import PriceHistory
-from volbench.errors import VolbenchError
 from volbench.estimators.base import EstimatorSpec, pad_front, rolling_mean, rolling_var
 
 EWMA_LAMBDA = 0.94
@@ -38,8 +38,7 @@ def ewma_variance(h: PriceHistory, window: int, *, lam: float = EWMA_LAMBDA) -> 
     equal to their sample variance (divisor n - 1). The window only sets the seed; every later
     return is used. Computed as a first-order linear filter (O(n)).
     """
-    if not 0 < lam < 1:
-        raise VolbenchError(f"EWMA lambda must be between 0 and 1 (exclusive), got {lam}")
+    lam = validate.lam(lam)
     r = h.log_returns()
     out = np.full(h.n, np.nan)
     if len(r) < window:

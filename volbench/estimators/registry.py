@@ -11,13 +11,20 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
-from scipy import stats
 
+from volbench import validate
 from volbench.data.history import PriceHistory, _iso
 from volbench.errors import EstimatorUnavailable, VolbenchError
+from volbench.estimators import intervals
 from volbench.estimators.base import Estimate, EstimatorSpec, RollingVol
-from volbench.estimators.close_based import CLOSE_TO_CLOSE, EWMA, EWMA_LAMBDA, ewma_effective_n
-from volbench.estimators.range_based import GARMAN_KLASS, PARKINSON, ROGERS_SATCHELL, YANG_ZHANG
+from volbench.estimators.close_based import CLOSE_TO_CLOSE, EWMA, EWMA_LAMBDA
+from volbench.estimators.range_based import (
+    GARMAN_KLASS,
+    PARKINSON,
+    ROGERS_SATCHELL,
+    YANG_ZHANG,
+    yang_zhang_parts,
+)
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_window
 
 REGISTRY: dict[str, EstimatorSpec] = {
@@ -27,11 +34,51 @@ ESTIMATOR_KEYS: tuple[str, ...] = tuple(REGISTRY)
 
 
 def get_spec(key: str) -> EstimatorSpec:
-    """The spec for ``key``; a clear error listing the choices otherwise."""
-    try:
-        return REGISTRY[key]
-    except KeyError:
-        raise VolbenchError(f"unknown estimator {key!r}; choose one of: {', '.join(REGISTRY)}") from None
+    """The spec for ``key``; a clear error listing the choices otherwise (volbench.validate.estimator)."""
+    return REGISTRY[validate.estimator(key)]
+
+
+NO_RANGE = ("no range on any bar of the window (high = low on every bar, as when close-only prices are "
+            "padded to OHLC): a range estimator has no information here")
+NO_MOVES = "the closes do not change over the window: there is no volatility to measure; check the price column"
+
+
+def _rolling_count(flags: np.ndarray, w: int) -> np.ndarray:
+    """Exact count of true flags in each trailing window of ``w`` (NaN for the first ``w - 1``)."""
+    c = np.concatenate(([0], np.cumsum(flags.astype(np.int64))))
+    out = np.full(len(flags), np.nan)
+    if len(flags) >= w:
+        out[w - 1:] = c[w:] - c[:-w]
+    return out
+
+
+def _uninformative(spec: EstimatorSpec, history: PriceHistory, window: int) -> np.ndarray:
+    """True at bars whose window carries no information for ``spec`` (zero range, or no price moves)."""
+    if "high" in spec.needs:
+        moved = np.log(history.high) - np.log(history.low) > 0
+        return ~(_rolling_count(moved, window) > 0)
+    r = history.log_returns()
+    if spec.key == "ewma":
+        seen = np.concatenate(([0], np.cumsum(r != 0)))
+        return seen == 0
+    return ~(np.concatenate(([np.nan], _rolling_count(r != 0, window))) > 0)
+
+
+def _why_uninformative(spec: EstimatorSpec) -> str:
+    return NO_RANGE if "high" in spec.needs else NO_MOVES
+
+
+def dof_series(spec: EstimatorSpec, history: PriceHistory, window: int, variance: np.ndarray,
+               options: dict) -> np.ndarray | float:
+    """Degrees of freedom of each bar's interval (an array for Yang-Zhang, whose overnight share
+    is read from each window, else a number); see :mod:`volbench.estimators.intervals`."""
+    if spec.key == "yang_zhang":
+        v_o = yang_zhang_parts(history, window)[0]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            share = np.where(variance > 0, v_o / variance, 0.0)
+        return intervals.yang_zhang_dof(window, np.nan_to_num(share))
+    lam = options.get("lam") or EWMA_LAMBDA
+    return intervals.effective_dof(spec.key, window, zero_mean=bool(options.get("zero_mean")), lam=lam)
 
 
 def availability(history: PriceHistory, key: str, window: int | None) -> str | None:
@@ -99,7 +146,9 @@ def rolling_vol(
     Raises
     ------
     EstimatorUnavailable
-        Missing columns or too few rows for the window.
+        Missing columns, too few rows for the window, or no window carrying information (zero
+        range on every bar, closes that never move). Single windows without information, like
+        windows with inconsistent OHLC bars, are left out and listed in ``invalid_dates``.
     """
     a = check_annualization(annualization)
     w = check_window(window, minimum=1)
@@ -109,7 +158,10 @@ def rolling_vol(
     var = _variance(spec, history, w, options)
     first = spec.bars_needed(w) - 1
     seg = var[first:]
-    bad = ~(seg >= 0)
+    empty = _uninformative(spec, history, w)[first:]
+    if empty.all():
+        raise EstimatorUnavailable(spec.key, _why_uninformative(spec))
+    bad = ~(seg >= 0) | empty
     idx = history.index[first:]
     if not bad.any():  # the usual case: no inconsistent bars, no masking needed
         values = pd.Series(np.sqrt(seg * a), index=idx, name=spec.key, copy=False)
@@ -131,49 +183,54 @@ def point_estimate(
 ) -> Estimate:
     """Annualized volatility of ``key`` over ``window`` bars ending at ``as_of`` (inclusive).
 
-    ``window`` ``None``/``"all"`` uses every row up to ``as_of``. The confidence interval is the
-    chi-square interval for close-to-close (exact under i.i.d. normal returns) and an approximation
-    with effective sample size n x efficiency for the others (labelled approximate).
+    ``window`` ``None``/``"all"`` uses every row up to ``as_of`` (an ISO date inside the history, or
+    ``None``/``"last"``). The confidence interval is the chi-square interval for close-to-close (exact
+    under i.i.d. normal returns) and, for the others, a chi-square approximation with effective
+    degrees of freedom (:mod:`volbench.estimators.intervals`; labelled approximate; coverage in
+    docs/METHODS.md, "Confidence intervals and their coverage").
 
     Raises
     ------
     EstimatorUnavailable
-        Missing columns, too few rows, or a negative variance from inconsistent OHLC rows.
+        Missing columns, too few rows, a negative variance from inconsistent OHLC rows, or a window
+        that carries no information (zero range on every bar; closes that never move).
     VolbenchError
-        Bad window, annualization, confidence or as-of date.
+        Bad window, annualization, confidence, or an as-of date that is not YYYY-MM-DD or lies
+        outside the history.
     """
     a = check_annualization(annualization)
     w = check_window(window, minimum=1)
-    if not 0 < confidence < 1:
-        raise VolbenchError(f"confidence must be between 0 and 1, got {confidence}")
-    h = history.up_to(as_of)
+    confidence = validate.level(confidence)
+    h = history.up_to(validate.as_of_for(history, as_of))
     spec, w_eff = _check(h, key, w)
-    var = float(_variance(spec, h, w_eff, options)[-1])
+    all_var = _variance(spec, h, w_eff, options)
+    var = float(all_var[-1])
     if not var >= 0:
         raise EstimatorUnavailable(key, "negative variance in this window: some bars have high below low "
                                         "or prices outside their range; exclude flagged rows")
+    if bool(_uninformative(spec, h, w_eff)[-1]):
+        raise EstimatorUnavailable(key, _why_uninformative(spec))
     s = np.sqrt(var)
+    dof = dof_series(spec, h, w_eff, all_var, options)
+    dof = float(dof[-1]) if np.ndim(dof) else float(dof)
     if spec.key == "ewma":
         n = h.n - 1
-        lam = options.get("lam") or EWMA_LAMBDA
-        dof = ewma_effective_n(lam)
         method = f"approximate: chi-square with effective n {dof:.1f}"
     else:
         n = w_eff
-        zero_mean = spec.key == "close_to_close" and bool(options.get("zero_mean"))
         if spec.ci_exact:
-            dof = float(n if zero_mean else n - 1)
             method = "chi-square (exact under i.i.d. normal returns)"
+        elif spec.key == "yang_zhang":
+            method = (f"approximate: chi-square with effective n {dof:.0f} for {n} bars (depends on the window "
+                      "and the overnight share)")
         else:
-            dof = n * spec.efficiency
-            method = f"approximate: chi-square with effective n = {n} x efficiency {spec.efficiency:g}"
-    alpha = 1.0 - confidence
-    q_lo, q_hi = stats.chi2.ppf([alpha / 2, 1 - alpha / 2], dof)
+            method = f"approximate: chi-square with effective n {dof:.0f} = {n} bars x {dof / n:.3g}"
     ann = np.sqrt(a)
+    lo, hi = intervals.chi2_interval(s * ann, dof, confidence)
     return Estimate(
-        key=spec.key, label=spec.label, vol=float(s * ann),
-        ci_low=float(s * np.sqrt(dof / q_hi) * ann), ci_high=float(s * np.sqrt(dof / q_lo) * ann),
+        key=spec.key, label=spec.label, vol=float(s * ann), ci_low=lo, ci_high=hi,
         n=int(n), window=w, as_of=h.last_date, annualization=a, confidence=confidence, ci_method=method,
+        dof=dof, note=intervals.discretisation_note(spec.key),
     )
 
 
@@ -221,7 +278,7 @@ def estimate_all(
     keys = tuple(keys) if keys else ESTIMATOR_KEYS
     for k in keys:
         get_spec(k)
-    h = history.up_to(as_of)
+    h = history.up_to(validate.as_of_for(history, as_of))
     est: dict[str, Estimate] = {}
     unavailable: dict[str, str] = {}
     for k in keys:

@@ -92,7 +92,7 @@ def atomic_write(path: str | os.PathLike, data: Payload, *, overwrite: bool = Fa
 
 
 def exists_message(target: Path) -> str:
-    return f"{target} already exists; pass --force (overwrite=True) to replace it, or choose another name"
+    return f"{target} already exists; pass --force (in the window: confirm the replacement) to replace it, or choose another name"
 
 
 def check_destination(path: str | os.PathLike, *, overwrite: bool = False) -> Path:

@@ -16,8 +16,8 @@ from typing import Any
 
 import pandas as pd
 
-from volbench import __version__
-from volbench.data.history import PriceHistory, parse_as_of
+from volbench import __version__, validate
+from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators import estimate_all
 from volbench.estimators.close_based import EWMA_LAMBDA
@@ -158,15 +158,18 @@ def build_bundle(
     -----
     A section whose analysis module is missing, that was not requested, or that fails for a
     series (a :class:`VolbenchError` from that analysis) is recorded in ``sections`` with the
-    reason; the other sections are unaffected. Point estimates follow METHODS.md ("Estimators").
+    reason; the other sections are unaffected. Point estimates follow docs/METHODS.md, "Estimators".
     """
     histories = list(histories)
     if not histories:
         raise VolbenchError("nothing to export: give at least one price history")
     w = check_window(window, minimum=1)
     a = check_annualization(annualization)
-    if as_of is not None:
-        as_of = parse_as_of(as_of).strftime("%Y-%m-%d")
+    confidence = validate.level(confidence)
+    cone_estimator = validate.estimator(cone_estimator)
+    if as_of is not None:  # inside every series' range (or "last"), one rule for every front end
+        resolved = {validate.as_of_for(h, as_of) for h in histories}
+        as_of = resolved.pop()
     pricing_vol, days = _check_pricing(pricing_vol, days)
     opts = {k: v for k, v in dict(estimator_options or {}).items() if v is not None}
     option_dict = _option_dict(option)
@@ -223,7 +226,7 @@ def build_bundle(
         built["garch"] = sec.garch_section(cut, models=garch_models, dist=garch_dist, annualization=a,
                                            days=days, processes=garch_processes, given=given.get("garch"))
     else:
-        built["garch"] = sec.not_requested("pass include_garch=True (CLI: --with-garch)")
+        built["garch"] = sec.not_requested("add --with-garch")
     step(4, "garch")
 
     if pricing_vol is not None:
@@ -233,7 +236,7 @@ def build_bundle(
             window=comparison_window, scaling=dict(built["scaling"].results), garch=dict(built["garch"].results),
             given=given.get("comparison"))
     else:
-        built["comparison"] = sec.not_requested("give a pricing vol and the option's days (CLI: --pricing-vol, --days)")
+        built["comparison"] = sec.not_requested("give --pricing-vol and --days")
     step(5, "comparison")
 
     statuses = {name: built[name].status for name in SECTIONS}
@@ -267,18 +270,9 @@ def _check_pricing(pricing_vol, days) -> tuple[float | None, int | None]:
     if pricing_vol is None and days is None:
         return None, None
     if pricing_vol is None or days is None:
-        raise VolbenchError("a comparison needs both the pricing vol and the option's days to expiry "
+        raise VolbenchError("a comparison needs both --pricing-vol and --days "
                             f"(got pricing vol {pricing_vol!r}, days {days!r})")
-    try:
-        v = float(pricing_vol)
-    except (TypeError, ValueError):
-        raise VolbenchError(f"pricing vol must be a decimal such as 0.25, got {pricing_vol!r}") from None
-    if not 0 < v < 10:
-        raise VolbenchError(f"pricing vol must be a decimal between 0 and 10 (0.25 = 25%), got {pricing_vol!r}")
-    d = check_window(days, minimum=1)
-    if d is None:
-        raise VolbenchError(f"days must be a whole number of bars >= 1, got {days!r}")
-    return v, d
+    return validate.pricing_vol(pricing_vol), validate.days(days)
 
 
 def _option_dict(option) -> dict | None:

@@ -46,6 +46,8 @@ ESTIMATES_SCHEMA: tuple[Column, ...] = (
     Column("confidence", "percent", "confidence level of the interval (0.95)"),
     Column("n", "integer", "observations behind the estimate (returns or bars); empty when unavailable"),
     Column("ci_method", "text", "how the interval was computed (exact chi-square or approximate)"),
+    Column("caveat", "text", "what the interval leaves out: range estimators read low on discretely traded "
+                             "prices (size given); empty for close-based estimators"),
     Column("unavailable_reason", "text", "why the estimator could not be computed; empty when it was"),
     Column("first_date", "text", "first bar of the history used, ISO date"),
     Column("rows", "integer", "rows of the history up to as_of after the quality policy"),
@@ -125,7 +127,7 @@ def estimates_table(
             if key in rep.estimates:
                 e = rep.estimates[key]
                 row.update(vol=e.vol, ci_low=e.ci_low, ci_high=e.ci_high, confidence=e.confidence,
-                           n=e.n, ci_method=e.ci_method, unavailable_reason="")
+                           n=e.n, ci_method=e.ci_method, caveat=e.note, unavailable_reason="")
             elif key in rep.unavailable:
                 row.update(unavailable_reason=rep.unavailable[key])
             else:

@@ -212,6 +212,11 @@ def scaling_summary(name: str, r) -> pd.DataFrame:
          "statistic": getattr(r, "chow_denning_stat", np.nan), "p_value": r.chow_denning_p,
          "ci_low": np.nan, "ci_high": np.nan, "message": "joint robust variance-ratio test over horizons >= 2"},
     ]
+    fa = getattr(r, "family_false_alarm", None)
+    if fa:
+        rows.append({"series": name, "item": "family_false_alarm", "status": "", "statistic": fa["not_consistent"],
+                     "p_value": np.nan, "ci_low": np.nan, "ci_high": np.nan,
+                     "message": f"{fa['sentence']} ({fa['method']})"})
     df = pd.DataFrame(rows)
     for c in ("statistic", "p_value", "ci_low", "ci_high"):
         df[c] = df[c].astype(np.float64)
@@ -309,6 +314,8 @@ def garch_row(name: str, f, comp, days: int | None) -> dict:
         "forward_days": days if days else None,
         "forward_vol": _try(f.forward_vol, days) if days else np.nan,
         "forecast_method": getattr(f, "forecast_method", ""),
+        "forward_vol_source": getattr(f, "forward_vol_source", ""),
+        "candidate_label": getattr(f, "candidate_label", getattr(f, "label", f.model)),
         "fallback": f.fallback or "", "fallback_vol": _num(getattr(f, "fallback_vol", np.nan)),
         "loglik": _num(f.loglik), "aic": _num(f.aic), "bic": _num(f.bic),
     }

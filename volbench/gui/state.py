@@ -14,6 +14,7 @@ from typing import Any
 
 from PySide6.QtCore import QObject, Signal
 
+from volbench import validate
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators import ESTIMATOR_KEYS
@@ -62,7 +63,24 @@ _CHOICE = {"kind": ("call", "put"), "garch_model": ("all", "garch", "gjr", "egar
            "garch_dist": ("normal", "t")}
 
 
+def _window(value) -> int:
+    w = validate.window(value, minimum=2)
+    if w is None:
+        raise VolbenchError("window must be a whole number of bars, not 'all', in the window's settings")
+    return w
+
+
+_VALIDATE = {"window": _window, "annualization": validate.annualization,
+             "pricing_vol": validate.pricing_vol, "days": validate.days,
+             "cone_estimator": validate.estimator}
+"""Settings checked by the same functions as the command line and the export (volbench.validate)."""
+
+
 def _coerce(key: str, value):
+    if key in _VALIDATE:
+        return _VALIDATE[key](value)
+    if key == "as_of":
+        return None if value in (None, "") or validate.as_of(value) is None else str(value).strip()
     try:
         if key in _INT:
             return int(value)
@@ -73,11 +91,9 @@ def _coerce(key: str, value):
         if key in ("as_of", "date_format"):
             return None if value in (None, "") else str(value)
         if key == "estimators":
-            keys = tuple(str(k) for k in value)
-            unknown = [k for k in keys if k not in ESTIMATOR_KEYS]
-            if unknown:
-                raise VolbenchError(f"unknown estimator {unknown[0]!r}; choose among {', '.join(ESTIMATOR_KEYS)}")
-            return keys
+            return tuple(validate.estimator(str(k)) for k in value)
+        if key == "garch_model":
+            return value if value == "all" else validate.model(value)
         if key == "exclude_flagged":
             return bool(value)
         if key in _CHOICE:
@@ -151,7 +167,8 @@ class WorkbenchState(QObject):
         h = self.loaded()
         if h is None:
             return None
-        return h.select(self._choices.exclude_flagged).up_to(self._choices.as_of)
+        h = h.select(self._choices.exclude_flagged)
+        return h.up_to(validate.as_of_for(h, self._choices.as_of))
 
     def views(self) -> list[PriceHistory]:
         """Every loaded history with the flagged-rows policy applied."""

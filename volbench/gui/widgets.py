@@ -25,15 +25,14 @@ from PySide6.QtWidgets import (
 )
 
 from volbench.errors import VolbenchError
+from volbench.formatting import pct as _pct
 from volbench.gui import palette
 from volbench.gui.compute import table_tsv
 
 
 def pct(x, digits: int = 2) -> str:
-    """0.2345 -> '23.45 %'; None/NaN -> 'n/a'."""
-    if x is None or not isinstance(x, (int, float)) or not math.isfinite(x):
-        return "n/a"
-    return f"{100 * x:.{digits}f} %"
+    """0.2345 -> '23.45 %'; None/NaN -> 'n/a'; never more than about 6 significant digits."""
+    return _pct(x, digits)
 
 
 def log_ticks(lo: float, hi: float) -> list[tuple[float, str]]:

@@ -15,6 +15,8 @@ import threading
 from collections.abc import Callable, Iterable, Sequence
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
 
+import numpy as np
+
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.models.compare import GarchComparison, check_models, fit_models
@@ -135,6 +137,9 @@ def fit_many(
         if h.n < 3:
             raise VolbenchError(f"{h.name}: {h.n} price{'s' if h.n != 1 else ''}; a volatility needs at least "
                                 "3 prices (2 returns); remove this series or load a longer file")
+        if float(np.std(h.log_returns())) <= 1e-12:
+            raise VolbenchError(f"{h.name}: returns do not vary: there is no volatility to model; check the "
+                                "price column or remove this series")
     total = len(hs)
     results: list[GarchComparison | None] = [None] * total
     workers = min(processes or os.cpu_count() or 1, max(total, 1))

@@ -7,6 +7,7 @@ sends the result to the EWMA fallback) and what a user should know about it (``n
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Mapping
 
 import numpy as np
@@ -27,6 +28,41 @@ _PERSISTENCE_WEIGHTS = {
 }
 _RESPONSE = {"garch": ("alpha[1]",), "gjr": ("alpha[1]", "gamma[1]"), "egarch": ("alpha[1]", "gamma[1]")}
 _NU_BOUNDS = (2.05, 500.0)  # arch's bounds on the Student-t degrees of freedom
+
+
+SHORT_CAUSES: tuple[tuple[str, str], ...] = (
+    ("did not converge", "no convergence"),
+    ("optimizer failed", "the optimizer failed"),
+    ("not finite numbers", "estimates not finite"),
+    ("standard errors could not be computed", "standard errors not computable"),
+    ("is at or above 1", "persistence at or above 1"),
+    ("alpha[1] + gamma[1] = ", "alpha + gamma on its bound"),
+    ("alpha[1] = ", "alpha on its bound"),
+    ("beta[1] = ", "beta on its bound"),
+    ("omega = ", "omega on its bound"),
+    ("nu = ", "nu on its bound"),
+    ("too few observations", "too little data"),
+    ("above 500 %", "absurd vol (above 500 %)"),
+    ("variance forecast is not finite", "forecast not finite"),
+)
+"""Warning text -> the short cause named in a fallback's source ("EWMA (lambda 0.94), because: ...")."""
+NO_CLUSTERING = ("alpha on its bound", "alpha + gamma on its bound")
+"""Causes meaning the fit found no volatility clustering: the constant-vol fallback applies."""
+EWMA_CAUSES = ("no convergence", "the optimizer failed", "estimates not finite", "persistence at or above 1",
+               "too little data", "absurd vol (above 500 %)", "forecast not finite")
+"""Causes that send the forward vol to EWMA even when no clustering was also found."""
+
+
+def short_causes(warnings) -> list[str]:
+    """Short cause of each warning from :func:`diagnose` or the fit (unknown ones kept whole)."""
+    out = []
+    for w in warnings:
+        short = next((short for pattern, short in SHORT_CAUSES if pattern in w), w)
+        counts = re.search(r"(\d+) returns, at least (\d+) are needed", w)
+        if short == "too little data" and counts:
+            short = f"too little data ({counts[1]} returns, {counts[2]} needed)"
+        out.append(short)
+    return list(dict.fromkeys(out))
 
 
 def _block(cov: pd.DataFrame, keys: list[str]) -> np.ndarray:

@@ -6,6 +6,7 @@ import math
 from collections.abc import Iterable
 from dataclasses import dataclass
 
+from volbench import validate
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.models.garch import (
@@ -15,7 +16,6 @@ from volbench.models.garch import (
     MODEL_LABELS,
     MODELS,
     GarchFit,
-    check_model,
     check_settings,
     check_simulation_budget,
     fit_garch,
@@ -45,12 +45,7 @@ def evidence(delta_bic: float) -> str:
 
 def check_models(models: Iterable[str] | str) -> tuple[str, ...]:
     """``"all"``, one key or a list of keys -> unique model keys in the given order."""
-    if isinstance(models, str):
-        models = MODELS if models.lower() == "all" else (models,)
-    out = tuple(dict.fromkeys(check_model(m) for m in models))
-    if not out:
-        raise VolbenchError(f"models must name at least one of: {', '.join(MODELS)}")
-    return out
+    return validate.models(models)
 
 
 @dataclass(frozen=True, eq=False)
@@ -94,7 +89,7 @@ class GarchComparison:
         return None if self.preferred is None else self.fit(self.preferred)
 
     def forward_vol(self, days: float) -> float:
-        """Forward vol of the preferred model, or the EWMA fallback when none is usable."""
+        """Forward vol of the preferred model, or the first fit's fallback when none is usable."""
         return (self.preferred_fit or self.fits[0]).forward_vol(days)
 
     def as_dict(self) -> dict:
@@ -116,7 +111,9 @@ def rank(name: str, fits: tuple[GarchFit, ...]) -> GarchComparison:
     parts: list[str] = []
     if not usable:
         best, delta = None, None
-        parts.append(f"no model gave a usable fit; the forward vol falls back to {FALLBACK}")
+        first = fits[0] if fits else None
+        source = first.forward_vol_source if first is not None and first.forward_vol_source else FALLBACK
+        parts.append(f"no model gave a usable fit; the forward vol is the fallback: {source}")
     else:
         best = usable[0]
         if len(usable) == 1:
@@ -132,7 +129,7 @@ def rank(name: str, fits: tuple[GarchFit, ...]) -> GarchComparison:
         parts.append(f"lowest BIC: {fitted[0].label} ({fitted[0].bic:.1f}), but every fit has warnings")
     for f in skipped:
         parts.append(f"{f.label} has a lower BIC ({f.bic:.1f}) but its fit has warnings, so its forward vol "
-                     f"falls back to {FALLBACK}")
+                     f"falls back to {f.fallback or FALLBACK}")
     return GarchComparison(name=name, fits=fits, preferred=None if best is None else best.model,
                            delta_bic=delta, ranking=tuple(f.model for f in fitted), message="; ".join(parts))
 

@@ -19,11 +19,21 @@ import numpy as np
 import pandas as pd
 from arch import arch_model
 
+from volbench import validate
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY, point_estimate
+from volbench.formatting import pct as fmt_pct
 from volbench.models import term
-from volbench.models.checks import BOUND_TOL, SCALE, diagnose, to_decimal
+from volbench.models.checks import (
+    BOUND_TOL,
+    EWMA_CAUSES,
+    NO_CLUSTERING,
+    SCALE,
+    diagnose,
+    short_causes,
+    to_decimal,
+)
 from volbench.models.term import DEFAULT_TERM_HORIZONS
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
 
@@ -42,7 +52,10 @@ MIN_RETURNS = 250
 DEFAULT_SEED = 20_240_917
 DEFAULT_SIMULATIONS = 2000
 FALLBACK = REGISTRY["ewma"].label
-"""Name of the fallback stated in results: ``"EWMA (lambda 0.94)"``."""
+"""Name of the EWMA fallback stated in results: ``"EWMA (lambda 0.94)"``."""
+CONSTANT_FALLBACK = "close-to-close vol over the whole history"
+"""Name of the constant-vol fallback, used when the fit finds no volatility clustering."""
+FALLBACK_SHORT = {FALLBACK: "EWMA fallback", CONSTANT_FALLBACK: "close-to-close fallback"}
 
 _ARCH_SPEC = {
     "garch": {"vol": "GARCH", "p": 1, "o": 0, "q": 1},
@@ -52,9 +65,7 @@ _ARCH_SPEC = {
 
 
 def _choice(value, allowed: tuple[str, ...], what: str) -> str:
-    if not isinstance(value, str) or value.lower() not in allowed:
-        raise VolbenchError(f"unknown {what} {value!r}; choose one of: {', '.join(allowed)}")
-    return value.lower()
+    return validate.choice(value, allowed, what)
 
 
 def check_settings(
@@ -86,7 +97,7 @@ def check_settings(
 
 
 def check_model(model) -> str:
-    return _choice(model, MODELS, "model")
+    return validate.model(model)
 
 
 MAX_SIMULATED_VALUES = 20_000_000
@@ -149,14 +160,20 @@ class GarchFit:
         Expected per-bar variance (decimal) of bars 1..H ahead, H = max(252, horizons); ``None``
         under the fallback.
     forecast_method, simulations, seed
-        ``"analytic"`` (GARCH, GJR), ``"simulation"`` (EGARCH, with the path count and seed) or
-        ``"fallback"``.
+        ``"analytic"`` (GARCH, GJR), ``"simulation"`` (EGARCH, with the path count and seed),
+        ``"fallback_ewma"`` or ``"fallback_close_to_close"``.
+    forward_vol_source
+        Where the forward vol comes from, in words: the model's forecast, or the fallback and why
+        (e.g. ``"EWMA (lambda 0.94), because: no convergence"``).
     warnings
         Why the fit cannot be used for the forward vol (each one triggers the fallback).
     notes
         Caveats that do not trigger the fallback.
     fallback, fallback_vol
-        ``"EWMA (lambda 0.94)"`` and its latest annualized vol when warnings exist, else ``None``.
+        The fallback's name and its annualized vol when warnings exist, else ``None``: the
+        close-to-close vol over the whole history when the fit finds no volatility clustering
+        (alpha on its lower bound: a constant-vol series), else ``"EWMA (lambda 0.94)"``
+        (no convergence, persistence at 1, too little data, an absurd or non-finite forecast...).
     as_of
         Date of the last bar (forecast origin).
     """
@@ -190,10 +207,16 @@ class GarchFit:
     seed: int | None = None
     as_of: str | None = None
     horizons: tuple[int, ...] = field(default=DEFAULT_TERM_HORIZONS)
+    forward_vol_source: str = ""
 
     @property
     def label(self) -> str:
         return MODEL_LABELS[self.model]
+
+    @property
+    def candidate_label(self) -> str:
+        """The label of this fit's forward vol: ``"GARCH(1,1) → EWMA fallback"`` under a fallback."""
+        return self.label if self.fallback is None else f"{self.label} → {FALLBACK_SHORT.get(self.fallback, 'fallback')}"
 
     @property
     def usable(self) -> bool:
@@ -250,6 +273,8 @@ class GarchFit:
             "term_structure": [{"horizon": int(h), "vol": _none_if_nan(float(v))}
                                for h, v in zip(self.term_structure["horizon"], self.term_structure["vol"])],
             "forecast_method": self.forecast_method,
+            "forward_vol_source": self.forward_vol_source,
+            "candidate_label": self.candidate_label,
             "simulations": self.simulations,
             "seed": self.seed,
             "annualization": self.annualization,
@@ -309,11 +334,11 @@ def fit_garch(
     ``arch.arch_model`` on 100 x log returns (the library's advice), ``rescale=False``, fitted by
     maximum likelihood with robust (QMLE) standard errors. Forecasts: ``arch``'s analytic
     forecasts for GARCH and GJR, E[s2_{t+h}] = V_L + p^(h-1) (s2_{t+1} - V_L) (Bollerslev 1986;
-    METHODS.md); for EGARCH (Nelson 1991), whose multi-step forecast has no closed form, ``arch``'s
+    docs/METHODS.md, "GARCH and the vol over an option's life"); for EGARCH (Nelson 1991), whose multi-step forecast has no closed form, ``arch``'s
     simulation forecast with ``simulations`` paths drawn by a seeded numpy Generator from the
     fitted innovation distribution. Both come from the volatility process's ``forecast`` (what
     ``ARCHModelResult.forecast`` calls; identical numbers, without its mean-path bookkeeping).
-    Term structure vol(T) = sqrt(A mean_{h<=T} E[s2_{t+h}]) (METHODS.md).
+    Term structure vol(T) = sqrt(A mean_{h<=T} E[s2_{t+h}]) (docs/METHODS.md, "GARCH and the vol over an option's life").
     """
     model = check_model(model)
     s = check_settings(dist=dist, mean=mean, horizons=horizons, annualization=annualization,
@@ -328,8 +353,8 @@ def fit_garch(
             "annualization": s["annualization"], "nobs": n, "as_of": history.last_date,
             "horizons": s["horizons"]}
     if float(np.std(r)) <= 1e-12:
-        why = f"returns do not vary (all {n} equal {r[0]:.3g}): there is no volatility to model; check the price column"
-        return _fallback(history, base, [why], [], None)
+        raise VolbenchError(f"{history.name}: returns do not vary (all {n} equal {r[0]:.3g}): there is no "
+                            "volatility to model; check the price column")
     if n < MIN_RETURNS:
         why = (f"too few observations for a GARCH fit: {n} returns, at least {MIN_RETURNS} are needed "
                "(about a year of daily bars)")
@@ -372,6 +397,9 @@ def fit_garch(
         "conditional_vol": pd.Series(np.asarray(res.conditional_volatility) / SCALE * math.sqrt(a),
                                      index=history.index[1:], name=model),
     }
+    lr = fit_info["long_run_vol"]
+    if math.isfinite(lr) and lr > validate.ABSURD_VOL:
+        warn.append(f"long-run vol {fmt_pct(lr)} is above 500 %: the fit is absurd for a volatility")
     if warn:
         return _fallback(history, base, warn, notes, fit_info)
     horizon = max(252, max(s["horizons"]))
@@ -384,10 +412,15 @@ def fit_garch(
     if not (np.all(np.isfinite(path)) and np.all(path > 0)):
         warn.append("the model's variance forecast is not finite and positive at every horizon")
         return _fallback(history, base, warn, notes, fit_info)
+    top = math.sqrt(float(np.max(path)) * a)
+    if top > validate.ABSURD_VOL:
+        warn.append(f"the forecast reaches a vol of {fmt_pct(top)}, above 500 %: the fit is absurd for a volatility")
+        return _fallback(history, base, warn, notes, fit_info)
     path.setflags(write=False)
+    source = f"{MODEL_LABELS[model]} {method} forecast" + (f" ({sims} paths, seed {seed_used})" if sims else "")
     return GarchFit(**base, **fit_info, term_structure=term.term_structure(path, s["horizons"], a),
                     variance_path=path, forecast_method=method, simulations=sims, seed=seed_used,
-                    warnings=(), notes=tuple(notes))
+                    warnings=(), notes=tuple(notes), forward_vol_source=source)
 
 
 OUTLIER_Z = 10.0
@@ -444,8 +477,21 @@ def _long_run_vol(model: str, params_y: pd.Series, p: float, annualization: floa
 
 
 def _fallback(history: PriceHistory, base: dict, warn: list[str], notes: list[str], fit_info: dict | None) -> GarchFit:
-    """A result whose forward vol is the latest EWMA vol, flat over every horizon."""
-    vol = point_estimate(history, "ewma", annualization=base["annualization"]).vol
+    """A result whose forward vol is a flat fallback, chosen by the cause of the failure.
+
+    No volatility clustering found (alpha, or alpha + gamma, on its lower bound) and nothing worse:
+    the series looks like constant volatility, so the close-to-close vol over the whole history
+    (what that model implies). Otherwise (no convergence, persistence at 1, too little data, an
+    absurd or non-finite forecast, ...): the latest EWMA vol.
+    """
+    causes = short_causes(warn)
+    constant = any(c in NO_CLUSTERING for c in causes) and not any(c in EWMA_CAUSES for c in causes)
+    if constant:
+        name, vol = CONSTANT_FALLBACK, point_estimate(history, "close_to_close", annualization=base["annualization"]).vol
+        method = "fallback_close_to_close"
+    else:
+        name, vol = FALLBACK, point_estimate(history, "ewma", annualization=base["annualization"]).vol
+        method = "fallback_ewma"
     nan = float("nan")
     info = fit_info or {
         "fitted": False, "converged": False, "params": {}, "std_errors": {}, "loglik": nan, "aic": nan,
@@ -453,7 +499,8 @@ def _fallback(history: PriceHistory, base: dict, warn: list[str], notes: list[st
         "conditional_vol": pd.Series([], index=pd.DatetimeIndex([], name="date"), dtype=float,
                                      name=base["model"]),
     }
-    warn = [*warn, f"forward vol falls back to {FALLBACK}: {vol:.2%} annualized, flat over every horizon"]
+    warn = [*warn, f"forward vol falls back to {name}: {fmt_pct(vol)} annualized, flat over every horizon"]
+    source = f"{name}, because: {', '.join(causes)}"
     return GarchFit(**base, **info, term_structure=term.flat_term_structure(vol, base["horizons"]),
-                    variance_path=None, forecast_method="fallback", warnings=tuple(warn), notes=tuple(notes),
-                    fallback=FALLBACK, fallback_vol=vol)
+                    variance_path=None, forecast_method=method, warnings=tuple(warn), notes=tuple(notes),
+                    fallback=name, fallback_vol=vol, forward_vol_source=source)

@@ -66,7 +66,7 @@ def term_structure(variance_path: np.ndarray, horizons: Iterable[int], annualiza
 
     Notes
     -----
-    vol(T) = sqrt(A x (1/T) sum_{h=1..T} E[s2_{t+h}]) (METHODS.md, "GARCH and the vol over an
+    vol(T) = sqrt(A x (1/T) sum_{h=1..T} E[s2_{t+h}]) (docs/METHODS.md, "GARCH and the vol over an
     option's life").
     """
     hz = list(horizons)
@@ -87,7 +87,7 @@ def garch_variance_path(next_var: float, long_run_var: float, persistence: float
     -----
     E[s2_{t+h}] = V_L + p^(h-1) (s2_{t+1} - V_L), with p the persistence (alpha + beta; GJR:
     alpha + gamma/2 + beta under a symmetric innovation distribution) and V_L = omega / (1 - p)
-    (Bollerslev 1986; METHODS.md).
+    (Bollerslev 1986; docs/METHODS.md, "GARCH and the vol over an option's life").
     """
     h = np.arange(horizon)
     return long_run_var + persistence**h * (next_var - long_run_var)
@@ -99,7 +99,7 @@ def garch_average_variance(next_var: float, long_run_var: float, persistence: fl
     Notes
     -----
     (1/T) sum_{h=1..T} [V_L + p^(h-1) (s2_{t+1} - V_L)] = V_L + (s2_{t+1} - V_L) (1 - p^T) / ((1 - p) T),
-    a geometric sum of the METHODS.md h-step forecast; requires 0 <= p < 1.
+    a geometric sum of the h-step forecast (docs/METHODS.md, "GARCH and the vol over an option's life"); requires 0 <= p < 1.
     """
     p = float(persistence)
     if not 0 <= p < 1:
@@ -127,7 +127,7 @@ def hull_average_variance(v0: float, long_run_var: float, persistence: float, ho
 
 
 def half_life(persistence: float) -> float:
-    """Shock half-life ln(0.5) / ln(p) in bars; NaN when p is outside (0, 1) (METHODS.md)."""
+    """Shock half-life ln(0.5) / ln(p) in bars; NaN when p is outside (0, 1) (docs/METHODS.md, "GARCH and the vol over an option's life")."""
     p = float(persistence)
     if not 0 < p < 1:
         return float("nan")

@@ -307,28 +307,14 @@ def implied_vol(price, spot, strike, years, rate, dividend_yield=0.0, kind: Opti
 
 
 def check_pricing_vol(vol, what: str = "pricing vol") -> float:
-    """A vol given by a user: decimal in (0, 5); says so when it looks like a percent (25 for 0.25)."""
-    try:
-        v = float(vol)
-    except (TypeError, ValueError):
-        raise VolbenchError(f"{what} must be a decimal such as 0.25 for 25%, got {vol!r}") from None
-    if not np.isfinite(v) or v <= 0:
-        raise VolbenchError(f"{what} must be > 0 (a decimal such as 0.25 for 25%), got {vol!r}")
-    if v >= 5:
-        hint = f"; it looks like a percent: did you mean {v / 100:g}?" if v < 500 else ""
-        raise VolbenchError(f"{what} must be a decimal below 5 (0.25 means 25%), got {v:g}{hint}")
-    return v
+    """A vol given by a user: decimal in (0, 5); one rule and one message everywhere (volbench.validate)."""
+    from volbench import validate
+
+    return validate.pricing_vol(vol)
 
 
 def check_rate(value, what: str = "rate") -> float:
-    """A rate or yield given by a user: a finite decimal with |x| < 1; says so when it looks like a percent."""
-    try:
-        x = float(value)
-    except (TypeError, ValueError):
-        raise VolbenchError(f"{what} must be a decimal such as 0.05 for 5%, got {value!r}") from None
-    if not np.isfinite(x):
-        raise VolbenchError(f"{what} must be a finite decimal such as 0.05 for 5%, got {value!r}")
-    if abs(x) >= 1:
-        raise VolbenchError(f"{what} must be a decimal between -1 and 1 (0.05 means 5%), got {x:g}; "
-                            f"it looks like a percent: did you mean {x / 100:g}?")
-    return x
+    """A rate or yield given by a user: a finite decimal with |x| < 1 (volbench.validate)."""
+    from volbench import validate
+
+    return validate.rate(value, what)

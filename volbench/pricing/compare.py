@@ -17,6 +17,7 @@ import pandas as pd
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY, estimate_all, get_spec
+from volbench.formatting import pct
 from volbench.pricing.bsm import bsm_greeks, check_kind, check_pricing_vol, check_rate
 from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, Cone, ConePlacement, _check_days, vol_cone
 from volbench.types import (
@@ -146,7 +147,12 @@ def _garch_candidates(garch, days: int) -> tuple[list[dict], dict[str, str]]:
         model = str(getattr(fit, "model", "garch"))
         dist = getattr(fit, "dist", None)
         key = f"garch:{model}"
-        label = GARCH_LABELS.get(model, model.upper()) + (f" ({dist})" if dist and dist != "normal" else "")
+        label = getattr(fit, "candidate_label", None) or GARCH_LABELS.get(model, model.upper())
+        if getattr(fit, "fallback", None) and " → " not in label:  # never the bare model for a fallback's number
+            label += f" → {fit.fallback} fallback"
+        if dist and dist != "normal":
+            head, arrow, tail = label.partition(" → ")
+            label = f"{head} ({dist}){arrow}{tail}"
         try:
             v = fit.forward_vol(days)
         except VolbenchError as exc:
@@ -156,13 +162,15 @@ def _garch_candidates(garch, days: int) -> tuple[list[dict], dict[str, str]]:
         if v is None or not (math.isfinite(v) and v > 0):
             missing[key] = f"no forward vol for {days} bars"
             continue
-        notes = ["forward vol over the option's life"]
+        fallback = getattr(fit, "fallback", None)
+        source = getattr(fit, "forward_vol_source", "")
+        notes = ([f"no usable forecast; forward vol from {source}" if source
+                  else f"no usable forecast; forward vol from the fallback {fallback}"] if fallback
+                 else ["forward vol over the option's life"])
         if preferred is not None and model == preferred:
             notes.append("preferred fit")
-        if getattr(fit, "converged", True) is False:
+        if getattr(fit, "converged", True) is False and not fallback:
             notes.append("fit did not converge")
-        if getattr(fit, "fallback", None):
-            notes.append(f"fallback: {fit.fallback}")
         pers = getattr(fit, "persistence", None)
         if pers is not None and math.isfinite(pers) and pers >= 1:
             notes.append(f"persistence {pers:.3f} >= 1")
@@ -286,7 +294,7 @@ def compare(
     else:
         w = check_window(window, minimum=2)
         if w is None:
-            raise VolbenchError("window must be a number of bars for a comparison, not 'all'")
+            raise VolbenchError("window must be a whole number of bars for a comparison, not 'all'")
         window_note = ""
     get_spec(cone_estimator)
     if cone is not None:
@@ -353,6 +361,15 @@ def compare(
 
 
 # ---------------------------------------------------------------------------- plain reading
+def _pct1(x: float) -> str:
+    """A vol as a percentage with one decimal, never more than about 6 significant digits."""
+    return pct(float(x), 1, space=False)
+
+
+def _points(x: float) -> str:
+    return f"{x:.4g}" if abs(x) >= 1e4 else f"{x:.1f}"
+
+
 def ordinal(n: int) -> str:
     """1 -> '1st', 22 -> '22nd', 13 -> '13th'."""
     suffix = "th" if 10 <= n % 100 <= 20 else {1: "st", 2: "nd", 3: "rd"}.get(n % 10, "th")
@@ -375,19 +392,19 @@ def _cone_line(c: Comparison) -> list[str]:
         where = "below every value in the history of"
     else:
         where = f"at the {ordinal(round(p))} percentile of"
-    return [f"pricing vol {100 * c.pricing_vol:.1f}% sits {where} {c.cone.note}"]
+    return [f"pricing vol {_pct1(c.pricing_vol)} sits {where} {c.cone.note}"]
 
 
 def _reference_lines(c: Comparison, cand: pd.DataFrame) -> list[str]:
     """Gap to the reference estimator and what it is worth on the option."""
     ref = next((cand[cand["key"] == k].iloc[0] for k in REFERENCE_ESTIMATORS if (cand["key"] == k).any()),
                cand.iloc[0])
-    name, rv = ref["label"], f"{100 * ref['vol']:.1f}%"
+    name, rv = ref["label"], _pct1(ref["vol"])
     gap = -float(ref["gap_points"])
     if abs(gap) < 0.05:
         return [f"the pricing vol matches {name} ({rv}) within 0.1 vol point"]
     span = f" over the last {c.window} bars" if ref["source"] == "estimator" else ""
-    lines = [f"the pricing vol is {abs(gap):.1f} vol points {'above' if gap > 0 else 'below'} {name} ({rv}{span})"]
+    lines = [f"the pricing vol is {_points(abs(gap))} vol points {'above' if gap > 0 else 'below'} {name} ({rv}{span})"]
     if float(c.table["price"].max()) < 0.005:
         lines.append(f"the {c.kind} is worth under 0.01 at every vol here, so the choice of vol barely moves its price")
     else:
@@ -407,19 +424,25 @@ def _range_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
         pos = f"the pricing vol is below all {len(cand)} of them"
     else:
         pos = f"the pricing vol is above {n_below} of {len(cand)}"
-    return [(f"candidate vols run from {100 * lo['vol']:.1f}% ({lo['label']}) to "
-            f"{100 * hi['vol']:.1f}% ({hi['label']}); {pos}")]
+    return [(f"candidate vols run from {_pct1(lo['vol'])} ({lo['label']}) to "
+            f"{_pct1(hi['vol'])} ({hi['label']}); {pos}")]
 
 
 def _garch_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
+    """The preferred model's forward vol; when no fit is usable, the fallback named as such."""
     gar = cand[cand["source"] == "garch"]
     if not len(gar):
         return []
     pref = gar[gar["note"].str.contains("preferred")]
-    row = pref.iloc[0] if len(pref) else gar.iloc[0]
+    usable = gar[~gar["label"].str.contains(" → ", regex=False)]
+    row = pref.iloc[0] if len(pref) else (usable.iloc[0] if len(usable) else gar.iloc[0])
     side = "below" if row["gap_points"] < 0 else "above"
-    return [(f"{row['label']} forward vol over {c.days} bars is {100 * row['vol']:.1f}%, "
-            f"{abs(row['gap_points']):.1f} vol points {side} the pricing vol")]
+    gap = f"{_points(abs(row['gap_points']))} vol points {side} the pricing vol"
+    if " → " not in row["label"]:
+        return [f"{row['label']} forward vol over {c.days} bars is {_pct1(row['vol'])}, {gap}"]
+    source = str(row["note"]).split("forward vol from ", 1)[-1]
+    return [(f"no GARCH-family fit gave a usable forecast, so the forward vol over {c.days} bars is a fallback's: "
+             f"{_pct1(row['vol'])} from {source}; {gap}")]
 
 
 def _moneyness_line(c: Comparison) -> list[str]:

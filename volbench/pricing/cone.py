@@ -227,11 +227,9 @@ class Cone:
 
 
 def _check_days(days) -> int:
-    if isinstance(days, bool) or not isinstance(days, (int, np.integer, float, np.floating)):
-        raise VolbenchError(f"days must be a whole number of bars >= 1, got {days!r}")
-    if days != int(days) or days < 1:
-        raise VolbenchError(f"days must be a whole number of bars >= 1, got {days!r}")
-    return int(days)
+    from volbench import validate
+
+    return validate.days(days)
 
 
 def _check_windows(windows: Sequence[int]) -> tuple[int, ...]:
@@ -247,15 +245,9 @@ def _check_windows(windows: Sequence[int]) -> tuple[int, ...]:
 
 
 def _date(value, what: str) -> pd.Timestamp | None:
-    if value is None:
-        return None
-    try:
-        ts = pd.Timestamp(value)
-    except (TypeError, ValueError):
-        ts = pd.NaT
-    if ts is pd.NaT:
-        raise VolbenchError(f"{what} date must look like YYYY-MM-DD, got {value!r}")
-    return ts.tz_localize(None) if ts.tzinfo else ts
+    from volbench import validate
+
+    return validate.date(value, f"{what} date")
 
 
 def select_range(history: PriceHistory, start=None, end=None) -> PriceHistory:
@@ -263,6 +255,9 @@ def select_range(history: PriceHistory, start=None, end=None) -> PriceHistory:
     s, e = _date(start, "start"), _date(end, "end")
     if s is None and e is None:
         return history
+    from volbench import validate
+
+    validate.date_within(e, history.first_date, history.last_date, what="end date", name=history.name)
     if s is not None and e is not None and s > e:
         raise VolbenchError(f"start date {s.date()} is after end date {e.date()}")
     d = history.dates
@@ -374,6 +369,10 @@ def vol_cone(
             row.update(zip((f"{k}_adj" for k in PERCENTILES), np.maximum(adj, 0.0).tolist()))
         rows[w] = row
         rolling[w] = rv.values
+    if not rows and dropped and len(set(dropped.values())) == 1 and next(iter(dropped.values())).startswith(
+            ("no range on any bar", "the closes do not change")):
+        raise VolbenchError(f"{h.name}: no {spec.label} cone: {next(iter(dropped.values()))}; choose another "
+                            "cone estimator")
     if not rows:
         by_reason: dict[str, list[str]] = {}
         for w, r in dropped.items():

@@ -10,6 +10,7 @@ import pandas as pd
 
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
+from volbench.scaling.false_alarm import family_false_alarm
 from volbench.scaling.increments import drift as drift_stats
 from volbench.scaling.increments import independence, normality_table, qq_pairs
 from volbench.scaling.ratio import chow_denning, robust_deltas, variance_ratio_table
@@ -17,6 +18,8 @@ from volbench.scaling.variance import loglog_fit, nonoverlapping_variance
 from volbench.scaling.verdicts import (
     Verdict,
     drift_verdict,
+    family_statuses,
+    independence_p,
     independence_verdict,
     normality_verdict,
     variance_verdict,
@@ -71,6 +74,10 @@ class ScalingResult:
         Inputs of the check.
     notes
         Plain sentences about choices made on this data (dropped lags, rows left out at import).
+    family_false_alarm
+        How often a perfectly Brownian series of this length gets at least one non-"consistent"
+        verdict at this level, and the bound on any "rejected"
+        (:func:`volbench.scaling.false_alarm.family_false_alarm`).
     provenance
         ``PriceHistory.provenance()``: file, hash, dates and whether flagged rows were excluded.
     """
@@ -94,6 +101,7 @@ class ScalingResult:
     annualization: float
     notes: tuple[str, ...] = ()
     provenance: dict = field(default_factory=dict)
+    family_false_alarm: dict = field(default_factory=dict)
 
     @property
     def exclude_flagged(self) -> bool:
@@ -130,6 +138,7 @@ class ScalingResult:
             "qq": _records(self.qq),
             "drift": self.drift,
             "verdicts": [v.as_dict() for v in self.verdicts],
+            "family_false_alarm": dict(self.family_false_alarm),
             "notes": list(self.notes),
             "provenance": self.provenance,
         }
@@ -161,15 +170,10 @@ def check_horizons(horizons: Iterable[int]) -> tuple[int, ...]:
 
 
 def check_alpha(alpha: float) -> float:
-    try:
-        a = float(alpha)
-    except (TypeError, ValueError):
-        raise VolbenchError(f"alpha must be a significance level between 0 and 0.5, got {alpha!r}") from None
-    if not 0.0 < a < 0.5:
-        hint = f"; it looks like a percent: did you mean {a / 100:g}?" if 1.0 <= a < 50.0 else ""
-        raise VolbenchError(f"alpha must be a significance level between 0 and 0.5 (e.g. 0.05), got {alpha!r}"
-                            + hint)
-    return a
+    """Significance level of the verdicts (one rule everywhere: volbench.validate.significance)."""
+    from volbench import validate
+
+    return validate.significance(alpha)
 
 
 def scaling_check(
@@ -213,7 +217,7 @@ def scaling_check(
 
     Notes
     -----
-    Methods and sources: METHODS.md "Brownian-scaling check"; variance and fit in
+    Methods and sources: docs/METHODS.md, "Brownian-scaling check"; variance and fit in
     :mod:`volbench.scaling.variance`, tests in :mod:`volbench.scaling.ratio`, increments in
     :mod:`volbench.scaling.increments`, status rules in :mod:`volbench.scaling.verdicts`.
     Horizon vol: sqrt(Var_h x A / h) against sqrt(Var_1 x A).
@@ -288,17 +292,20 @@ def scaling_check(
     cd_stat, cd_p = chow_denning(tab["z_robust"].to_numpy()[1:])
     ljung, ac = independence(r, lb_lags, acf_lags, alpha)
     dr = drift_stats(r, kept, a)
+    p_values = [cd_p, float(tab["jarque_bera_p"].iloc[0]), min(independence_p(ljung)), float(dr["p_value"])]
+    st = family_statuses(p_values, alpha)
     verdicts = (
-        variance_verdict(tab, cd_stat, cd_p, fit, alpha),
-        normality_verdict(tab, alpha),
-        independence_verdict(ljung, ac, alpha),
-        drift_verdict(dr, alpha),
+        variance_verdict(tab, cd_stat, cd_p, fit, alpha, st[0]),
+        normality_verdict(tab, alpha, st[1]),
+        independence_verdict(ljung, ac, alpha, st[2]),
+        drift_verdict(dr, alpha, st[3]),
     )
     return ScalingResult(
         name=name, horizons=tab, dropped=dropped, slope=fit.slope, slope_ci=fit.ci, slope_se=fit.se,
         hurst=fit.hurst, chow_denning_stat=cd_stat, chow_denning_p=cd_p, ljung_box=ljung, acf=ac,
         qq=qq_pairs(r, int(qq_points)), drift=dr, verdicts=verdicts, n_returns=n, alpha=alpha,
         annualization=a, notes=tuple(notes), provenance=history.provenance(),
+        family_false_alarm=family_false_alarm(n, alpha),
     )
 
 

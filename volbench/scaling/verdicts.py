@@ -1,24 +1,33 @@
 """Plain-language verdicts on the four Brownian-motion properties behind Black-Scholes.
 
-Each verdict has a status at the user's significance level alpha:
+Each property has one test and one p-value. Its status at the user's significance level alpha is
+decided by the tests alone (docs/METHODS.md, "Brownian-scaling check"):
 
-- ``rejected``: the test's p-value is below alpha;
-- ``doubtful``: alpha <= p < 2 alpha, or (for normality and drift) the effect is large enough to
-  matter for pricing even though it is not significant (thresholds below). For variance scaling a
-  large but insignificant gap is described in the sentence but does not change the status: long
-  horizons rest on few independent periods, and on a true Brownian motion a 10 % gap at 60 bars
-  arises by chance about a quarter of the time;
-- ``consistent``: neither.
+- ``consistent``: p >= alpha: the test does not reject at the stated level;
+- ``rejected``: the test rejects even after allowing for the four properties being tested together
+  (Holm's step-down procedure at family level alpha; Holm 1979, Scandinavian J. of Statistics 6(2));
+- ``doubtful``: p < alpha on its own, but not after that allowance.
 
+So on a perfectly Brownian series each property is non-"consistent" with probability alpha (the
+test's size), and some property is "rejected" with probability at most alpha. How large an effect
+is, and whether it would matter for pricing, is said in the sentence, never in the status.
 "Consistent" means the data do not contradict the property, not that they prove it.
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Literal
 
 import pandas as pd
+
+from volbench.formatting import pct as _pct
+
+
+def _pc(x: float, digits: int = 1) -> str:
+    """A decimal as a percentage, never more than about 6 significant digits."""
+    return _pct(x, digits, space=False)
 
 Status = Literal["consistent", "doubtful", "rejected"]
 PROPERTIES = ("variance_proportional_to_horizon", "normal_increments", "independent_increments",
@@ -49,20 +58,49 @@ class Verdict:
                 "p_value": self.p_value, "message": self.message}
 
 
-def status_for(p: float, alpha: float, large: bool = False) -> Status:
-    """Status rule shared by all properties (module docstring)."""
-    if p < alpha:
-        return "rejected"
-    if p < 2 * alpha or large:
-        return "doubtful"
-    return "consistent"
+def family_statuses(p_values: list[float], alpha: float) -> list[Status]:
+    """Status of each property from its p-value (module docstring): Holm at family level alpha.
+
+    Notes
+    -----
+    Holm (1979): order the m p-values p(1) <= ... <= p(m); reject the hypotheses of p(1) .. p(j)
+    where j is the last index with p(i) < alpha / (m - i + 1) for every i <= j. The chance that a
+    family of true hypotheses sees any rejection is at most alpha, whatever their dependence.
+    """
+    m = len(p_values)
+    order = sorted(range(m), key=lambda i: (math.isnan(p_values[i]), p_values[i]))
+    holm = [False] * m
+    for rank, i in enumerate(order):
+        if not p_values[i] < alpha / (m - rank):
+            break
+        holm[i] = True
+    return ["rejected" if holm[i] else ("doubtful" if p_values[i] < alpha else "consistent") for i in range(m)]
+
+
+def status_for(p: float, alpha: float) -> Status:
+    """Status of a single test judged alone: ``rejected`` when p < alpha, else ``consistent``."""
+    return "rejected" if p < alpha else "consistent"
+
+
+def _doubtful_note(status: Status, alpha: float) -> str:
+    if status != "doubtful":
+        return ""
+    return (f" Doubtful: significant on its own at the {alpha:g} level, but not once the four properties "
+            "are judged together (Holm).")
+
+
+def independence_p(ljung: pd.DataFrame) -> tuple[float, float]:
+    """Bonferroni-adjusted p-values (returns, squared returns): min(1, m x smallest p), m = 2 x lags."""
+    m = 2 * len(ljung)
+    return (min(1.0, m * float(ljung["p_returns"].min())), min(1.0, m * float(ljung["p_squared"].min())))
 
 
 def fmt_p(p: float) -> str:
     return "p < 0.001" if p < 0.001 else f"p = {p:.3f}"
 
 
-def variance_verdict(horizons: pd.DataFrame, cd_stat: float, cd_p: float, fit, alpha: float) -> Verdict:
+def variance_verdict(horizons: pd.DataFrame, cd_stat: float, cd_p: float, fit, alpha: float,
+                     status: Status | None = None) -> Verdict:
     """Variance proportional to horizon: Chow-Denning joint test.
 
     The effect is read at the horizon whose vol departs most from sqrt-time scaling when that
@@ -73,35 +111,39 @@ def variance_verdict(horizons: pd.DataFrame, cd_stat: float, cd_p: float, fit, a
     row = horizons.iloc[int(gaps.argmax())] if large else horizons.iloc[-1]
     h, n_h = int(row["h"]), int(row["n_nonoverlap"])
     gap = float(row["variance_ratio"]) - 1.0
-    status = status_for(cd_p, alpha)
+    status = status or status_for(cd_p, alpha)
     side = "below" if gap < 0 else "above"
-    msg = f"{h}-bar variance is {abs(gap):.0%} {side} {h} x 1-bar variance"
+    msg = f"{h}-bar variance is {_pc(abs(gap), 0)} {side} {h} x 1-bar variance"
     if status == "consistent" and not large:
         msg += (f" and the joint variance-ratio test does not reject (Chow-Denning {fmt_p(cd_p)}): "
                 f"sqrt-time scaling of the 1-bar vol is supported up to {h} bars")
     else:
         how = ("returns mean-revert and sqrt-time scaling overstates" if gap < 0
                else "returns trend and sqrt-time scaling understates")
-        msg += (f" ({row['annualized_vol']:.1%} measured vs {row['sqrt_time_vol']:.1%} sqrt-time scaled "
+        msg += (f" ({_pc(row['annualized_vol'], 1)} measured vs {_pc(row['sqrt_time_vol'], 1)} sqrt-time scaled "
                 "1-bar vol, annualized)")
-        if cd_p < 2 * alpha:
+        if status != "consistent":
             msg += f": {how} {h}-bar vol (Chow-Denning {fmt_p(cd_p)})"
         else:
             msg += (f", a gap that would matter for pricing but is within sampling noise (Chow-Denning "
                     f"{fmt_p(cd_p)}): if real, {how} {h}-bar vol")
-    msg += (f"; log-log slope {fit.slope:.2f} ({fit.level:.0%} interval {fit.ci[0]:.2f} to {fit.ci[1]:.2f}, "
+    msg += (f"; log-log slope {fit.slope:.2f} ({_pc(fit.level, 0)} interval {fit.ci[0]:.2f} to {fit.ci[1]:.2f}, "
             f"Hurst {fit.hurst:.2f}). The {h}-bar figure rests on {n_h} non-overlapping periods"
-            + ("; read it with caution." if n_h < FEW_PERIODS else "."))
+            + ("; read it with caution." if n_h < FEW_PERIODS else ".") + _doubtful_note(status, alpha))
     return Verdict("variance_proportional_to_horizon", status, cd_stat, cd_p, msg)
 
 
-def normality_verdict(horizons: pd.DataFrame, alpha: float) -> Verdict:
+def normality_verdict(horizons: pd.DataFrame, alpha: float, status: Status | None = None) -> Verdict:
     """Normal increments: Jarque-Bera on 1-bar returns; tails at the longest horizon for context."""
     one, last = horizons.iloc[0], horizons.iloc[-1]
     s, k, p = float(one["skew"]), float(one["excess_kurtosis"]), float(one["jarque_bera_p"])
     large = abs(k) >= LARGE_EXCESS_KURTOSIS or abs(s) >= LARGE_SKEW
-    status = status_for(p, alpha, large)
-    if status == "consistent":
+    status = status or status_for(p, alpha)
+    if status == "consistent" and large:
+        msg = (f"1-bar returns show excess kurtosis {k:.1f} and skew {s:+.2f}, a size that would matter for "
+               f"pricing far from the money, but Jarque-Bera does not reject ({fmt_p(p)}): on this history the "
+               "departure from normal is within sampling noise.")
+    elif status == "consistent":
         msg = (f"1-bar returns look normal (excess kurtosis {k:.1f}, skew {s:+.2f}, Jarque-Bera {fmt_p(p)}): "
                "no evidence against the lognormal prices the model assumes.")
     else:
@@ -113,34 +155,34 @@ def normality_verdict(horizons: pd.DataFrame, alpha: float) -> Verdict:
                  else "the departure persists at longer horizons")
         msg = (f"1-bar returns have excess kurtosis {k:.1f} and skew {s:+.2f} (Jarque-Bera {fmt_p(p)}): tails "
                f"are {tails}; at {h} bars excess kurtosis is {kh:.1f} ({int(last['n_nonoverlap'])} "
-               f"periods), so {trend}.")
+               f"periods), so {trend}.") + _doubtful_note(status, alpha)
     return Verdict("normal_increments", status, float(one["jarque_bera"]), p, msg)
 
 
-def independence_verdict(ljung: pd.DataFrame, acf: pd.DataFrame, alpha: float) -> Verdict:
+def independence_verdict(ljung: pd.DataFrame, acf: pd.DataFrame, alpha: float,
+                         status: Status | None = None) -> Verdict:
     """Independent increments: Ljung-Box on returns and squared returns, Bonferroni over all tests.
 
     The p-value is min(1, m x smallest p) over the m = 2 x (number of lags) Ljung-Box tests.
     """
     m = 2 * len(ljung)
     i_r, i_s = int(ljung["p_returns"].idxmin()), int(ljung["p_squared"].idxmin())
-    p_r = min(1.0, m * float(ljung.loc[i_r, "p_returns"]))
-    p_s = min(1.0, m * float(ljung.loc[i_s, "p_squared"]))
+    p_r, p_s = independence_p(ljung)
     if p_s <= p_r:
         stat, p = float(ljung.loc[i_s, "q_squared"]), p_s
     else:
         stat, p = float(ljung.loc[i_r, "q_returns"]), p_r
-    status = status_for(p, alpha)
+    status = status or status_for(p, alpha)
     lag_r, lag_s = int(ljung.loc[i_r, "lag"]), int(ljung.loc[i_s, "lag"])
     parts = []
-    if p_s < 2 * alpha:
-        verb = "are" if p_s < alpha else "may be"
+    if p_s < alpha:
+        verb = "are" if status == "rejected" else "may be"
         parts.append(f"Squared returns {verb} autocorrelated (Ljung-Box to lag {lag_s}, adjusted {fmt_p(p_s)}): "
                      "volatility clusters, so the vol over an option's life depends on today's level; lean on "
                      "recent data (EWMA or a GARCH forecast) rather than the long-sample average.")
-    if p_r < 2 * alpha:
+    if p_r < alpha:
         a1 = float(acf["acf_returns"].iloc[0])
-        verb = "are" if p_r < alpha else "may be"
+        verb = "are" if status == "rejected" else "may be"
         parts.append(f"Returns {verb} autocorrelated (lag-1 autocorrelation {a1:+.2f}; Ljung-Box to lag {lag_r}, "
                      f"adjusted {fmt_p(p_r)}): see the variance-ratio verdict for the effect on long-horizon vol.")
     elif parts:
@@ -149,18 +191,21 @@ def independence_verdict(ljung: pd.DataFrame, acf: pd.DataFrame, alpha: float) -
     if not parts:
         parts.append(f"Neither returns nor squared returns are autocorrelated (smallest adjusted {fmt_p(p)} over "
                      f"{m} Ljung-Box tests): no sign of volatility clustering, so a long-sample vol is a fair guide.")
-    return Verdict("independent_increments", status, stat, p, " ".join(parts))
+    return Verdict("independent_increments", status, stat, p, " ".join(parts) + _doubtful_note(status, alpha))
 
 
-def drift_verdict(drift: dict, alpha: float) -> Verdict:
+def drift_verdict(drift: dict, alpha: float, status: Status | None = None) -> Verdict:
     """Negligible drift: t-test of the mean return; size read at the longest horizon."""
     last = drift["by_horizon"][-1]
     h, ratio, infl = last["h"], last["drift_to_vol"], last["vol_inflation"]
     p = drift["p_value"]
-    status = status_for(p, alpha, ratio >= LARGE_DRIFT_TO_VOL)
-    word = {"consistent": "negligible", "doubtful": "possibly not negligible", "rejected": "not negligible"}[status]
-    msg = (f"Mean return {drift['mean_annualized']:+.1%} a year (t = {drift['t_stat']:.2f}, {fmt_p(p)}); "
-           f"over {h} bars the drift is {ratio:.2f} of a {h}-bar standard deviation, {word}: a vol measured "
-           f"around zero instead of the mean would be {infl:.1%} too high at that horizon (Black-Scholes "
-           "itself prices with the risk-free rate, not this drift).")
+    status = status or status_for(p, alpha)
+    word = {"consistent": "indistinguishable from zero", "doubtful": "possibly not negligible",
+            "rejected": "not negligible"}[status]
+    size = (" (a size that would matter, but within sampling noise)"
+            if status == "consistent" and ratio >= LARGE_DRIFT_TO_VOL else "")
+    msg = (f"Mean return {'+' if drift['mean_annualized'] >= 0 else ''}{_pc(drift['mean_annualized'], 1)} a year (t = {drift['t_stat']:.2f}, {fmt_p(p)}): {word}"
+           f"{size}; over {h} bars the drift is {ratio:.2f} of a {h}-bar standard deviation, so a vol measured "
+           f"around zero instead of the mean would be {_pc(infl, 1)} too high at that horizon (Black-Scholes "
+           "itself prices with the risk-free rate, not this drift)." + _doubtful_note(status, alpha))
     return Verdict("negligible_drift", status, float(drift["t_stat"]), float(p), msg)

@@ -21,6 +21,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from volbench import validate
 from volbench.estimators import REGISTRY
 from volbench.gui import palette
 from volbench.gui.binding import Binding
@@ -125,7 +126,8 @@ class ControlsPane(QScrollArea):
         # --- option
         g3 = QGroupBox("Option to price")
         f3 = QFormLayout(g3)
-        self.pricing_vol = _dspin("pricing_vol_spin", 0.1, 499.0, 2, " %", 0.25)
+        # the same limit as every command (volbench.validate.PRICING_VOL_MAX, 500 % excluded)
+        self.pricing_vol = _dspin("pricing_vol_spin", 0.1, 100 * validate.PRICING_VOL_MAX - 0.01, 2, " %", 0.25)
         self.pricing_vol.setToolTip("The proposed annualized volatility, in percent")
         f3.addRow("Pricing vol", self.pricing_vol)
         self.days = _spin("days_spin", 1, 5000, " bars")

@@ -121,7 +121,7 @@ class ModelPane(QWidget):
             legend.clear()
         cond = []
         for fit in comp.fits:
-            name = fit.label + (" (preferred)" if fit.model == comp.preferred else "")
+            name = fit.candidate_label + (" (preferred)" if fit.model == comp.preferred else "")
             cv = fit.conditional_vol
             if len(cv):
                 cond.append(cv.to_numpy() * 100.0)
@@ -145,8 +145,9 @@ class ModelPane(QWidget):
         rows, raw = [], []
         for fit in comp.fits:
             fwd = _fwd(fit, days)
-            notes = "; ".join((*fit.warnings, *fit.notes)) or ("fallback: " + fit.fallback if fit.fallback else "")
-            rows.append([fit.label + (" *" if fit.model == comp.preferred else ""), fit.dist,
+            source = f"forward vol from {fit.forward_vol_source}" if fit.fallback else ""
+            notes = "; ".join(x for x in (source, *fit.warnings, *fit.notes) if x)
+            rows.append([fit.candidate_label + (" *" if fit.model == comp.preferred else ""), fit.dist,
                          "yes" if fit.converged else "no", num(fit.persistence, 4), pct(fit.long_run_vol),
                          num(fit.half_life, 3), num(fit.aic, 6), num(fit.bic, 6), pct(fwd), notes])
             raw.append({"model": fit.model, "dist": fit.dist, "converged": fit.converged,
@@ -173,7 +174,8 @@ class ModelPane(QWidget):
         rows, raw = [], []
         for c in comps:
             fwd = _fwd(c, days) if c.fits else None
-            rows.append([c.name, c.preferred or "none usable (EWMA fallback)", pct(fwd), c.message])
+            fallback = c.fits[0].candidate_label if c.fits else "no fit"
+            rows.append([c.name, c.preferred or f"none usable ({fallback})", pct(fwd), c.message])
             raw.append({"series": c.name, "preferred": c.preferred, "forward_vol": fwd, "days": days,
                         "message": c.message})
         self.batch_table.set_frame(pd.DataFrame(rows, columns=BATCH_COLUMNS), pd.DataFrame(raw),

@@ -175,10 +175,10 @@ class RollingPane(QWidget):
             if key in report.estimates:
                 e = report.estimates[key]
                 approx = "" if spec.ci_exact else " ~"
-                rows.append([spec.label, pct(e.vol), f"{pct(e.ci_low)} to {pct(e.ci_high)}{approx}", e.n,
-                             e.ci_method])
+                method = e.ci_method + (f"; {e.note}" if e.note else "")
+                rows.append([spec.label, pct(e.vol), f"{pct(e.ci_low)} to {pct(e.ci_high)}{approx}", e.n, method])
                 raw.append({"estimator": key, "vol": e.vol, "ci_low": e.ci_low, "ci_high": e.ci_high,
-                            "n": e.n, "note": e.ci_method})
+                            "n": e.n, "note": method})
             else:
                 reason = report.unavailable.get(key, "")
                 rows.append([spec.label, "n/a", "", "", reason])

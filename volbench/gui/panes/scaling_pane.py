@@ -76,6 +76,10 @@ class ScalingPane(QWidget):
         pl.setContentsMargins(0, 0, 0, 0)
         for p in (self.var_plot, self.qq_plot, self.acf_plot):
             pl.addWidget(p)
+        self.false_alarm = QLabel()
+        self.false_alarm.setObjectName("scaling_false_alarm")
+        self.false_alarm.setProperty("role", "caption")
+        self.false_alarm.setWordWrap(True)
         self.summary = QLabel()
         self.summary.setObjectName("scaling_summary")
         self.summary.setProperty("role", "reading")
@@ -85,7 +89,12 @@ class ScalingPane(QWidget):
         self.verdict_table.setWordWrap(True)
         tables = QTabWidget()
         tables.setObjectName("scaling_tables")
-        tables.addTab(self.verdict_table, "Verdicts in plain words")
+        verdicts = QWidget()
+        vl = QVBoxLayout(verdicts)
+        vl.setContentsMargins(0, 0, 0, 0)
+        vl.addWidget(self.false_alarm)
+        vl.addWidget(self.verdict_table, 1)
+        tables.addTab(verdicts, "Verdicts in plain words")
         tables.addTab(self.vr_table, "Variance ratios by horizon")
         body = QSplitter(Qt.Orientation.Vertical)
         top = QWidget()
@@ -170,5 +179,9 @@ class ScalingPane(QWidget):
             fg[(i, 1)] = palette.STATUS_COLOURS.get(v.status, palette.FOREGROUND)
             raw.append(v.as_dict())
         self.verdict_table.set_frame(pd.DataFrame(rows, columns=VERDICT_COLUMNS), pd.DataFrame(raw), fg=fg)
+        fa = getattr(r, "family_false_alarm", None) or {}
+        self.false_alarm.setText(
+            (fa["sentence"] + " Each status comes from its test at this level; effect sizes are in the "
+             "sentences.") if fa else "")
         self.verdict_table.resizeRowsToContents()
         self.card.show_content()
