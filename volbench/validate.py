@@ -58,17 +58,17 @@ def annualization(value) -> float:
     return a
 
 
-def pricing_vol(value) -> float:
+def pricing_vol(value, what: str = "pricing vol") -> float:
     """A proposed annualized vol: a decimal in (0, 5); says so when it looks like a percent."""
     try:
         v = float(value)
     except (TypeError, ValueError):
-        raise VolbenchError(f"pricing vol must be a decimal such as 0.25 for 25%, got {value!r}") from None
+        raise VolbenchError(f"{what} must be a decimal such as 0.25 for 25%, got {value!r}") from None
     if not math.isfinite(v) or v <= 0:
-        raise VolbenchError(f"pricing vol must be > 0 (a decimal such as 0.25 for 25%), got {v:g}")
+        raise VolbenchError(f"{what} must be > 0 (a decimal such as 0.25 for 25%), got {v:g}")
     if v >= PRICING_VOL_MAX:
         hint = f"; it looks like a percent: did you mean {v / 100:g}?" if v < 100 * PRICING_VOL_MAX else ""
-        raise VolbenchError(f"pricing vol must be a decimal below {PRICING_VOL_MAX:g} (0.25 means 25%), "
+        raise VolbenchError(f"{what} must be a decimal below {PRICING_VOL_MAX:g} (0.25 means 25%), "
                             f"got {v:g}{hint}")
     return v
 

@@ -124,11 +124,13 @@ def test_quotes_file_with_prices(capsys, sample_dir):
 
 
 def test_quotes_file_csv(capsys, sample_dir):
-    code, out, _ = run(capsys, "implied", str(sample_dir / SAMPLE_QUOTES), "--spot", "34.6", "--rate", "0.035",
-                       "--as-of", "2024-10-17", "--format", "csv")
+    meta = json.loads((sample_dir / "PARAMETERS.json").read_text())["option_quotes"]
+    code, out, _ = run(capsys, "implied", str(sample_dir / SAMPLE_QUOTES), "--spot", str(meta["spot"]),
+                       "--rate", str(meta["rate"]), "--as-of", meta["as_of"], "--format", "csv")
     assert code == 0
     rows = list(csv.DictReader(io.StringIO(out)))
-    assert len(rows) == 150 and rows[0]["line"] == "2" and rows[0]["expiry"] == "2024-11-15"
+    data_lines = (sample_dir / SAMPLE_QUOTES).read_text().strip().count("\n")  # every quote row, one line each
+    assert len(rows) == data_lines and rows[0]["line"] == "2" and rows[0]["expiry"] == "2024-11-15"
     assert {"implied_vol", "status", "iv_bid", "iv_ask"} <= set(rows[0])
 
 

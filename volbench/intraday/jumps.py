@@ -33,8 +33,6 @@ RELIABLE_RETURNS = 78
 """Below about this many returns a day the ratio test's size is less reliable (Huang & Tauchen 2005)."""
 LM_WINDOW_DAILY = 16
 """Lee-Mykland local-volatility window for daily returns, about sqrt(252) (Lee & Mykland 2008)."""
-LARGE_JUMP_SHARE = 0.10
-"""Share of total variance from jumps above which the verdict is at least doubtful."""
 
 Method = Literal["ratio_test", "lee_mykland"]
 
@@ -175,8 +173,9 @@ def continuity_check(
     (the significant jump component of Andersen, Bollerslev & Diebold 2007, REStat 89(4), from
     memory). Over N days tested, chance alone lists alpha N days and at least one with probability
     1 - (1 - alpha)^N. The verdict reads the largest z: family p = 1 - (1 - p_min)^N (Sidak; exact
-    for independent days), status by the shared rule (``rejected`` p < verdict_alpha,
-    ``doubtful`` p < 2 verdict_alpha or jump share >= 10 %).
+    for independent days), status by the shared single-test rule (``rejected`` when p <
+    verdict_alpha, else ``consistent``); the jump share is described in the sentence, not the status
+    (docs/METHODS.md, Brownian-scaling check).
     """
     a_list = check_level(alpha)
     a_verdict = check_level(verdict_alpha, "verdict significance level")
@@ -218,7 +217,7 @@ def continuity_check(
 
 def _intraday_verdict(n: int, k: int, a: float, zmax: float, p: float, share: float, rv_vol: float,
                       bv_vol: float, a_verdict: float) -> Verdict:
-    status = status_for(p, a_verdict, share >= LARGE_JUMP_SHARE)
+    status = status_for(p, a_verdict)
     counts = (f"{k} of {n} days show a jump at the {a:.0%} level (about {a * n:.1f} expected by chance; "
               f"the chance of at least one false alarm over {n} days is {_sidak(a, n):.0%})")
     if status == "consistent":
@@ -347,7 +346,7 @@ def lee_mykland_screen(
 
 def _daily_verdict(n: int, k: int, p: float, z: float, date, share: float, a_list: float,
                    a_verdict: float) -> Verdict:
-    status = status_for(p, a_verdict, k > 0 and share >= LARGE_JUMP_SHARE)
+    status = status_for(p, a_verdict)
     head = ("Screen on daily returns only (Lee-Mykland, low power: a daily return cannot tell a jump from a "
             "volatile day; load intraday bars for a real test). ")
     when = pd.Timestamp(date).strftime("%Y-%m-%d")

@@ -310,7 +310,7 @@ def check_pricing_vol(vol, what: str = "pricing vol") -> float:
     """A vol given by a user: decimal in (0, 5); one rule and one message everywhere (volbench.validate)."""
     from volbench import validate
 
-    return validate.pricing_vol(vol)
+    return validate.pricing_vol(vol, what)
 
 
 def check_rate(value, what: str = "rate") -> float:
