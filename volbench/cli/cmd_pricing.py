@@ -16,6 +16,7 @@ from volbench.cli.common import (
     pct,
     print_json,
     render_table,
+    with_import,
 )
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY
@@ -135,7 +136,7 @@ def run_cone(args: argparse.Namespace) -> int:
                       annualization=args.annualization, hodges_tompkins=args.hodges_tompkins)
              for h in histories]
     if args.format == "json":
-        print_json({"series": [c.as_dict() for c in cones]})
+        print_json({"series": [with_import(c.as_dict(), h) for h, c in zip(histories, cones)]})
         return 0
     for i, c in enumerate(cones):
         if i:
@@ -220,7 +221,7 @@ def run_compare(args: argparse.Namespace) -> int:
     if reasons:
         comp = replace(comp, unavailable={**comp.unavailable, **reasons})
     if args.format == "json":
-        print_json(comp.as_dict())
+        print_json(with_import(comp.as_dict(), history))
         return 0
     h = history
     atm = " (at the money)" if math.isclose(comp.strike, comp.spot) else ""
