@@ -51,7 +51,14 @@ def parse_dates(text: pd.Series, date_format: str | None = None,
     except (ValueError, TypeError):  # offsets that differ between cells, or naive cells among them
         parsed = None
     if parsed is None or getattr(parsed.dt, "tz", None) is not None:
-        parsed, finding = _with_offsets(s, fmt)
+        parsed, finding = _with_offsets(s.str.strip(), fmt)
+        return _in_range(parsed), finding
+    retry = parsed.isna().to_numpy() & s.notna().to_numpy()
+    if retry.any():  # cells with spaces around the date: only those are stripped
+        again = pd.to_datetime(s[retry].str.strip(), format=fmt, errors="coerce")
+        if getattr(again.dt, "tz", None) is None:
+            parsed = parsed.copy()
+            parsed[retry] = again
     return _in_range(parsed), finding
 
 

@@ -120,8 +120,21 @@ def load_prices(
         findings = owner.get(g, []) + (file_level if g == 0 else [])
         history = _build(table, series, parsed, mask, findings, opts)
         out.append(history.select(True) if opts.exclude_flagged else history)
+    _check_accounting(table, out)
     stage(3, "done")
     return out
+
+
+def _check_accounting(table: RawTable, histories: list[PriceHistory]) -> None:
+    """Data rows in the file = rows used + rows named by findings as left out (docs/METHODS.md,
+    Import); a mismatch is a bug in volbench, never a silent loss of rows."""
+    used, out = sum(h.n for h in histories), set()
+    for h in histories:
+        out |= h.left_out_lines
+        out.update(h.excluded_lines)
+    if used + len(out) != table.data_rows:
+        raise RuntimeError(f"{table.path}: {table.data_rows} data rows but {used} used and {len(out)} "
+                           "reported left out; please report this file")
 
 
 def load_many(paths: Iterable[str | Path], options: ImportOptions | None = None, *,

@@ -116,18 +116,20 @@ def decide_separators(table: RawTable, cols: list[str], options: ImportOptions) 
         ev.add(table.headers[c], texts[c])
     float_proof = next((c for c in float_cols if _float_proves_dot(frame[c].to_numpy())), None)
     dot, comma = ev.n(*_DOT_PROOF) + (float_proof is not None), ev.n(*_COMMA_PROOF)
-    undecided = options.decimal is None and not dot and not comma
-    if undecided and table.delimiter != "," and float_cols:
-        # '.' in numbers pandas parsed could still be a thousands separator: read their text
+    undecided = options.decimal is None and options.thousands in (None, "none") and not dot
+    if float_cols and (comma or (undecided and table.delimiter != ",")):
+        # a '.' in numbers pandas parsed could be a thousands separator, or contradict a decimal
+        # comma elsewhere: look at the text of those cells too
         maybe = [c for c in float_cols if _has_fraction(frame[c].to_numpy()) or frame[c].isna().any()]
-        if maybe or ev.n("amb_comma"):
-            more = table.texts(maybe)
-            for c in maybe:
-                ev.add(table.headers[c], more[c])
-            texts.update(more)
-            dot, comma = ev.n(*_DOT_PROOF), ev.n(*_COMMA_PROOF)
+        more = table.texts(maybe)
+        for c in maybe:
+            ev.add(table.headers[c], more[c])
+        texts.update(more)
+        dot, comma = ev.n(*_DOT_PROOF) + (float_proof is not None), ev.n(*_COMMA_PROOF)
     if options.decimal is not None:
         decimal = options.decimal
+    elif options.thousands in (",", "."):
+        decimal = "," if options.thousands == "." else "."
     elif dot and comma:
         hd, vd = ev.example(*_DOT_PROOF) or (table.headers[float_proof], "a number with 4+ decimals")
         hc, vc = ev.example(*_COMMA_PROOF)

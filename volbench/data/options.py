@@ -10,6 +10,8 @@ from __future__ import annotations
 from dataclasses import dataclass, field, fields, replace
 from typing import Any, Literal
 
+import pandas as pd
+
 from volbench.data.quality import QualitySettings
 from volbench.errors import VolbenchError
 
@@ -22,6 +24,14 @@ DECIMALS: tuple[str, ...] = (".", ",")
 THOUSANDS: tuple[str, ...] = (",", ".", "none")
 EXCEL = "excel"
 """``date_format`` value for spreadsheet serial day numbers (days since 1899-12-30)."""
+
+
+def _check_format(fmt: str) -> None:
+    try:
+        pd.to_datetime(pd.Series(["2000-01-01"], dtype=object), format=fmt, errors="coerce")
+    except (ValueError, TypeError, KeyError) as exc:
+        raise VolbenchError(f"date format {fmt!r} is not a valid strftime format ({exc}); "
+                            "write it like %d/%m/%Y or %Y-%m-%d %H:%M") from None
 
 
 @dataclass(frozen=True)
@@ -87,6 +97,8 @@ class ImportOptions:
             elif "%" not in fmt:
                 raise VolbenchError(f"date format must be 'excel' or a strftime format such as %d/%m/%Y, "
                                     f"got {self.date_format!r}")
+            else:
+                _check_format(fmt)
             set_(self, "date_format", fmt)
         for name in ("use_adjusted", "adjust_splits", "exclude_flagged"):
             if not isinstance(getattr(self, name), bool):

@@ -49,6 +49,8 @@ MAX_PREAMBLE = 20
 CLIP = 60
 """Characters of a cell quoted in a message (the rest is elided)."""
 _HEAD_BYTES = 1 << 16
+_BLANK = " \t\r\x0b\x0c"
+"""What a blank line may hold besides delimiters (ASCII white space, as ``bytes.strip`` sees it)."""
 _CONTROL = bytes(b for b in range(32) if b not in (9, 10, 13)) + b"\x7f"
 
 
@@ -87,6 +89,8 @@ class RawTable:
         cells spanning lines. Rows they name are not in ``frame``.
     data_rows
         Non-blank records after the header: ``len(frame)`` plus the rows named by ``findings``.
+    header_line
+        1-based line of the header.
     """
 
     path: Path
@@ -97,6 +101,7 @@ class RawTable:
     sha256: str
     findings: tuple[Finding, ...]
     data_rows: int
+    header_line: int = 1
     _source: bytes = b""
     _read_args: tuple = ()
 
@@ -351,7 +356,7 @@ def read_table(path: str | Path, delimiter: str | None = None) -> RawTable:
     positions = match_headers(path, header, header_line)
     names = [c.strip() for c in header]
     width = max((i + 1 for i, c in enumerate(names) if c), default=1)
-    needed = max(positions.values()) + 1
+    needed = max(p for k, p in positions.items() if k != "volume") + 1  # volume may be cut off
     headers = {canon: names[pos] for canon, pos in positions.items()}
     findings: list[Finding] = []
     if preamble:
@@ -364,14 +369,14 @@ def read_table(path: str | Path, delimiter: str | None = None) -> RawTable:
     if b'"' in data[start:]:
         frame, lines, bad_rows, data_rows = _read_quoted(path, data[start:], delim, header_line, width, needed,
                                                          positions, findings)
-        return RawTable(path, delim, frame, lines, headers, sha, tuple(findings), data_rows)
+        return RawTable(path, delim, frame, lines, headers, sha, tuple(findings), data_rows, header_line)
     starts, ends = _line_spans(data, start)
     counts = _field_counts(data, starts, ends, delim)
     lines = np.arange(header_line + 1, header_line + 1 + len(starts), dtype=np.int64)
     lengths = ends - starts
     blank = lengths - (counts - 1) <= 8  # only delimiters, spaces or a CR: checked one by one below
     for i in np.flatnonzero(blank):
-        blank[i] = not data[starts[i]:ends[i]].replace(delim.encode(), b"").strip()
+        blank[i] = not data[starts[i]:ends[i]].replace(delim.encode(), b"").strip(_BLANK.encode())
     data_rows = int((~blank).sum())
     if not data_rows:
         raise VolbenchError(f"{path}: header found but no data rows; the file holds no prices")
@@ -392,7 +397,7 @@ def read_table(path: str | Path, delimiter: str | None = None) -> RawTable:
         too_many = wide & (counts > read_width)
         for i in np.flatnonzero(too_many):  # more extra fields than were read: look at the bytes
             cells = data[starts[i]:ends[i]].split(delim.encode())[width:]
-            too_many[i] = any(c.strip() for c in cells)
+            too_many[i] = any(c.strip(_BLANK.encode()) for c in cells)
         filled = np.zeros(len(frame), dtype=bool)
         for name in extra:
             col = frame[name]
@@ -406,7 +411,7 @@ def read_table(path: str | Path, delimiter: str | None = None) -> RawTable:
         findings += _width_findings(path, lines, counts, bad, width, delim, header_line)
     keep = ~(blank | bad)
     frame = frame[keep].reset_index(drop=True)
-    return RawTable(path, delim, frame, lines[keep], headers, sha, tuple(findings), data_rows,
+    return RawTable(path, delim, frame, lines[keep], headers, sha, tuple(findings), data_rows, header_line,
                     data, (h + 1, max_width, positions, encoding, keep))
 
 
@@ -451,11 +456,11 @@ def _read_quoted(path: Path, body: bytes, delim: str, header_line: int, width: i
             first = header_line + prev + 1
             last = header_line + reader.line_num
             prev = reader.line_num
-            if not any(cell.strip() for cell in row):
+            if not any(cell.strip(_BLANK) for cell in row):
                 continue
             data_rows += 1
             n = len(row)
-            extra_filled = n > width and any(c.strip() for c in row[width:])
+            extra_filled = n > width and any(c.strip(_BLANK) for c in row[width:])
             if last > first:
                 spans.append((first, last))
                 continue
@@ -478,12 +483,13 @@ def _read_quoted(path: Path, body: bytes, delim: str, header_line: int, width: i
                 f"{path}: line {first}: a quote mark opens a cell that is never closed, so the "
                 f"{swallowed} line{'s' if swallowed != 1 else ''} after it would be read into that one cell; "
                 "remove the stray quote mark or close it")
+        named = tuple(ln for ln in range(first, last + 1) if physical[ln - header_line - 1].strip(_BLANK + delim + '"'))
+        data_rows += len(named) - 1  # data rows are counted by line, as every other row
         findings.append(Finding(
             "error", "quote_span", first, None, None,
             f"line {first}: a quoted cell runs over {swallowed + 1} lines (to line {last}), swallowing "
             f"{swallowed} line{'s' if swallowed != 1 else ''}; the record is left out (check for a stray "
-            "quote mark)", tuple(ln for ln in range(first, last + 1)
-                                 if physical[ln - header_line - 1].strip(" \t\r" + delim + '"'))))
+            "quote mark)", named))
     if not data_rows:
         raise VolbenchError(f"{path}: header found but no data rows; the file holds no prices")
     if bad_lines:
