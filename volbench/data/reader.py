@@ -296,13 +296,16 @@ def _field_counts(raw: bytes, starts: np.ndarray, ends: np.ndarray, delim: str) 
 def _read_c(raw: bytes, delim: str, skip: int, width: int, positions: dict[str, int], encoding: str,
             text: set[str] | frozenset[str] = TEXT_COLUMNS) -> pd.DataFrame:
     by_pos = {p: name for name, p in positions.items()}
-    use = sorted(by_pos)
+    use = sorted(p for p in by_pos if p < width)  # a column no row reaches (a cut-off volume) is empty
     df = pd.read_csv(
         io.BytesIO(raw), sep=delim, header=None, names=list(range(width)), usecols=use, skiprows=skip,
         dtype={p: str for p in use if by_pos[p] in text}, keep_default_na=False, na_values=[""],
         skip_blank_lines=False, quoting=csv.QUOTE_NONE, encoding=encoding, engine="c",
     )
     df.columns = [by_pos[p] for p in df.columns]
+    for p, name in by_pos.items():
+        if p >= width:
+            df[name] = np.nan
     return df
 
 
