@@ -79,7 +79,7 @@ def test_provenance_names_file_hash_version_settings_and_quality(make_bundle, sa
     settings = json.loads(row["settings"])
     assert settings["annualization"] == 365.0 and settings["estimator_options"]["ewma_lambda"] == 0.97
     assert b.provenance["series"][0]["sha256"] == row["source_sha256"]
-    findings = b.table("findings")
+    findings = b.table("findings").dropna(subset=["line"])  # file-wide notes have no line
     treat = dict(zip(findings["line"].astype(int), findings["treatment"]))
     assert treat[102] == "left out at import" and treat[302] == "excluded"
     inputs = b.table("inputs")
