@@ -151,6 +151,7 @@ class PriceHistory:
     price_basis: str = "close"
     adjustments: tuple[Adjustment, ...] = ()
     _sha256: str | None = field(default=None, repr=False)
+    _size: int | None = field(default=None, repr=False)
 
     def __post_init__(self) -> None:
         n = len(self.close)
@@ -225,6 +226,11 @@ class PriceHistory:
     def sha256(self) -> str | None:
         """SHA-256 of the source file's bytes at load time (provenance)."""
         return self._sha256
+
+    @property
+    def source_size(self) -> int | None:
+        """Size in bytes of the source file at load time (with :attr:`sha256`, tells a changed file)."""
+        return self._size
 
     def log_returns(self) -> np.ndarray:
         """Close-to-close log returns r_t = ln(C_t / C_{t-1}), length n - 1."""

@@ -336,7 +336,7 @@ def _build(table: RawTable, name: str, parsed: dict, mask: np.ndarray, findings:
     return PriceHistory(
         name=name, source=table.path, dates=dates, close=vals["close"], open=vals.get("open"),
         high=vals.get("high"), low=vals.get("low"), volume=vol, lines=ln, findings=tuple(findings),
-        price_basis=parsed["basis"], adjustments=adjustments, _sha256=table.sha256,
+        price_basis=parsed["basis"], adjustments=adjustments, _sha256=table.sha256, _size=table.size,
     )
 
 

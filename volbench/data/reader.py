@@ -102,6 +102,7 @@ class RawTable:
     findings: tuple[Finding, ...]
     data_rows: int
     header_line: int = 1
+    size: int = 0
     _source: bytes = b""
     _read_args: tuple = ()
 
@@ -352,6 +353,7 @@ def read_table(path: str | Path, delimiter: str | None = None) -> RawTable:
     path = Path(path)
     raw = read_bytes(path)
     sha = hashlib.sha256(raw).hexdigest()
+    size = len(raw)
     data, encoding = decode(path, raw)
     del raw
     h, delim, header, preamble = find_header(path, data, delimiter)
@@ -372,7 +374,7 @@ def read_table(path: str | Path, delimiter: str | None = None) -> RawTable:
     if b'"' in data[start:]:
         frame, lines, bad_rows, data_rows = _read_quoted(path, data[start:], delim, header_line, width, needed,
                                                          positions, findings)
-        return RawTable(path, delim, frame, lines, headers, sha, tuple(findings), data_rows, header_line)
+        return RawTable(path, delim, frame, lines, headers, sha, tuple(findings), data_rows, header_line, size)
     starts, ends = _line_spans(data, start)
     counts = _field_counts(data, starts, ends, delim)
     lines = np.arange(header_line + 1, header_line + 1 + len(starts), dtype=np.int64)
@@ -414,7 +416,7 @@ def read_table(path: str | Path, delimiter: str | None = None) -> RawTable:
         findings += _width_findings(path, lines, counts, bad, width, delim, header_line)
     keep = ~(blank | bad)
     frame = frame[keep].reset_index(drop=True)
-    return RawTable(path, delim, frame, lines[keep], headers, sha, tuple(findings), data_rows, header_line,
+    return RawTable(path, delim, frame, lines[keep], headers, sha, tuple(findings), data_rows, header_line, size,
                     data, (h + 1, max_width, positions, encoding, keep))
 
 
