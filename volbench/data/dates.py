@@ -53,18 +53,27 @@ def parse_dates(text: pd.Series, date_format: str | None = None,
     if parsed is None or getattr(parsed.dt, "tz", None) is not None:
         parsed, finding = _with_offsets(s.str.strip(), fmt)
         return _in_range(parsed), finding
-    retry = parsed.isna().to_numpy() & s.notna().to_numpy()
-    if retry.any():  # cells with spaces around the date: only those are stripped
-        again = pd.to_datetime(s[retry].str.strip(), format=fmt, errors="coerce")
-        if getattr(again.dt, "tz", None) is None:
-            parsed = parsed.copy()
-            parsed[retry] = again
-    return _in_range(parsed), finding
+    out = _in_range(parsed)
+    failed = np.isnat(out)
+    if failed.any():
+        retry = failed & s.notna().to_numpy()
+        if retry.any():  # cells with spaces around the date: only those are stripped
+            again = pd.to_datetime(s[retry].str.strip(), format=fmt, errors="coerce")
+            if getattr(again.dt, "tz", None) is None:
+                out[retry] = _in_range(again)
+    return out, finding
 
 
 def _in_range(parsed: pd.Series) -> np.ndarray:
-    parsed = parsed.where((parsed >= _LO) & (parsed <= _HI))
-    return parsed.to_numpy(dtype="datetime64[ns]")
+    a = parsed.to_numpy()
+    if a.dtype.kind != "M":
+        a = a.astype("datetime64[ns]")
+    # compared in the array's own unit: years beyond 2262 do not fit in nanoseconds
+    bad = (a < _LO.to_datetime64().astype(a.dtype)) | (a > _HI.to_datetime64().astype(a.dtype))
+    if bad.any():
+        a = a.copy()
+        a[bad] = np.datetime64("NaT")
+    return a.astype("datetime64[ns]")
 
 
 def _excel(cells: pd.Series) -> np.ndarray:

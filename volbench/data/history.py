@@ -100,6 +100,8 @@ class Adjustment:
 def _ro(a: np.ndarray | None, dtype) -> np.ndarray | None:
     if a is None:
         return None
+    if isinstance(a, np.ndarray) and a.dtype == dtype and not a.flags.writeable and a.base is None:
+        return a  # already a read-only array that owns its memory (made by the loader): no copy
     out = np.array(a, dtype=dtype, copy=True)
     out.setflags(write=False)
     return out
@@ -170,7 +172,7 @@ class PriceHistory:
         set_(self, "findings", tuple(self.findings))
         set_(self, "adjustments", tuple(self.adjustments))
         set_(self, "excluded_lines", tuple(int(x) for x in self.excluded_lines))
-        if n > 1 and not np.all(np.diff(self.dates.astype(np.int64)) > 0):
+        if n > 1 and not np.all(self.dates[1:] > self.dates[:-1]):
             raise VolbenchError(f"{self.name}: dates must be strictly increasing")
 
     # ------------------------------------------------------------------ basic facts

@@ -86,7 +86,7 @@ def load_prices(
     stage(2, "checking")
     out = []
     lines = table.lines
-    if "symbol" in table.frame.columns:
+    if "symbol" in table.frame:
         sym = table.frame["symbol"].fillna("").astype(str).str.strip()
         codes, names = pd.factorize(sym, sort=False)
         named = [k for k, s in enumerate(names) if s]
@@ -185,7 +185,7 @@ def _parse_rows(table: RawTable, opts: ImportOptions):
     date_col = frame["date"]
     if opts.date_format != EXCEL and not (pd.api.types.is_string_dtype(date_col) or date_col.dtype == object):
         date_col = table.texts(["date"])["date"]
-    dates, tz_note = parse_dates(date_col, opts.date_format, frame["time"] if "time" in frame.columns else None)
+    dates, tz_note = parse_dates(date_col, opts.date_format, frame["time"] if "time" in frame else None)
     if tz_note is not None:
         findings.append(tz_note)
     bad_date = np.isnat(dates)
@@ -215,10 +215,10 @@ def _parse_rows(table: RawTable, opts: ImportOptions):
         return None if bad_date[i] else _iso(dates[i])
 
     close_key = "close"
-    if "adj_close" in frame.columns and (opts.use_adjusted or "close" not in frame.columns):
+    if "adj_close" in frame and (opts.use_adjusted or "close" not in frame):
         close_key = "adj_close"
-    present = [c for c in ("open", "high", "low") if c in frame.columns] + [close_key]
-    numeric = present + [c for c in ("close", "volume") if c in frame.columns and c not in present]
+    present = [c for c in ("open", "high", "low") if c in frame] + [close_key]
+    numeric = present + [c for c in ("close", "volume") if c in frame and c not in present]
     seps, texts = decide_separators(table, numeric, opts)
     if seps.finding is not None:
         findings.append(seps.finding)
@@ -246,7 +246,7 @@ def _parse_rows(table: RawTable, opts: ImportOptions):
                                          "row left out (log returns need positive prices)"))
         unusable |= empty | nonnum | nonpos
         values[canon] = num
-    if close_key == "adj_close" and "close" in frame.columns:
+    if close_key == "adj_close" and "close" in frame:
         raw_close, _ = to_numbers(frame["close"], texts.get("close"), seps)
         with np.errstate(divide="ignore", over="ignore", invalid="ignore"):  # judged just below
             factor = values["close"] / raw_close
@@ -266,7 +266,7 @@ def _parse_rows(table: RawTable, opts: ImportOptions):
             unusable |= out_of_range
             values[c] = v
     volume = None
-    if "volume" in frame.columns:
+    if "volume" in frame:
         volume, _ = to_numbers(frame["volume"], texts.get("volume"), seps)
     parsed = {
         "dates": dates,
@@ -284,10 +284,13 @@ def _build(table: RawTable, name: str, parsed: dict, mask: np.ndarray, findings:
     if not use.any():
         raise VolbenchError(f"{table.path}: series {name!r} has no usable rows "
                             f"({int(mask.sum())} rows, all with missing, non-numeric or non-positive prices)")
-    dates = parsed["dates"][use]
-    ln = table.lines[use]
-    vals = {k: v[use] for k, v in parsed["values"].items()}
-    vol = parsed["volume"][use] if parsed["volume"] is not None else None
+    if use.all():  # the usual clean file: no copies
+        dates, ln, vals, vol = parsed["dates"], table.lines, dict(parsed["values"]), parsed["volume"]
+    else:
+        dates = parsed["dates"][use]
+        ln = table.lines[use]
+        vals = {k: v[use] for k, v in parsed["values"].items()}
+        vol = parsed["volume"][use] if parsed["volume"] is not None else None
     findings = list(findings)
     # ascending order (stable, so for equal dates the file order is kept)
     if len(dates) > 1 and not np.all(dates[1:] > dates[:-1]):
@@ -333,6 +336,9 @@ def _build(table: RawTable, name: str, parsed: dict, mask: np.ndarray, findings:
             f for f in again if f.kind in ("jump", "large_move")]
     findings += checks
     findings.sort(key=_finding_order)
+    for a in (dates, ln, vol, *vals.values()):
+        if a is not None and a.base is None:
+            a.setflags(write=False)  # owned by this history from here on: PriceHistory keeps it as is
     return PriceHistory(
         name=name, source=table.path, dates=dates, close=vals["close"], open=vals.get("open"),
         high=vals.get("high"), low=vals.get("low"), volume=vol, lines=ln, findings=tuple(findings),

@@ -78,7 +78,7 @@ class RawTable:
     path, delimiter, sha256
         The file, its field separator and the SHA-256 of its bytes.
     frame
-        One column per canonical name found (``date``, ``time``, ``symbol``, ``open``, ...):
+        One pandas Series per canonical name found (``date``, ``time``, ``symbol``, ``open``, ...):
         float64 where pandas read every cell as a number, text otherwise.
     lines
         File line (1-based, the header's line counts) where each row of ``frame`` starts.
@@ -95,7 +95,7 @@ class RawTable:
 
     path: Path
     delimiter: str
-    frame: pd.DataFrame
+    frame: dict[str, pd.Series]
     lines: np.ndarray
     headers: dict[str, str]
     sha256: str
@@ -103,12 +103,16 @@ class RawTable:
     data_rows: int
     header_line: int = 1
     size: int = 0
-    _source: bytes = b""
+    _source: bytes | Path = b""
     _read_args: tuple = ()
 
     @property
     def columns(self) -> dict[str, pd.Series]:
-        return {c: self.frame[c] for c in self.frame.columns}
+        return dict(self.frame)
+
+    @property
+    def n(self) -> int:
+        return len(self.lines)
 
     def texts(self, names) -> dict[str, pd.Series]:
         """The cells of ``names`` as text, exactly as written (re-read when pandas made numbers)."""
@@ -127,7 +131,7 @@ class RawTable:
             df = _read_c(self._source, self.delimiter, skip, width, {n: positions[n] for n in need},
                          encoding, text=set(need))
             for name in need:
-                out[name] = df[name][keep].reset_index(drop=True)
+                out[name] = df[name] if keep.all() else df[name][keep].reset_index(drop=True)
         return out
 
 
@@ -153,7 +157,7 @@ def read_bytes(path: Path) -> bytes:
         raw = path.read_bytes()
     except OSError as exc:
         raise VolbenchError(f"{path}: cannot be read ({exc.strerror}); check permissions") from None
-    if not raw.strip():
+    if not raw or raw.isspace():
         raise VolbenchError(f"{path}: file is empty; export the price history again with a header row")
     return raw
 
@@ -250,9 +254,9 @@ def find_header(path: Path, raw: bytes, delimiter: str | None) -> tuple[int, str
     preamble lines (1-based line, text).
     """
     head = raw[:_HEAD_BYTES].decode("utf-8", errors="replace").lstrip("\ufeff")
-    physical = head.split("\n")
-    if len(raw) > _HEAD_BYTES:
-        physical = physical[:-1]  # the last piece may be cut
+    physical = head.split("\n", 4 * (MAX_PREAMBLE + 21))
+    if len(physical) > 4 * (MAX_PREAMBLE + 21) or len(raw) > _HEAD_BYTES:
+        physical = physical[:-1]  # the rest of the file, or a line that may be cut
     nonblank = [(i, s.rstrip("\r")) for i, s in enumerate(physical) if s.strip()]
     if not nonblank:
         raise VolbenchError(f"{path}: no header row found; the first line must name the columns")
@@ -294,20 +298,26 @@ def _field_counts(raw: bytes, starts: np.ndarray, ends: np.ndarray, delim: str) 
     return np.searchsorted(pos, ends) - np.searchsorted(pos, starts) + 1
 
 
-def _read_c(raw: bytes, delim: str, skip: int, width: int, positions: dict[str, int], encoding: str,
-            text: set[str] | frozenset[str] = TEXT_COLUMNS) -> pd.DataFrame:
+def _read_c(raw: bytes | Path, delim: str, skip: int, width: int, positions: dict[str, int], encoding: str,
+            text: set[str] | frozenset[str] = TEXT_COLUMNS, every: bool = False) -> pd.DataFrame:
+    """The C reader on ``raw`` after ``skip`` lines, columns named by position.
+
+    With ``every`` all ``width`` columns are read, so that a line with more fields raises
+    ``ParserError`` (with only some columns asked for, pandas ignores extra fields).
+    """
     by_pos = {p: name for name, p in positions.items()}
-    use = sorted(p for p in by_pos if p < width)  # a column no row reaches (a cut-off volume) is empty
+    use = None if every else sorted(p for p in by_pos if p < width)  # a column no row reaches is empty
     df = pd.read_csv(
-        io.BytesIO(raw), sep=delim, header=None, names=list(range(width)), usecols=use, skiprows=skip,
-        dtype={p: str for p in use if by_pos[p] in text}, keep_default_na=False, na_values=[""],
-        skip_blank_lines=False, quoting=csv.QUOTE_NONE, encoding=encoding, engine="c",
+        raw if isinstance(raw, Path) else io.BytesIO(raw), sep=delim, header=None, names=list(range(width)), usecols=use, skiprows=skip,
+        dtype={p: str for p in (use or range(width)) if p in by_pos and by_pos[p] in text},
+        keep_default_na=False, na_values=[""],
+        skip_blank_lines=False, encoding=encoding, engine="c",
     )
-    df.columns = [by_pos[p] for p in df.columns]
+    out = {by_pos[p]: df[p] for p in df.columns if p in by_pos}
     for p, name in by_pos.items():
         if p >= width:
-            df[name] = np.nan
-    return df
+            out[name] = pd.Series(np.full(len(df), np.nan))
+    return out
 
 
 def _runs(idx: np.ndarray, lines: np.ndarray, counts: np.ndarray) -> list[tuple[int, int]]:
@@ -355,6 +365,7 @@ def read_table(path: str | Path, delimiter: str | None = None) -> RawTable:
     sha = hashlib.sha256(raw).hexdigest()
     size = len(raw)
     data, encoding = decode(path, raw)
+    src = path if data is raw else data  # pandas reads a file faster from its path than from memory
     del raw
     h, delim, header, preamble = find_header(path, data, delimiter)
     header_line = h + 1
@@ -375,49 +386,109 @@ def read_table(path: str | Path, delimiter: str | None = None) -> RawTable:
         frame, lines, bad_rows, data_rows = _read_quoted(path, data[start:], delim, header_line, width, needed,
                                                          positions, findings)
         return RawTable(path, delim, frame, lines, headers, sha, tuple(findings), data_rows, header_line, size)
-    starts, ends = _line_spans(data, start)
-    counts = _field_counts(data, starts, ends, delim)
-    lines = np.arange(header_line + 1, header_line + 1 + len(starts), dtype=np.int64)
-    lengths = ends - starts
-    blank = lengths - (counts - 1) <= 8  # only delimiters, spaces or a CR: checked one by one below
-    for i in np.flatnonzero(blank):
-        blank[i] = not data[starts[i]:ends[i]].replace(delim.encode(), b"").strip(_BLANK.encode())
+    n_header = len(names)
+    extra = {f"_extra{j}": j for j in range(width, n_header)}
+    fast = _read_fast(data, src, delim, h, start, n_header, needed, {**positions, **extra}, encoding)
+    if fast is not None:
+        frame, counts, blank = fast
+        max_width = n_header
+    else:  # some line has more fields than the header: count the fields of every line
+        starts, ends = _line_spans(data, start)
+        counts = _field_counts(data, starts, ends, delim)
+        blank = _blank(data, starts, ends, counts, delim, np.ones(len(starts), dtype=bool))
+        max_width = int(counts.max()) if len(counts) else width
+        if blank.all():
+            raise VolbenchError(f"{path}: header found but no data rows; the file holds no prices")
+        if ((counts < needed) | blank).all():
+            k = int(np.bincount(counts[~blank]).argmax())
+            raise VolbenchError(_all_rows_bad(path, header_line, k, width, delim))
+        extra = {f"_extra{j}": j for j in range(width, min(max_width, width + 4))}
+        frame = _read_c(src, delim, h + 1, max_width, {**positions, **extra}, encoding)
+        if len(next(iter(frame.values()))) != len(starts):  # pragma: no cover - scan and reader disagree
+            raise VolbenchError(f"{path}: the file's lines could not be matched to its rows; save it again as CSV")
+        wide_unread = (counts > width + len(extra)) & ~blank
+        for i in np.flatnonzero(wide_unread):  # more extra fields than were read: look at the bytes
+            cells = data[starts[i]:ends[i]].split(delim.encode())[width:]
+            wide_unread[i] = any(c.strip(_BLANK.encode()) for c in cells)
+    n = len(next(iter(frame.values())))
+    lines = np.arange(header_line + 1, header_line + 1 + n, dtype=np.int64)
     data_rows = int((~blank).sum())
     if not data_rows:
         raise VolbenchError(f"{path}: header found but no data rows; the file holds no prices")
-    wide = (counts > width) & ~blank
     short = (counts < needed) & ~blank
-    bad = short.copy()
     if short.sum() == data_rows:
         raise VolbenchError(_all_rows_bad(path, header_line, int(np.bincount(counts[short]).argmax()), width, delim))
-    max_width = int(counts.max()) if len(counts) else width
-    read_width = min(max_width, width + 4)
-    frame_positions = dict(positions)
-    extra = {f"_extra{j}": j for j in range(width, read_width)}
-    frame_positions.update(extra)
-    frame = _read_c(data, delim, h + 1, max_width, frame_positions, encoding)
-    if len(frame) != len(starts):  # pragma: no cover - the scan and the C reader disagree
-        raise VolbenchError(f"{path}: the file's lines could not be matched to its rows; save it again as CSV")
-    if wide.any():
-        too_many = wide & (counts > read_width)
-        for i in np.flatnonzero(too_many):  # more extra fields than were read: look at the bytes
-            cells = data[starts[i]:ends[i]].split(delim.encode())[width:]
-            too_many[i] = any(c.strip(_BLANK.encode()) for c in cells)
-        filled = np.zeros(len(frame), dtype=bool)
+    bad = short
+    if extra:
+        filled = np.zeros(n, dtype=bool)
         for name in extra:
             col = frame[name]
             filled |= col.notna().to_numpy() & (col.astype(str).str.strip() != "").to_numpy()
-        bad |= (wide & filled) | too_many
-    frame = frame.drop(columns=list(extra))
+        bad = bad | (filled & ~blank)
+        frame = {k: v for k, v in frame.items() if k not in extra}
+    if fast is None:
+        bad = bad | wide_unread
     if bad.any():
         if bad.sum() == data_rows:
             k = int(np.bincount(counts[bad]).argmax())
             raise VolbenchError(_all_rows_bad(path, header_line, k, width, delim))
         findings += _width_findings(path, lines, counts, bad, width, delim, header_line)
     keep = ~(blank | bad)
-    frame = frame[keep].reset_index(drop=True)
+    if not keep.all():
+        frame = {k: v[keep].reset_index(drop=True) for k, v in frame.items()}
     return RawTable(path, delim, frame, lines[keep], headers, sha, tuple(findings), data_rows, header_line, size,
-                    data, (h + 1, max_width, positions, encoding, keep))
+                    src, (h + 1, max_width, positions, encoding, keep))
+
+
+def _blank(data: bytes, starts, ends, counts, delim: str, candidates: np.ndarray) -> np.ndarray:
+    """Lines holding only delimiters and white space (checked byte by byte on short lines only)."""
+    blank = candidates & ((ends - starts) - (counts - 1) <= 8)
+    for i in np.flatnonzero(blank):
+        blank[i] = not data[starts[i]:ends[i]].replace(delim.encode(), b"").strip(_BLANK.encode())
+    return blank
+
+
+def _read_fast(data: bytes, src: bytes | Path, delim: str, h: int, start: int, n_header: int, needed: int,
+               positions: dict[str, int], encoding: str):
+    """One pass of the C reader when every line has at most the header's fields (the usual file).
+
+    Rows are then the physical lines after the header, in order. Rows with an empty cell in a
+    column we use or in the last column are looked at again, to tell a blank or short line from an
+    empty cell; then the delimiters in the file must number exactly what those field counts add
+    up to, which proves no line has more fields than the header. Returns ``None`` otherwise (the
+    caller counts the fields of every line).
+    """
+    last = f"_last{n_header - 1}"
+    cols = dict(positions)
+    if n_header - 1 not in cols.values():
+        cols[last] = n_header - 1
+    try:
+        frame = _read_c(src, delim, h + 1, n_header, cols, encoding, every=True)
+    except pd.errors.ParserError:
+        return None
+    n = len(next(iter(frame.values())))
+    counts = np.full(n, n_header, dtype=np.int64)
+    blank = np.zeros(n, dtype=bool)
+    used = [c for c in positions if c != "volume" and not c.startswith("_extra")]
+    look = np.zeros(n, dtype=bool)
+    for c in {*used, next(c for c, p in cols.items() if p == n_header - 1)}:
+        v = frame[c].to_numpy()
+        look |= np.isnan(v) if v.dtype.kind == "f" else frame[c].isna().to_numpy()
+    sep = delim.encode()
+    if look.any():
+        starts, ends = _line_spans(data, start)
+        if len(starts) != n:  # pragma: no cover - the lines and the C reader's rows disagree
+            return None
+        idx = np.flatnonzero(look)
+        if len(idx) > 10_000:
+            counts[idx] = _field_counts(data, starts, ends, delim)[idx]
+        else:
+            counts[idx] = [data.count(sep, s, e) + 1 for s, e in zip(starts[idx], ends[idx])]
+        blank = _blank(data, starts, ends, counts, delim, look)
+    if counts.max(initial=0) > n_header or data.count(sep, start) != int((counts - 1).sum()):
+        return None
+    frame.pop(last, None)
+    return frame, counts, blank
 
 
 def _all_rows_bad(path: Path, header_line: int, k: int, width: int, delim: str) -> str:
@@ -504,5 +575,5 @@ def _read_quoted(path: Path, body: bytes, delim: str, header_line: int, width: i
             raise VolbenchError(_all_rows_bad(path, header_line, int(np.bincount(arr_counts).argmax()), width, delim))
         findings += _width_findings(path, arr_lines, arr_counts, np.ones(len(arr_lines), bool), width, delim,
                                     header_line)
-    frame = pd.DataFrame({k: pd.Series(v, dtype=str) for k, v in cols.items()})
+    frame = {k: pd.Series(v, dtype=str) for k, v in cols.items()}
     return frame, np.asarray(lines, dtype=np.int64), bad_lines, data_rows
