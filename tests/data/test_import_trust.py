@@ -285,7 +285,7 @@ def _split_file(tmp_path, with_volume=True):
 
 
 def test_adjust_splits_back_adjusts_prices_and_volume(tmp_path, check_accounts):
-    p, (o, h, lo, c, v) = _split_file(tmp_path)
+    p, (_, _, _, c, _) = _split_file(tmp_path)
     (raw,) = load_prices(p)
     (f,) = [f for f in raw.findings if f.kind == "jump"]
     assert f.line == 122 and "unadjusted 2:1 split" in f.message and "volume changed 2.00x" in f.message
@@ -344,3 +344,15 @@ def test_every_sample_file_accounts_for_every_row(sample_dir, check_accounts):
     for p in sorted(sample_dir.glob("*.csv")):
         for exclude in (False, True):
             check_accounts(p, load_prices(p, exclude_flagged=exclude, adjust_splits=exclude))
+
+
+def test_cli_gives_one_short_line_and_exit_2_for_broken_files(tmp_path, capsys):
+    c = _walk(300)
+    rows = [f"{d},{x:.2f}" for d, x in zip(DAYS, c)]
+    rows[4] = rows[4].replace(",", ',"', 1)
+    stray = _write(tmp_path, "Date,Close\n" + "\n".join(rows) + "\n", "stray.csv")
+    huge = _write(tmp_path, "Date,Close\n" + f'{DAYS[0]},"{"9" * 200_000}"\n', "huge.csv")
+    for p in (stray, huge):
+        code = main(["estimate", str(p)])
+        err = capsys.readouterr().err
+        assert code == 2 and len(err.strip().splitlines()) == 1 and len(err) < 400, err[:500]

@@ -14,7 +14,7 @@ import pytest
 from volbench.data import load_prices
 
 pytest.importorskip("arch.data.sp500")
-from arch.data import nasdaq, sp500  # noqa: E402
+from arch.data import nasdaq, sp500
 
 HISTORIES = {"sp500": sp500, "nasdaq": nasdaq}
 

@@ -90,7 +90,8 @@ def test_a_later_write_removes_temp_files_left_by_a_killed_export(tmp_path):
     # a process that has ended: start one and wait for it (its pid is then free)
     import subprocess
     import sys
-    done = subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"], capture_output=True, text=True)
+    done = subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"], capture_output=True, text=True,
+                          check=True)
     dead = int(done.stdout)
     left = tmp_path / f".sheet.xlsx.vb{dead}-0123456789ab.tmp"
     left.write_bytes(b"")

@@ -185,7 +185,7 @@ def _parse_rows(table: RawTable, opts: ImportOptions):
     date_col = frame["date"]
     if opts.date_format != EXCEL and not (pd.api.types.is_string_dtype(date_col) or date_col.dtype == object):
         date_col = table.texts(["date"])["date"]
-    dates, tz_note = parse_dates(date_col, opts.date_format, frame["time"] if "time" in frame else None)
+    dates, tz_note = parse_dates(date_col, opts.date_format, frame.get("time"))
     if tz_note is not None:
         findings.append(tz_note)
     bad_date = np.isnat(dates)

@@ -204,7 +204,7 @@ def check_jumps(dates, c, lines, jump_z: float, jump_min: float, volume=None) ->
             support = _volume_support(volume, row, factor)
             out.append(Finding("warning", "jump", line, when, "close",
                                f"close moved {ratio:.3f}x ({c[row - 1]:g} to {c[row]:g}) and stayed there{support}: "
-                               f"looks like an unadjusted {label}; adjust earlier prices for it (--adjust-splits; "
+                               f"looks like an unadjusted {label}; adjust earlier prices for it (Adjust splits, or --adjust-splits; "
                                "excluding the row does not remove the jump)", (line,)))
             continue
         why = ("matches no split ratio" if split is None

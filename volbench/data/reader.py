@@ -16,6 +16,7 @@ from __future__ import annotations
 import csv
 import hashlib
 import io
+import itertools
 import re
 from dataclasses import dataclass
 from pathlib import Path
@@ -120,8 +121,8 @@ class RawTable:
         need = []
         for name in names:
             col = self.frame[name]
-            if _is_text(col) and not _mixed(col):
-                out[name] = col
+            if pd.api.types.is_string_dtype(col) and col.dtype != object:
+                out[name] = col  # text exactly as written (an object column may mix parsed numbers in)
             else:
                 need.append(name)
         if need:
@@ -133,17 +134,6 @@ class RawTable:
             for name in need:
                 out[name] = df[name] if keep.all() else df[name][keep].reset_index(drop=True)
         return out
-
-
-def _is_text(col: pd.Series) -> bool:
-    return not (pd.api.types.is_float_dtype(col) or pd.api.types.is_integer_dtype(col))
-
-
-def _mixed(col: pd.Series) -> bool:
-    """An object column holding numbers as well as text (pandas' chunked type inference)."""
-    if col.dtype != object:
-        return False
-    return bool(col.map(lambda v: isinstance(v, float) and v == v).any())
 
 
 # ------------------------------------------------------------------------------------ bytes
@@ -326,7 +316,7 @@ def _runs(idx: np.ndarray, lines: np.ndarray, counts: np.ndarray) -> list[tuple[
         return []
     brk = np.flatnonzero((np.diff(lines[idx]) != 1) | (np.diff(counts[idx]) != 0)) + 1
     bounds = np.concatenate([[0], brk, [len(idx)]])
-    return [(int(a), int(b)) for a, b in zip(bounds[:-1], bounds[1:])]
+    return [(int(a), int(b)) for a, b in itertools.pairwise(bounds)]
 
 
 def _width_findings(path: Path, lines: np.ndarray, counts: np.ndarray, bad: np.ndarray, width: int,
@@ -339,7 +329,7 @@ def _width_findings(path: Path, lines: np.ndarray, counts: np.ndarray, bad: np.n
         where = f"line {rows[0]}" if n == 1 else f"lines {rows[0]}-{rows[-1]} ({n} rows)"
         if k > width:
             cause = ("likely cause: numbers written with an unquoted thousands separator or decimal comma "
-                     f"(e.g. 4,960) split into two fields; quote such numbers or save the file with ';' "
+                     "(e.g. 4,960) split into two fields; quote such numbers or save the file with ';' "
                      "separators" if delim == "," else
                      f"likely cause: an unquoted {delim!r} inside a value; quote such values")
         else:
@@ -383,7 +373,7 @@ def read_table(path: str | Path, delimiter: str | None = None) -> RawTable:
             f"skipped, starting with {clip(text)}"))
     start = _offset_of_line(data, h + 1)
     if b'"' in data[start:]:
-        frame, lines, bad_rows, data_rows = _read_quoted(path, data[start:], delim, header_line, width, needed,
+        frame, lines, _, data_rows = _read_quoted(path, data[start:], delim, header_line, width, needed,
                                                          positions, findings)
         return RawTable(path, delim, frame, lines, headers, sha, tuple(findings), data_rows, header_line, size)
     n_header = len(names)

@@ -23,7 +23,14 @@ from volbench.data.load import Cancelled as LoadCancelled
 from volbench.errors import VolbenchError
 from volbench.gui import compute
 from volbench.gui.controller import Controller, Results
-from volbench.gui.dialogs import HelpDialog, ask_yes_no, confirm_overwrite, error_text, guarded, show_error
+from volbench.gui.dialogs import (
+    HelpDialog,
+    ask_yes_no,
+    confirm_overwrite,
+    error_text,
+    guarded,
+    show_error,
+)
 from volbench.gui.import_dialog import ImportDialog
 from volbench.gui.loading import Loaded, load_files
 from volbench.gui.panes.comparison_pane import ComparisonPane
@@ -310,9 +317,11 @@ class MainWindow(QMainWindow):
             show_error(self, "how to read the files", exc)
             return
 
-        def job(progress, cancel, paths=list(paths), options=options, taken=frozenset(taken)):
+        todo, names = tuple(paths), frozenset(taken)
+
+        def job(progress, cancel):
             try:
-                return load_files(paths, options, taken=taken, progress=progress, cancel=cancel)
+                return load_files(todo, options, taken=names, progress=progress, cancel=cancel)
             except LoadCancelled:
                 raise Cancelled() from None
 
