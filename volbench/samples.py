@@ -21,9 +21,9 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from volbench.sample_quotes import write_sample_quotes
 from volbench import sample_events
 from volbench.sample_intraday import write_intraday_sample
+from volbench.sample_quotes import write_sample_quotes
 
 SEED = 20261201
 STEPS_PER_BAR = 390

@@ -153,13 +153,14 @@ def test_check_json_contract(capsys, ohlc_file):
 def test_check_table_on_the_split_sample(capsys, sample_dir):
     code, out, _ = _run(capsys, "check", sample_dir / "quillon_textiles.csv")
     assert code == 0
-    assert "2 errors, 4 warnings, 0 notes" in out
+    assert "2 errors, 4 warnings, 1 notes" in out
     assert "unadjusted 2:1 split" in out and "bad tick" in out
 
 
 def test_check_clean_file(capsys, close_only_file):
     code, out, _ = _run(capsys, "check", close_only_file)
-    assert code == 0 and "no findings" in out
+    assert code == 0 and "0 errors, 0 warnings, 1 notes" in out
+    assert "numbers read with ',' as the decimal mark, as cells such as" in out
 
 
 # ------------------------------------------------------------------------------- bad input

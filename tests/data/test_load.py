@@ -200,7 +200,13 @@ def test_exclude_flagged_rows_changes_numbers_and_records_the_choice(tmp_path):
     (excl,) = load_prices(p, exclude_flagged=True)
     assert excl.n == 5 and excl.exclude_flagged and excl.excluded_lines == (4, 7)
     assert list(excl.lines) == [2, 3, 5, 6, 8]
-    assert excl.findings == kept.findings  # the findings stay visible
+    assert set(kept.findings) <= set(excl.findings)  # the findings stay visible
+    # each left-out bar between kept bars is named: the return across it spans two bars
+    notes = [(f.kind, f.line, f.message) for f in excl.findings if f not in kept.findings]
+    assert notes == [
+        ("excluded_gap", 5, "line 4 left out as flagged: the return from 2021-03-02 to 2021-03-04 spans 2 bars"),
+        ("excluded_gap", 8, "line 7 left out as flagged: the return from 2021-03-05 to 2021-03-09 spans 2 bars"),
+    ]
     prov = excl.provenance()
     assert prov["flagged_rows"] == "excluded" and prov["excluded_lines"] == [4, 7]
     rep_k, rep_e = estimate_all(kept), estimate_all(excl)

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from volbench.data import load_prices
-from volbench.data.reader import ALIASES, normalise_header, read_table, sniff_delimiter
+from volbench.data.reader import ALIASES, find_header, normalise_header, read_table
 from volbench.errors import VolbenchError
 
 ROWS = [("2021-03-01", 10.0, 10.6, 9.8, 10.4, 1200), ("2021-03-02", 10.4, 10.9, 10.1, 10.7, 1500),
@@ -125,13 +125,17 @@ def test_forced_delimiter(tmp_path):
     p = _write(tmp_path, "Date|Close\n2021-03-01|10\n")
     with pytest.raises(VolbenchError, match="no date column among headers 'Date|Close'"):
         load_prices(p)
-    assert read_table(p, "|").columns["close"] == ["10"]
+    assert list(read_table(p, "|").columns["close"]) == [10.0]
 
 
-def test_sniff_delimiter_falls_back_to_header_counts():
-    assert sniff_delimiter("a;b;c\n") == ";"
-    assert sniff_delimiter("a\tb\n") == "\t"
-    assert sniff_delimiter("abc\n") == ","
+@pytest.mark.parametrize(("text", "delim"), [
+    ("Date;Close\n2021-03-01;10,5\n", ";"),            # the commas are decimal marks, not separators
+    ("Date\tClose\n2021-03-01\t1,234.5\n", "\t"),
+])
+def test_delimiter_is_the_one_that_splits_the_header_into_date_and_close(tmp_path, text, delim):
+    # common practice, no source: the header names the columns, so it fixes the separator
+    p = _write(tmp_path, text)
+    assert find_header(p, text.encode(), None)[1] == delim
 
 
 def test_utf8_bom_and_windows_line_endings(tmp_path):
@@ -146,8 +150,9 @@ def test_line_numbers_count_blank_lines_and_multiline_quotes(tmp_path):
     p = _write(tmp_path, text)
     (h,) = load_prices(p)
     assert list(h.lines) == [2, 6]
-    (f,) = h.findings
-    assert (f.kind, f.line, f.date, f.column) == ("non_numeric", 4, "2021-03-02", "close")
+    (f,) = h.findings  # a quoted cell over two lines is never a price: the record is left out
+    assert (f.severity, f.kind, f.line, f.lines) == ("error", "quote_span", 4, (4, 5))
+    assert f.message.startswith("line 4: a quoted cell runs over 2 lines (to line 5), swallowing 1 line;")
 
 
 # ------------------------------------------------------------------------- unreadable input

@@ -64,9 +64,47 @@ def test_failure_mid_write_keeps_old_file_and_removes_temp(tmp_path):
     with pytest.raises(VolbenchError, match=r"could not write .*sheet\.xlsx: no space left on the device; "
                                             r".*the existing file is unchanged"):
         atomic_write(target, half_then_disk_full, overwrite=True)
-    assert len(seen["temp"]) == 1 and seen["temp"][0].startswith(".sheet.xlsx.")  # it really was half-written
+    assert seen["temp"] == []  # the content is built before any temporary file exists
     assert target.read_bytes() == b"old content"
     assert _listing(tmp_path) == ["sheet.xlsx"]
+
+
+def test_disk_full_while_writing_the_temp_file_removes_it(tmp_path, monkeypatch):
+    target = tmp_path / "sheet.xlsx"
+    target.write_bytes(b"old content")
+    seen = {}
+
+    def full(fd):
+        seen["temp"] = [p for p in _listing(tmp_path) if p != "sheet.xlsx"]
+        raise OSError(errno.ENOSPC, "No space left on device")
+
+    monkeypatch.setattr(atomic_mod.os, "fsync", full)
+    with pytest.raises(VolbenchError, match=r"no space left on the device; .*the existing file is unchanged"):
+        atomic_write(target, b"new content", overwrite=True)
+    assert len(seen["temp"]) == 1 and seen["temp"][0].startswith(".sheet.xlsx.vb")  # it really existed
+    assert target.read_bytes() == b"old content"
+    assert _listing(tmp_path) == ["sheet.xlsx"]
+
+
+def test_a_later_write_removes_temp_files_left_by_a_killed_export(tmp_path):
+    # a process that has ended: start one and wait for it (its pid is then free)
+    import subprocess
+    import sys
+    done = subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"], capture_output=True, text=True,
+                          check=True)
+    dead = int(done.stdout)
+    left = tmp_path / f".sheet.xlsx.vb{dead}-0123456789ab.tmp"
+    left.write_bytes(b"")
+    mine = tmp_path / f".sheet.xlsx.vb{os.getpid()}-0123456789ab.tmp"  # a live writer's: kept
+    mine.write_bytes(b"")
+    other = tmp_path / ".other.xlsx.vb1-0123456789ab.tmp"  # another name's: not ours to judge
+    other.write_bytes(b"")
+    unrelated = tmp_path / ".sheet.xlsx.someone.tmp"
+    unrelated.write_bytes(b"")
+    atomic_write(tmp_path / "sheet.xlsx", b"new")
+    if os.name == "posix":
+        assert not left.exists()
+    assert mine.exists() and other.exists() and unrelated.exists()
 
 
 def test_failed_rename_keeps_old_file_and_removes_temp(tmp_path, monkeypatch):

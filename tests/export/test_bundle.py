@@ -73,12 +73,13 @@ def test_provenance_names_file_hash_version_settings_and_quality(make_bundle, sa
     assert row["window"] == "all" and row["annualization"] == 365.0
     assert row["flagged_rows"] == "excluded"
     assert row["excluded_lines"] == " ".join(str(x) for x in hs[0].excluded_lines) != ""
-    assert row["findings"] == "2 errors, 4 warnings, 0 notes"
+    # notes: opens at the previous close, and one per excluded bar (the return across it spans two bars)
+    assert row["findings"] == "2 errors, 4 warnings, 4 notes"
     assert row["created"] == "2024-10-18T07:30:05Z"
     settings = json.loads(row["settings"])
     assert settings["annualization"] == 365.0 and settings["estimator_options"]["ewma_lambda"] == 0.97
     assert b.provenance["series"][0]["sha256"] == row["source_sha256"]
-    findings = b.table("findings")
+    findings = b.table("findings").dropna(subset=["line"])  # file-wide notes have no line
     treat = dict(zip(findings["line"].astype(int), findings["treatment"]))
     assert treat[102] == "left out at import" and treat[302] == "excluded"
     inputs = b.table("inputs")

@@ -36,9 +36,9 @@ def test_loading_a_sample_file_fills_every_pane(make_window, quillon):
     assert w.open_files([quillon]) == 1
     series = table(w, "series_table")
     assert list(series["series"]) == ["quillon_textiles"]
-    assert series.loc[0, "quality"] == "2 rows unusable, 4 warnings"
+    assert series.loc[0, "quality"] == "2 rows unusable, 4 warnings, 1 note"
     findings = table(w, "findings_table")
-    assert len(findings) == 6 and set(findings["severity"]) == {"error", "warning"}
+    assert len(findings) == 7 and set(findings["severity"]) == {"error", "warning", "info"}
     assert len(table(w, "estimates_table")) == len(REGISTRY)
     assert len(line(w, "rolling_plot", "Close-to-close").xData) > 1000
     assert len(table(w, "verdict_table")) == 4

@@ -12,7 +12,6 @@ from volbench.errors import VolbenchError
 from volbench.estimators import point_estimate
 from volbench.intraday.sessions import (
     DAY_SECONDS,
-    combine_date_time,
     daily_bars,
     format_interval,
     infer_layout,
@@ -114,19 +113,3 @@ def test_daily_bars_recover_the_vol_that_raw_intraday_bars_understate(sim_intrad
     est = point_estimate(daily_bars(h), "close_to_close")
     assert est.ci_low < 0.2 < est.ci_high
 
-
-def test_combine_date_time_reads_common_layouts():
-    got = combine_date_time(["2024-03-01", "2024-03-01", "2024-03-01", "2024-03-04"],
-                            ["09:35", "9:40", "09:45:30", "16:00:00.5"])
-    want = pd.to_datetime(["2024-03-01 09:35", "2024-03-01 09:40", "2024-03-01 09:45:30",
-                           "2024-03-04 16:00:00.5"], format="ISO8601").to_numpy()
-    np.testing.assert_array_equal(got, want)
-    eu = combine_date_time(["01/03/2024"], ["09:35 AM"], date_format="%d/%m/%Y", time_format="%I:%M %p")
-    assert pd.Timestamp(eu[0]) == pd.Timestamp("2024-03-01 09:35")
-
-
-def test_combine_date_time_marks_unreadable_cells_as_nat():
-    got = combine_date_time(["2024-03-01", "not a date", "2024-03-01"], ["09:35", "09:40", "25:00"])
-    assert not np.isnat(got[0]) and np.isnat(got[1]) and np.isnat(got[2])
-    with pytest.raises(VolbenchError, match="2 date cells but 1 time cells"):
-        combine_date_time(["2024-03-01", "2024-03-02"], ["09:35"])

@@ -11,11 +11,13 @@ from volbench.cli.common import (
     add_as_of,
     add_file_options,
     add_format,
+    adjustments_line,
     load_from_args,
     pct,
     print_json,
     render_table,
     window_or_all,
+    with_import,
 )
 from volbench.estimators import REGISTRY, estimate_all
 from volbench.types import check_window
@@ -47,7 +49,9 @@ def register(sub) -> None:
         "check", help="data-quality findings for price files",
         description="List data-quality findings: missing or non-numeric values, non-positive prices, "
                     "high below low, open/close outside the range, duplicate dates, calendar gaps, "
-                    "stale closes and jumps that look like unadjusted splits or bad ticks.",
+                    "stale closes and jumps that look like unadjusted splits or bad ticks (genuine large "
+                    "moves are noted, not flagged), rows whose field count differs from the header's, "
+                    "and how the numbers were read.",
     )
     add_file_options(c)
     add_format(c)
@@ -59,7 +63,7 @@ def run_estimate(args: argparse.Namespace) -> int:
     histories = load_from_args(args)
     reports = [estimate_all(h, window, as_of=args.as_of, annualization=args.annualization) for h in histories]
     if args.format == "json":
-        print_json({"series": [r.as_dict() for r in reports]})
+        print_json({"series": [with_import(r.as_dict(), r.history) for r in reports]})
         return 0
     if args.format == "csv":
         w = csv.writer(sys.stdout, lineterminator="\n")
@@ -87,6 +91,8 @@ def run_estimate(args: argparse.Namespace) -> int:
               f"flagged rows {'excluded' if h.exclude_flagged else 'kept'}"
               + (f" ({len([f for f in h.findings if f.severity != 'info'])} findings: run 'volbench check')"
                  if any(f.severity != "info" for f in h.findings) else ""))
+        if adjustments_line(h):
+            print(adjustments_line(h))
         rows = []
         for k, spec in REGISTRY.items():
             if k in r.estimates:
@@ -107,8 +113,9 @@ def run_estimate(args: argparse.Namespace) -> int:
 def run_check(args: argparse.Namespace) -> int:
     histories = load_from_args(args)
     if args.format == "json":
-        print_json({"series": [{"name": h.name, "source": str(h.source) if h.source else None,
-                                "rows": h.n, "findings": [f.as_dict() for f in h.findings]} for h in histories]})
+        print_json({"series": [with_import({"name": h.name, "source": str(h.source) if h.source else None,
+                                            "rows": h.n, "findings": [f.as_dict() for f in h.findings]}, h)
+                               for h in histories]})
         return 0
     for i, h in enumerate(histories):
         if i:
@@ -116,6 +123,8 @@ def run_check(args: argparse.Namespace) -> int:
         counts = {s: sum(f.severity == s for f in h.findings) for s in ("error", "warning", "info")}
         print(f"{h.name}  ({h.source.name if h.source else ''}: {h.n} usable rows, {h.first_date} to {h.last_date}) "
               f"- {counts['error']} errors, {counts['warning']} warnings, {counts['info']} notes")
+        if adjustments_line(h):
+            print(adjustments_line(h))
         if h.findings:
             rows = [[f.severity, f.kind, f.line or "", f.date or "", f.column or "", f.message] for f in h.findings]
             print(render_table(["severity", "kind", "line", "date", "column", "message"], rows, "llrlll"))

@@ -10,6 +10,7 @@ from volbench.cli.common import (
     add_annualization,
     add_as_of,
     add_file_options,
+    import_options,
     load_from_args,
     window_or_all,
 )
@@ -86,8 +87,7 @@ def run_export(args: argparse.Namespace) -> int:
         pricing_vol=args.pricing_vol, days=args.days, option=option,
         cone_estimator=args.cone_estimator, include_scaling=not args.no_scaling,
         include_garch=args.with_garch,
-        import_settings={"date_format": args.date_format, "exclude_flagged": args.exclude_flagged,
-                         "adjusted": args.adjusted, "gap_days": args.gap_days},
+        import_settings=import_options(args).as_dict(),
     )
     path = write_export(target, bundle, overwrite=args.force)
     if fmt == ".csv":

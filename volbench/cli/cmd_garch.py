@@ -16,6 +16,7 @@ from volbench.cli.common import (
     pct,
     print_json,
     render_table,
+    with_import,
 )
 from volbench.models import (
     DEFAULT_SEED,
@@ -87,7 +88,7 @@ def run_garch(args: argparse.Namespace) -> int:
     if show:
         sys.stderr.write("\n")
     if args.format == "json":
-        print_json({"series": [r.as_dict() for r in results]})
+        print_json({"series": [with_import(r.as_dict(), h) for h, r in zip(histories, results)]})
         return 0
     for i, (h, r) in enumerate(zip(histories, results)):
         if i:

@@ -19,6 +19,7 @@ from volbench.cli.common import (
     print_json,
     render_table,
     start_text,
+    with_import,
 )
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY
@@ -138,7 +139,7 @@ def run_cone(args: argparse.Namespace) -> int:
                       annualization=args.annualization, hodges_tompkins=args.hodges_tompkins)
              for h in histories]
     if args.format == "json":
-        print_json({"series": [c.as_dict() for c in cones]})
+        print_json({"series": [with_import(c.as_dict(), h) for h, c in zip(histories, cones)]})
         return 0
     for i, c in enumerate(cones):
         if i:
@@ -221,7 +222,7 @@ def run_compare(args: argparse.Namespace) -> int:
     if reasons:
         comp = replace(comp, unavailable={**comp.unavailable, **reasons})
     if args.format == "json":
-        out = comp.as_dict()
+        out = with_import(comp.as_dict(), history)
         if promises is not None:
             p = promises.as_dict()
             out.update({k: p.pop(k) for k in PROMISE_KEYS})

@@ -4,20 +4,18 @@ from __future__ import annotations
 
 import argparse
 import math
-from pathlib import Path
 
 from volbench.cli.common import (
     add_annualization,
     add_file_options,
     add_format,
+    load_from_args,
     parse_int_list,
     pct,
     print_json,
     render_table,
 )
-from volbench.data.quality import QualitySettings
 from volbench.intraday.jumps import JUMP_ALPHA
-from volbench.intraday.reading import load_bars
 from volbench.intraday.report import RealizedReport, realized_report
 from volbench.intraday.sessions import format_interval
 from volbench.models.term import DEFAULT_TERM_HORIZONS
@@ -36,8 +34,6 @@ def register(sub) -> None:
         epilog="Vols are annualized per trading day. Statistical evidence under stated assumptions, not advice.",
     )
     add_file_options(p)
-    p.add_argument("--time-format", metavar="FMT", default=None,
-                   help="strftime format of a separate time column, e.g. %%I:%%M %%p (default H:MM[:SS])")
     p.add_argument("--session-break", metavar="DURATION", default=None,
                    help="a gap longer than this starts a new session, e.g. 4h (default: one session per "
                         "calendar date); for sessions that cross midnight")
@@ -55,26 +51,12 @@ def register(sub) -> None:
     p.set_defaults(func=run_realized)
 
 
-def _load(args: argparse.Namespace):
-    out, seen = [], set()
-    quality = QualitySettings(gap_days=args.gap_days)
-    for f in args.files:
-        for h in load_bars(f, date_format=args.date_format, time_format=args.time_format,
-                           exclude_flagged=args.exclude_flagged, use_adjusted=args.adjusted, quality=quality):
-            if h.name in seen:
-                from dataclasses import replace
-                h = replace(h, name=f"{h.name} ({Path(f).stem})")
-            seen.add(h.name)
-            out.append(h)
-    return out
-
-
 def run_realized(args: argparse.Namespace) -> int:
     a = check_annualization(args.annualization)
     horizons = parse_int_list(args.horizons, "horizons")
     reports = [realized_report(h, session_break=args.session_break, sampling=args.sampling, annualization=a,
                                jump_alpha=args.jump_alpha, verdict_alpha=args.alpha, horizons=horizons)
-               for h in _load(args)]
+               for h in load_from_args(args)]
     if args.format == "json":
         print_json({"series": [r.as_dict() for r in reports]})
         return 0

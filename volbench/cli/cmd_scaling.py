@@ -15,6 +15,7 @@ from volbench.cli.common import (
     pct,
     print_json,
     render_table,
+    with_import,
 )
 from volbench.scaling import DEFAULT_HORIZONS, ScalingResult, scaling_check
 from volbench.scaling.check import check_alpha
@@ -58,7 +59,7 @@ def run_scaling(args: argparse.Namespace) -> int:
     histories = load_from_args(args)
     results = [scaling_check(h, horizons, alpha=alpha, annualization=args.annualization) for h in histories]
     if args.format == "json":
-        print_json({"series": [r.as_dict() for r in results]})
+        print_json({"series": [with_import(r.as_dict(), h) for h, r in zip(histories, results)]})
         return 0
     for i, r in enumerate(results):
         if i:

@@ -11,6 +11,7 @@ from collections.abc import Sequence
 from volbench import validate
 from volbench.data import load_many
 from volbench.data.history import PriceHistory
+from volbench.data.options import DECIMALS, DELIMITER_NAMES, THOUSANDS, ImportOptions
 from volbench.data.quality import QualitySettings
 from volbench.errors import VolbenchError
 from volbench.formatting import pct as _pct
@@ -22,14 +23,48 @@ def add_file_options(p: argparse.ArgumentParser, *, many: bool = True) -> None:
     p.add_argument("files", nargs="+" if many else 1, metavar="FILE",
                    help="price CSV file(s): a date column and a close column at least; "
                         "open/high/low enable the range estimators; a symbol column holds several series")
-    p.add_argument("--date-format", metavar="FMT", default=None,
-                   help="strftime format of the date column when it is not ISO, e.g. %%d/%%m/%%Y")
-    p.add_argument("--exclude-flagged", action="store_true",
-                   help="leave out rows flagged by data-quality warnings (kept by default; the choice is reported)")
-    p.add_argument("--adjusted", action="store_true",
+    g = p.add_argument_group("reading the files (docs/METHODS.md, Import)")
+    g.add_argument("--date-format", metavar="FMT", default=None,
+                   help="strftime format of the date column when it is not ISO, e.g. %%d/%%m/%%Y; "
+                        "'excel' for spreadsheet serial day numbers")
+    g.add_argument("--delimiter", metavar="D", default=None,
+                   choices=[*DELIMITER_NAMES, "tab"],
+                   help="field separator: ',', ';', tab or '|' (default: inferred from the header line)")
+    g.add_argument("--decimal", choices=list(DECIMALS), default=None,
+                   help="decimal mark (default: inferred from every number; refused when the file does not say)")
+    g.add_argument("--thousands", choices=list(THOUSANDS), default=None,
+                   help="thousands separator, or none (default: inferred from every number)")
+    g.add_argument("--adjusted", action="store_true",
                    help="use the adjusted close (open/high/low scaled to match) when the file has one")
-    p.add_argument("--gap-days", type=int, default=QualitySettings.gap_days, metavar="D",
+    g.add_argument("--adjust-splits", action="store_true",
+                   help="back-adjust every detected unadjusted split (earlier prices divided by the ratio, "
+                        "volume multiplied by it); each adjustment is reported")
+    g.add_argument("--exclude-flagged", action="store_true",
+                   help="leave out rows flagged by data-quality warnings (kept by default; the choice is reported)")
+    g.add_argument("--gap-days", type=int, default=QualitySettings.gap_days, metavar="D",
                    help="report calendar gaps longer than D days (default %(default)s)")
+
+
+def import_options(args: argparse.Namespace) -> ImportOptions:
+    """The one :class:`ImportOptions` built from the command line's import flags."""
+    return ImportOptions(
+        delimiter=args.delimiter, decimal=args.decimal, thousands=args.thousands,
+        date_format=args.date_format, use_adjusted=args.adjusted, adjust_splits=args.adjust_splits,
+        exclude_flagged=args.exclude_flagged, quality=QualitySettings(gap_days=args.gap_days),
+    )
+
+
+def with_import(d: dict, history: PriceHistory) -> dict:
+    """A series' JSON record with the splits applied at import (``"adjustments"``)."""
+    return {**d, "adjustments": [a.as_dict() for a in history.adjustments]}
+
+
+def adjustments_line(history: PriceHistory) -> str | None:
+    """One line naming the splits applied at import, for table output."""
+    if not history.adjustments:
+        return None
+    shown = "; ".join(f"{a.label} on {a.date} (line {a.line})" for a in history.adjustments)
+    return f"prices adjusted for {shown}"
 
 
 def add_annualization(p: argparse.ArgumentParser) -> None:
@@ -73,13 +108,7 @@ def load_from_args(args: argparse.Namespace) -> list[PriceHistory]:
     """Load every FILE with the shared import options."""
     if getattr(args, "annualization", None) is not None:
         check_annualization(args.annualization)
-    return load_many(
-        args.files,
-        date_format=args.date_format,
-        exclude_flagged=args.exclude_flagged,
-        use_adjusted=args.adjusted,
-        quality=QualitySettings(gap_days=args.gap_days),
-    )
+    return load_many(args.files, import_options(args))
 
 
 def parse_int_list(text: str, what: str) -> list[int]:

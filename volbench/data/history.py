@@ -68,12 +68,40 @@ FINDING_KINDS = (
     "stale_run",
     "jump",
     "sorted",
+    "large_move",
+    "stale_open",
+    "field_count",
+    "quote_span",
+    "preamble",
+    "separators",
+    "time_zone",
+    "split_adjusted",
+    "excluded_gap",
 )
+
+LEFT_OUT_KINDS = frozenset({"duplicate_date"})
+"""Warning kinds whose row is always left out (the other row with that date is kept)."""
+
+
+@dataclass(frozen=True)
+class Adjustment:
+    """One split applied by ``adjust_splits``: prices before ``date`` were divided by ``ratio``
+    (2.0 for a 2:1 split; volume multiplied by it). ``line`` is the first bar at the new level."""
+
+    date: str
+    ratio: float
+    line: int
+    label: str
+
+    def as_dict(self) -> dict:
+        return {"date": self.date, "ratio": self.ratio, "line": self.line, "label": self.label}
 
 
 def _ro(a: np.ndarray | None, dtype) -> np.ndarray | None:
     if a is None:
         return None
+    if isinstance(a, np.ndarray) and a.dtype == dtype and not a.flags.writeable and a.base is None:
+        return a  # already a read-only array that owns its memory (made by the loader): no copy
     out = np.array(a, dtype=dtype, copy=True)
     out.setflags(write=False)
     return out
@@ -106,6 +134,8 @@ class PriceHistory:
         File lines removed by that choice (empty when flagged rows are kept).
     price_basis
         ``"close"`` or ``"adjusted close"``: which close column the prices come from.
+    adjustments
+        Splits applied at import (see :class:`Adjustment`); empty unless asked for.
     """
 
     name: str
@@ -121,7 +151,9 @@ class PriceHistory:
     exclude_flagged: bool = False
     excluded_lines: tuple[int, ...] = ()
     price_basis: str = "close"
+    adjustments: tuple[Adjustment, ...] = ()
     _sha256: str | None = field(default=None, repr=False)
+    _size: int | None = field(default=None, repr=False)
 
     def __post_init__(self) -> None:
         n = len(self.close)
@@ -138,8 +170,9 @@ class PriceHistory:
         lines = np.arange(2, n + 2) if self.lines is None else self.lines
         set_(self, "lines", _ro(lines, np.int64))
         set_(self, "findings", tuple(self.findings))
+        set_(self, "adjustments", tuple(self.adjustments))
         set_(self, "excluded_lines", tuple(int(x) for x in self.excluded_lines))
-        if n > 1 and not np.all(np.diff(self.dates.astype(np.int64)) > 0):
+        if n > 1 and not np.all(self.dates[1:] > self.dates[:-1]):
             raise VolbenchError(f"{self.name}: dates must be strictly increasing")
 
     # ------------------------------------------------------------------ basic facts
@@ -183,9 +216,23 @@ class PriceHistory:
         return frozenset(out)
 
     @property
+    def left_out_lines(self) -> frozenset[int]:
+        """File lines named by findings whose rows were left out at import (errors, duplicates)."""
+        out: set[int] = set()
+        for f in self.findings:
+            if f.severity == "error" or f.kind in LEFT_OUT_KINDS:
+                out.update(f.lines or ((f.line,) if f.line is not None else ()))
+        return frozenset(out)
+
+    @property
     def sha256(self) -> str | None:
         """SHA-256 of the source file's bytes at load time (provenance)."""
         return self._sha256
+
+    @property
+    def source_size(self) -> int | None:
+        """Size in bytes of the source file at load time (with :attr:`sha256`, tells a changed file)."""
+        return self._size
 
     def log_returns(self) -> np.ndarray:
         """Close-to-close log returns r_t = ln(C_t / C_{t-1}), length n - 1."""
@@ -215,7 +262,9 @@ class PriceHistory:
                 f"{self.name}: every one of its {self.n} rows is flagged by a data-quality warning, so "
                 "leaving flagged rows out leaves nothing; keep flagged rows or correct the file"
             )
-        return self.take(keep, exclude_flagged=True, excluded_lines=tuple(sorted(int(x) for x in self.lines[~keep])))
+        notes = _gap_notes(self, keep)
+        return self.take(keep, exclude_flagged=True, excluded_lines=tuple(sorted(int(x) for x in self.lines[~keep])),
+                         findings=tuple(sorted(self.findings + notes, key=_finding_order)))
 
     def take(self, mask: np.ndarray, **changes) -> PriceHistory:
         """A copy keeping the rows where ``mask`` is true (findings and provenance carried over)."""
@@ -254,7 +303,31 @@ class PriceHistory:
             "price_basis": self.price_basis,
             "flagged_rows": "excluded" if self.exclude_flagged else "kept",
             "excluded_lines": list(self.excluded_lines),
+            "adjustments": [a.as_dict() for a in self.adjustments],
         }
+
+
+def _finding_order(f: Finding):
+    return (f.line if f.line is not None else 0, f.kind)
+
+
+def _gap_notes(h: PriceHistory, keep: np.ndarray) -> tuple[Finding, ...]:
+    """One ``info`` finding per run of left-out rows between two kept rows: the return across
+    the gap spans several bars."""
+    idx = np.flatnonzero(keep)
+    if len(idx) < 2:
+        return ()
+    span = np.diff(idx)
+    out = []
+    for j in np.flatnonzero(span > 1):
+        a, b = idx[j], idx[j + 1]
+        gone = [int(x) for x in h.lines[a + 1:b]]
+        what = f"line {gone[0]}" if len(gone) == 1 else f"lines {', '.join(map(str, gone[:5]))}" + (
+            ", ..." if len(gone) > 5 else "")
+        out.append(Finding("info", "excluded_gap", int(h.lines[b]), _iso(h.dates[b]), "close",
+                           f"{what} left out as flagged: the return from {_iso(h.dates[a])} to {_iso(h.dates[b])} "
+                           f"spans {b - a} bars"))
+    return tuple(out)
 
 
 def _iso(d: np.datetime64) -> str:

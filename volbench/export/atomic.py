@@ -8,8 +8,11 @@ must never replace a file the user did not mean to replace. Every export writer 
 from __future__ import annotations
 
 import errno
+import io
 import os
+import re
 import secrets
+import time
 from collections.abc import Callable
 from contextlib import suppress
 from pathlib import Path
@@ -21,6 +24,8 @@ Payload = bytes | str | Callable[[BinaryIO], None]
 """What to write: bytes, text (written as UTF-8), or a function that writes into a binary file."""
 
 _TEMP_ATTEMPTS = 50
+_STALE_SECONDS = 24 * 3600
+"""A temporary file of ours whose writer cannot be checked is removed once this old."""
 
 
 class _NameTaken(Exception):
@@ -53,13 +58,16 @@ def atomic_write(path: str | os.PathLike, data: Payload, *, overwrite: bool = Fa
 
     Notes
     -----
-    Common practice, no source: the content goes to a uniquely named temporary file in the same
-    folder (so the final rename never crosses file systems), is flushed and ``fsync``-ed, and is
-    then moved into place with ``os.replace`` (atomic on POSIX and Windows). Without
-    ``overwrite`` the move is a hard link, which fails if the name was taken meanwhile, so a file
-    created by someone else between the check and the move is not clobbered either (file systems
-    without hard links fall back to a check followed by ``os.replace``). The temporary file is
-    removed whatever happens. Replacing a symbolic link replaces the link, not its target.
+    Common practice, no source: the content is built in memory first (a streamed payload writes
+    into a buffer), so the temporary file is created at the last moment; it is uniquely named in
+    the same folder (so the final rename never crosses file systems), written, flushed and
+    ``fsync``-ed, and then moved into place with ``os.replace`` (atomic on POSIX and Windows).
+    Without ``overwrite`` the move is a hard link, which fails if the name was taken meanwhile,
+    so a file created by someone else between the check and the move is not clobbered either
+    (file systems without hard links fall back to a check followed by ``os.replace``). The
+    temporary file is removed on every failure path; one left by a process that was killed is
+    removed by the next write to the same name (see :func:`remove_stale_temps`). Replacing a
+    symbolic link replaces the link, not its target.
     """
     target = check_destination(path, overwrite=overwrite)
     folder = target.parent
@@ -67,12 +75,16 @@ def atomic_write(path: str | os.PathLike, data: Payload, *, overwrite: bool = Fa
     kept = "; the existing file is unchanged" if existed else ""
     tmp: Path | None = None
     try:
+        if callable(data):
+            buf = io.BytesIO()
+            data(buf)
+            content = buf.getvalue()
+        else:
+            content = data.encode("utf-8") if isinstance(data, str) else bytes(data)
+        remove_stale_temps(folder, target.name)
         fd, tmp = _open_temp(folder, target.name)
         with os.fdopen(fd, "wb") as fh:
-            if callable(data):
-                data(fh)
-            else:
-                fh.write(data.encode("utf-8") if isinstance(data, str) else bytes(data))
+            fh.write(content)
             fh.flush()
             os.fsync(fh.fileno())
         _publish(tmp, target, overwrite)
@@ -115,11 +127,56 @@ def check_destination(path: str | os.PathLike, *, overwrite: bool = False) -> Pa
     return target
 
 
+def _temp_pattern(name: str) -> re.Pattern:
+    return re.compile(rf"\.{re.escape(name)}\.vb(\d+)-[0-9a-f]{{12}}\.tmp")
+
+
+def _alive(pid: int) -> bool | None:
+    """Whether process ``pid`` runs (``None`` where that cannot be asked safely)."""
+    if os.name != "posix":
+        return None
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except (PermissionError, OSError):
+        return True
+    return True
+
+
+def remove_stale_temps(folder: Path, name: str) -> list[Path]:
+    """Remove temporary files that an earlier, killed export to ``name`` left in ``folder``.
+
+    Only files named as :func:`atomic_write` names its own are touched, and only when the process
+    that wrote one has ended (or, where that cannot be asked, when it is a day old).
+    """
+    pattern = _temp_pattern(name)
+    removed = []
+    try:
+        entries = list(os.scandir(folder))
+    except OSError:
+        return removed
+    for entry in entries:
+        m = pattern.fullmatch(entry.name)
+        if not m:
+            continue
+        pid = int(m.group(1))
+        alive = _alive(pid)
+        try:
+            stale = (alive is False or (alive is None and time.time() - entry.stat().st_mtime > _STALE_SECONDS))
+            if stale and pid != os.getpid():
+                os.unlink(entry.path)
+                removed.append(Path(entry.path))
+        except OSError:
+            continue
+    return removed
+
+
 def _open_temp(folder: Path, name: str) -> tuple[int, Path]:
-    """Create ``.<name>.<random>.tmp`` in ``folder`` exclusively; normal permissions (umask applies)."""
+    """Create ``.<name>.vb<pid>-<random>.tmp`` in ``folder`` exclusively; normal permissions (umask applies)."""
     flags = os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0)
     for _ in range(_TEMP_ATTEMPTS):
-        tmp = folder / f".{name}.{secrets.token_hex(6)}.tmp"
+        tmp = folder / f".{name}.vb{os.getpid()}-{secrets.token_hex(6)}.tmp"
         try:
             return os.open(tmp, flags, 0o666), tmp
         except FileExistsError:

@@ -335,9 +335,12 @@ def inputs_table(provenance: Mapping[str, Any]) -> pd.DataFrame:
         rows.append(("setting", "", path, value))
     for p in provenance["series"]:
         for k in ("source_file", "source", "sha256", "price_basis", "rows", "first_date", "last_date",
-                  "as_of", "rows_up_to_as_of", "flagged_rows", "excluded_lines", "findings"):
+                  "as_of", "rows_up_to_as_of", "flagged_rows", "excluded_lines", "findings", "adjustments"):
             v = p.get(k)
-            if isinstance(v, list):
+            if k == "adjustments":
+                v = "; ".join(f"{a['label']} on {a['date']} (line {a['line']}): earlier prices divided by "
+                              f"{a['ratio']:g}" for a in v or ()) or "none"
+            elif isinstance(v, list):
                 v = " ".join(str(x) for x in v)
             rows.append(("source", p["series"], k, "" if v is None else v))
     for name, text in provenance["sections"].items():

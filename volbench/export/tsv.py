@@ -9,6 +9,8 @@ from numbers import Integral, Real
 import numpy as np
 import pandas as pd
 
+from volbench.export.safety import neutralise
+
 
 def cell_value(v):
     """A pandas/numpy cell as a plain Python value: ``None`` for missing, int, float, bool or str.
@@ -42,6 +44,8 @@ def _text(v) -> str:
         return "TRUE" if v else "FALSE"
     if isinstance(v, float):
         return repr(v)  # shortest text that reads back as the same double
+    if isinstance(v, str):
+        return neutralise(" ".join(v.replace("\t", " ").splitlines()))
     return " ".join(str(v).replace("\t", " ").splitlines())
 
 

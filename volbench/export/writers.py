@@ -21,6 +21,7 @@ from volbench import __version__
 from volbench.errors import VolbenchError
 from volbench.export.atomic import atomic_write
 from volbench.export.bundle import SECTIONS, TABLE_ORDER, ExportBundle
+from volbench.export.safety import escape_controls, neutralise
 from volbench.export.schema import SCHEMA_VERSION
 from volbench.export.tsv import cell_value
 
@@ -60,10 +61,12 @@ def csv_text(df: pd.DataFrame) -> str:
     """CSV text of ``df`` (no index), numbers in the shortest form that reads back exactly.
 
     Missing values are empty cells; booleans ``True``/``False``; the header is the column names.
+    Text that a spreadsheet would run as a formula gets a leading apostrophe and control
+    characters are escaped (:mod:`volbench.export.safety`).
     """
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
-    w.writerow([str(c) for c in df.columns])
+    w.writerow([neutralise(str(c)) for c in df.columns])
     w.writerows([_csv_cell(v) for v in row] for row in df.itertuples(index=False, name=None))
     return buf.getvalue()
 
@@ -74,6 +77,8 @@ def _csv_cell(v) -> str:
         return ""
     if isinstance(v, float):
         return repr(v)  # shortest text that reads back as the same double
+    if isinstance(v, str):
+        return neutralise(v)
     return str(v)
 
 
@@ -163,7 +168,7 @@ def _sheet_order(bundle: ExportBundle) -> list[str]:
 def _fill_sheet(ws, df: pd.DataFrame, percent: tuple[str, ...], bold) -> None:
     from openpyxl.utils import get_column_letter
 
-    headers = [str(c) for c in df.columns]
+    headers = [escape_controls(str(c)) for c in df.columns]
     ws.append(headers)
     for cell in ws[1]:
         cell.font = bold
@@ -179,6 +184,10 @@ def _fill_sheet(ws, df: pd.DataFrame, percent: tuple[str, ...], bold) -> None:
                 # bit of a double; the shortest round-trip text, marked numeric, is stored as is.
                 cell.value = repr(v)
                 cell.data_type = "n"
+            elif isinstance(v, str):
+                # always a string cell: text from the user's files is never stored as a formula
+                cell.value = escape_controls(v)
+                cell.data_type = "s"
             else:
                 cell.value = v
             if j in pct:

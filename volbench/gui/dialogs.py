@@ -63,6 +63,14 @@ def confirm_overwrite(parent: QWidget | None, path: str | Path) -> bool:
     return answer == QMessageBox.StandardButton.Yes
 
 
+def ask_yes_no(parent: QWidget | None, title: str, text: str) -> bool:
+    """A yes/no question (default No)."""
+    answer = QMessageBox.question(
+        parent, f"volbench: {title}", text,
+        QMessageBox.StandardButton.Yes | QMessageBox.StandardButton.No, QMessageBox.StandardButton.No)
+    return answer == QMessageBox.StandardButton.Yes
+
+
 def install_excepthook(parent_getter: Callable[[], QWidget | None]) -> None:
     """Show unexpected exceptions in a dialog (the traceback goes to stderr for bug reports)."""
     previous = sys.excepthook

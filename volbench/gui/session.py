@@ -2,11 +2,13 @@
 
 A session is a small JSON document with a ``"version"`` field. Reading refuses, with a message
 the user can act on, a file that is not JSON, is not a volbench session, or was written by a
-newer version than this one reads.
+newer version than this one reads. Each price file is stored with its SHA-256 and size as loaded,
+so that reopening the session can say which files changed or moved since.
 """
 
 from __future__ import annotations
 
+import hashlib
 import json
 import os
 import tempfile
@@ -22,14 +24,45 @@ SESSION_KIND = "volbench-session"
 
 
 @dataclass(frozen=True)
+class FileCheck:
+    """How a session's price file compares with the version the session was saved with.
+
+    ``status``: ``"same"``, ``"changed"`` (SHA-256 or size differ), ``"moved"`` (found through
+    its path relative to the session, not its saved path), ``"missing"`` or ``"unknown"`` (no
+    fingerprint saved). ``note`` says what differs, in words.
+    """
+
+    path: str
+    status: str
+    note: str = ""
+
+
+@dataclass(frozen=True)
 class Session:
     files: tuple[str, ...]
     selected: str | None
     choices: Choices
+    fingerprints: tuple[tuple[str, str | None, int | None], ...] = ()
+    """(path, SHA-256, size in bytes) of each file as loaded (written)."""
+    checks: tuple[FileCheck, ...] = ()
+    """How each file compares now (filled by :func:`read_session`)."""
+
+
+def file_fingerprint(path: str | Path) -> tuple[str, int]:
+    """SHA-256 and size of a file's bytes now."""
+    h = hashlib.sha256()
+    size = 0
+    with open(path, "rb") as fh:
+        for chunk in iter(lambda: fh.read(1 << 20), b""):
+            h.update(chunk)
+            size += len(chunk)
+    return h.hexdigest(), size
 
 
 def session_dict(session: Session, base: Path | None = None) -> dict:
-    """JSON-ready mapping; file paths stored absolute and relative to ``base`` (the session's folder)."""
+    """JSON-ready mapping; file paths stored absolute and relative to ``base`` (the session's folder),
+    with the SHA-256 and size of the version loaded."""
+    prints = {str(Path(p).resolve()): (sha, size) for p, sha, size in session.fingerprints}
     files = []
     for f in session.files:
         p = Path(f).resolve()
@@ -39,7 +72,8 @@ def session_dict(session: Session, base: Path | None = None) -> dict:
                 rel = os.path.relpath(p, base.resolve())
             except ValueError:  # other drive on Windows
                 rel = None
-        files.append({"path": str(p), "relative": rel})
+        sha, size = prints.get(str(p), (None, None))
+        files.append({"path": str(p), "relative": rel, "sha256": sha, "size": size})
     return {
         "kind": SESSION_KIND,
         "version": SESSION_VERSION,
@@ -97,14 +131,18 @@ def read_session(path: str | Path) -> Session:
                             f"{version}; this one reads up to {SESSION_VERSION}); update volbench "
                             "to open it")
     files = []
+    checks = []
     for entry in data.get("files", []):
         if not isinstance(entry, dict) or not isinstance(entry.get("path"), str):
             raise VolbenchError(f"{path}: a file entry is malformed ({entry!r}); save the session again")
         p = Path(entry["path"])
+        moved = False
         if not p.exists() and entry.get("relative"):
             alt = (path.parent / entry["relative"]).resolve()
-            p = alt if alt.exists() else p
+            if alt.exists():
+                p, moved = alt, True
         files.append(str(p))
+        checks.append(_check_file(p, moved, entry))
     choices = data.get("choices", {})
     if not isinstance(choices, dict):
         raise VolbenchError(f"{path}: 'choices' must be a mapping; save the session again")
@@ -113,4 +151,25 @@ def read_session(path: str | Path) -> Session:
     except VolbenchError as exc:
         raise VolbenchError(f"{path}: {exc}; save the session again") from None
     selected = data.get("selected")
-    return Session(tuple(files), selected if isinstance(selected, str) else None, parsed)
+    return Session(tuple(files), selected if isinstance(selected, str) else None, parsed, checks=tuple(checks))
+
+
+def _check_file(p: Path, moved: bool, entry: dict) -> FileCheck:
+    if not p.is_file():
+        return FileCheck(str(p), "missing", "not found at its saved path nor next to the session")
+    sha, size = entry.get("sha256"), entry.get("size")
+    if not isinstance(sha, str):
+        return FileCheck(str(p), "moved" if moved else "unknown",
+                         f"found at {p} (moved since the session was saved)" if moved else "")
+    try:
+        now_sha, now_size = file_fingerprint(p)
+    except OSError as exc:
+        return FileCheck(str(p), "missing", f"cannot be read ({exc.strerror or exc})")
+    if now_sha != sha or (isinstance(size, int) and now_size != size):
+        what = (f"size {size:,} -> {now_size:,} bytes" if isinstance(size, int) and size != now_size
+                else "same size, different content")
+        where = f"; found at {p}" if moved else ""
+        return FileCheck(str(p), "changed", f"{what}, SHA-256 differs{where}")
+    if moved:
+        return FileCheck(str(p), "moved", f"found at {p} (moved since the session was saved; content unchanged)")
+    return FileCheck(str(p), "same")

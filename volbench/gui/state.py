@@ -16,6 +16,7 @@ from PySide6.QtCore import QObject, Signal
 
 from volbench import validate
 from volbench.data.history import PriceHistory
+from volbench.data.options import DECIMALS, DELIMITER_NAMES, THOUSANDS, ImportOptions
 from volbench.errors import VolbenchError
 from volbench.estimators import ESTIMATOR_KEYS
 
@@ -39,6 +40,20 @@ class Choices:
     cone_estimator: str = "close_to_close"
     exclude_flagged: bool = False
     date_format: str | None = None
+    delimiter: str | None = None
+    decimal: str | None = None
+    thousands: str | None = None
+    use_adjusted: bool = False
+    adjust_splits: bool = False
+
+    def import_options(self) -> ImportOptions:
+        """How files are read, as the one validated settings object the core takes.
+
+        Flagged rows are kept at import: the window applies ``exclude_flagged`` to what it shows.
+        """
+        return ImportOptions(delimiter=self.delimiter, decimal=self.decimal, thousands=self.thousands,
+                             date_format=self.date_format, use_adjusted=self.use_adjusted,
+                             adjust_splits=self.adjust_splits)
 
     def as_dict(self) -> dict:
         d = {f.name: getattr(self, f.name) for f in fields(self)}
@@ -61,6 +76,9 @@ _INT = {"window", "days"}
 _FLOAT = {"annualization", "pricing_vol", "rate", "dividend_yield"}
 _CHOICE = {"kind": ("call", "put"), "garch_model": ("all", "garch", "gjr", "egarch"),
            "garch_dist": ("normal", "t")}
+_OPTIONAL_CHOICE = {"delimiter": tuple(DELIMITER_NAMES), "decimal": DECIMALS, "thousands": THOUSANDS}
+IMPORT_FIELDS = frozenset({"date_format", "delimiter", "decimal", "thousands", "use_adjusted", "adjust_splits"})
+"""Choices that change how files are read: changing one reads the files again."""
 
 
 def _window(value) -> int:
@@ -94,8 +112,15 @@ def _coerce(key: str, value):
             return tuple(validate.estimator(str(k)) for k in value)
         if key == "garch_model":
             return value if value == "all" else validate.model(value)
-        if key == "exclude_flagged":
+        if key in ("exclude_flagged", "use_adjusted", "adjust_splits"):
             return bool(value)
+        if key in _OPTIONAL_CHOICE:
+            if value in (None, ""):
+                return None
+            if value not in _OPTIONAL_CHOICE[key]:
+                shown = ", ".join(repr(v) for v in _OPTIONAL_CHOICE[key])
+                raise VolbenchError(f"{key} must be one of {shown} or empty, got {value!r}")
+            return value
         if key in _CHOICE:
             if value not in _CHOICE[key]:
                 raise VolbenchError(f"{key} must be one of {', '.join(_CHOICE[key])}, got {value!r}")

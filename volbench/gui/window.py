@@ -19,11 +19,20 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from volbench.data.load import Cancelled as LoadCancelled
 from volbench.errors import VolbenchError
 from volbench.gui import compute
 from volbench.gui.controller import Controller, Results
-from volbench.gui.dialogs import HelpDialog, confirm_overwrite, error_text, guarded, show_error
-from volbench.gui.loading import load_files
+from volbench.gui.dialogs import (
+    HelpDialog,
+    ask_yes_no,
+    confirm_overwrite,
+    error_text,
+    guarded,
+    show_error,
+)
+from volbench.gui.import_dialog import ImportDialog
+from volbench.gui.loading import Loaded, load_files
 from volbench.gui.panes.comparison_pane import ComparisonPane
 from volbench.gui.panes.cone_pane import ConePane
 from volbench.gui.panes.controls import ControlsPane
@@ -34,7 +43,7 @@ from volbench.gui.panes.rolling_pane import RollingPane
 from volbench.gui.panes.scaling_pane import ScalingPane
 from volbench.gui.session import Session, read_session, write_session
 from volbench.gui.settings import Settings
-from volbench.gui.state import Choices, WorkbenchState
+from volbench.gui.state import IMPORT_FIELDS, Choices, WorkbenchState
 from volbench.gui.widgets import Plot
 from volbench.gui.workers import Cancelled, Dispatcher
 
@@ -64,6 +73,8 @@ class MainWindow(QMainWindow):
     """
 
     exported = Signal(object)
+    files_loaded = Signal(int)
+    """Emitted when a background load finished, with the number of series it read."""
 
     def __init__(self, *, synchronous: bool = False, settings: Settings | None = None,
                  choices: Choices | None = None, parent: QWidget | None = None) -> None:
@@ -76,6 +87,10 @@ class MainWindow(QMainWindow):
         self.results = Results(self)
         self.dispatcher = Dispatcher(synchronous=synchronous, parent=self)
         self.controller = Controller(self.state, self.results, self.dispatcher, self)
+        self._after_load = None
+        self._loaded_count = 0
+        self._loaded_options = None  # the ImportOptions the shown histories were read with
+        self._quiet_reload = False
 
         self.panes: dict[str, QWidget] = {
             "data": DataPane(self.state),
@@ -198,6 +213,11 @@ class MainWindow(QMainWindow):
 
     def cancel_work(self) -> None:
         self.controller.cancel_background()
+        if self.dispatcher.is_running("load"):
+            self.dispatcher.cancel("load")
+            self._after_load = None
+            self.show_status("Stopped reading the files; what was loaded before is unchanged.")
+            return
         for kind in ("export", "garch_all"):
             if self.dispatcher.is_running(kind):
                 self.dispatcher.cancel(kind)
@@ -209,8 +229,19 @@ class MainWindow(QMainWindow):
     # ------------------------------------------------------------------ files
     def ask_open_files(self) -> None:
         paths, _ = QFileDialog.getOpenFileNames(self, "Open price files", self._last_folder(), PRICE_FILTER)
-        if paths:
-            self.open_files(paths)
+        if not paths:
+            return
+        values = self.ask_import_choices(len(paths))
+        if values is None:
+            return
+        self.open_files(paths, import_choices=values)
+
+    def ask_import_choices(self, files: int = 0) -> dict | None:
+        """The import dialog, pre-filled from the current choices; ``None`` when cancelled."""
+        dialog = ImportDialog(self.state.choices, files, self)
+        if dialog.exec() != ImportDialog.DialogCode.Accepted:
+            return None
+        return dialog.values()
 
     def _last_folder(self) -> str:
         recent = self.settings.recent_files()
@@ -229,26 +260,90 @@ class MainWindow(QMainWindow):
         self.recent_menu.addSeparator()
         self.recent_menu.addAction("Clear list", self.settings.clear_recent)
 
-    def open_files(self, paths, *, replace: bool = False) -> int:
-        """Load ``paths`` (added to what is loaded unless ``replace``); returns how many series loaded.
+    def open_files(self, paths, *, replace: bool = False, import_choices: dict | None = None) -> int:
+        """Load ``paths`` (added to what is loaded unless ``replace``) in the background.
 
-        A file that cannot be read is reported in one dialog naming the file, line and what to do;
-        the other files still load.
+        Files already loaded are not read again (their series stay exactly as shown) unless
+        ``replace``, or unless ``import_choices`` change how files are read, in which case every
+        file is read again and any that changed on disk since it was loaded is named. A file that
+        cannot be read is reported in one dialog naming the file, line and what to do; the other
+        files still load. Returns the number of series read (when running synchronously; else 0,
+        and :attr:`files_loaded` tells).
         """
+        if import_choices:
+            before = self.state.choices
+            self._quiet_reload = True
+            try:
+                self.state.update(**import_choices)
+            finally:
+                self._quiet_reload = False
+            if any(getattr(before, k) != getattr(self.state.choices, k) for k in IMPORT_FIELDS) and self.state.files:
+                replace = True
+                paths = list(self.state.files) + [p for p in paths if str(Path(p)) not in self.state.files]
         keep = [] if replace else list(self.state.files)
-        new = [str(Path(p)) for p in paths if str(Path(p)) not in keep]
-        loaded = load_files(keep + new, date_format=self.state.date_format)
-        if loaded.errors:
-            show_error(self, "could not read a file", "\n\n".join(loaded.errors))
-        if loaded.histories or replace:
-            self.state.set_histories(loaded.histories, loaded.files)
-            self.settings.add_recent([f for f in new if f in loaded.files])
-            n = len(loaded.histories)
-            self.show_status(f"{n} series loaded from {len(loaded.files)} file{'s' if len(loaded.files) != 1 else ''}.")
-        return len(loaded.histories)
+        new = [str(Path(p)) for p in dict.fromkeys(str(p) for p in paths) if str(Path(p)) not in keep]
+        if not new and not replace:
+            self.show_status("Those files are already loaded.")
+            return 0
+        kept = [h for h in self.state.histories if h.source is not None and str(h.source) in keep]
+        before_prints = {str(h.source): (h.sha256, h.source_size) for h in self.state.histories}
+        self._loaded_count = 0
+
+        def done(loaded: Loaded) -> None:
+            if loaded.errors:
+                show_error(self, "could not read a file", "\n\n".join(loaded.errors))
+            changed = sorted({str(h.source) for h in loaded.histories if str(h.source) in before_prints
+                              and before_prints[str(h.source)] != (h.sha256, h.source_size)})
+            if loaded.histories or replace:
+                self.state.set_histories(kept + list(loaded.histories), keep + list(loaded.files))
+                self.settings.add_recent([f for f in new if f in loaded.files])
+                total = len(keep) + len(loaded.files)
+                self.show_status(f"{len(kept) + len(loaded.histories)} series loaded from {total} "
+                                 f"file{'s' if total != 1 else ''}.")
+            if changed:
+                show_error(self, "a file changed on disk", "\n".join(
+                    f"{Path(f).name} changed on disk since it was loaded (SHA-256 or size differ); "
+                    "the new version is now shown." for f in changed))
+            self._loaded_count = len(loaded.histories)
+
+        self._start_load(new, done, taken={h.name for h in kept})
+        return self._loaded_count
+
+    def _start_load(self, paths, then, *, taken=(), options=None) -> None:
+        """Read ``paths`` in the background; ``then(loaded)`` runs in the GUI thread when done."""
+        try:
+            options = options or self.state.choices.import_options()
+        except VolbenchError as exc:
+            show_error(self, "how to read the files", exc)
+            return
+
+        todo, names = tuple(paths), frozenset(taken)
+
+        def job(progress, cancel):
+            try:
+                return load_files(todo, options, taken=names, progress=progress, cancel=cancel)
+            except LoadCancelled:
+                raise Cancelled() from None
+
+        def finish(loaded: Loaded) -> None:
+            self._loaded_options = options
+            then(loaded)
+            self.files_loaded.emit(len(loaded.histories))
+
+        self._after_load = finish
+        self.show_status(f"Reading {len(paths)} file{'s' if len(paths) != 1 else ''}…")
+        self.dispatcher.submit("load", job)
 
     def reload_files(self) -> None:
-        if self.state.files:
+        """Read every file again when a choice about how to read them changed."""
+        if self._quiet_reload or not self.state.files:
+            return
+        try:
+            options = self.state.choices.import_options()
+        except VolbenchError as exc:
+            show_error(self, "how to read the files", exc)
+            return
+        if options != self._loaded_options:
             self.open_files(list(self.state.files), replace=True)
 
     def dragEnterEvent(self, event) -> None:
@@ -263,7 +358,11 @@ class MainWindow(QMainWindow):
 
     # ------------------------------------------------------------------ sessions
     def current_session(self) -> Session:
-        return Session(self.state.files, self.state.selected, self.state.choices)
+        prints = {}
+        for h in self.state.histories:
+            if h.source is not None:
+                prints.setdefault(str(h.source), (str(h.source), h.sha256, h.source_size))
+        return Session(self.state.files, self.state.selected, self.state.choices, tuple(prints.values()))
 
     def ask_save_session(self) -> None:
         name, _ = QFileDialog.getSaveFileName(self, "Save session", "volbench-session.json", SESSION_FILTER)
@@ -286,11 +385,28 @@ class MainWindow(QMainWindow):
         session = guarded(self, "open session", lambda: read_session(path))
         if session is None:
             return False
-        loaded = load_files(session.files, date_format=session.choices.date_format)
-        if loaded.errors:
-            show_error(self, "could not read a file of the session", "\n\n".join(loaded.errors))
-        self.state.restore(loaded.histories, loaded.files, session.choices, session.selected)
-        self.show_status(f"Session {Path(path).name} opened: {len(loaded.histories)} series.")
+        files = list(session.files)
+        notes = []
+        for check in session.checks:
+            name = Path(check.path).name
+            if check.status == "changed":
+                if ask_yes_no(self, "a file changed", f"{name} changed since the session was saved "
+                              f"({check.note}).\nLoad the new version? (No leaves it out.)"):
+                    notes.append(f"{name}: the new version is loaded ({check.note})")
+                else:
+                    files.remove(check.path)
+                    notes.append(f"{name} left out: it changed since the session was saved")
+            elif check.status == "moved":
+                notes.append(f"{name} {check.note}")
+
+        def done(loaded: Loaded) -> None:
+            if loaded.errors:
+                show_error(self, "could not read a file of the session", "\n\n".join(loaded.errors))
+            self.state.restore(loaded.histories, loaded.files, session.choices, session.selected)
+            self.show_status(f"Session {Path(path).name} opened: {len(loaded.histories)} series."
+                             + (" " + "; ".join(notes) + "." if notes else ""))
+
+        self._start_load(files, done, options=session.choices.import_options())
         return True
 
     # ------------------------------------------------------------------ export
@@ -338,7 +454,7 @@ class MainWindow(QMainWindow):
                 pricing_vol=c.pricing_vol, days=c.days, strike=c.strike, rate=c.rate,
                 dividend_yield=c.dividend_yield, kind=c.kind, cone_estimator=c.cone_estimator,
                 garch_model=c.garch_model, garch_dist=c.garch_dist,
-                import_settings={"date_format": c.date_format, "exclude_flagged": c.exclude_flagged},
+                import_settings={**c.import_options().as_dict(), "exclude_flagged": c.exclude_flagged},
                 given=given, progress=progress)
             if cancel():
                 raise Cancelled()
@@ -361,7 +477,11 @@ class MainWindow(QMainWindow):
             cancel=cancel), c.days))
 
     def _on_job_result(self, kind: str, value) -> None:
-        if kind == "export":
+        if kind == "load":
+            then, self._after_load = self._after_load, None
+            if then is not None:
+                then(value)
+        elif kind == "export":
             self.show_status(f"Exported to {value}.")
             self.exported.emit(value)
         elif kind == "garch_all":
@@ -375,7 +495,11 @@ class MainWindow(QMainWindow):
     def _on_job_error(self, kind: str, exc) -> None:
         if isinstance(exc, compute.NotInBuild):
             exc = f"{exc.feature} is not available in this build."
-        if kind == "export":
+        if kind == "load":
+            self._after_load = None
+            show_error(self, "could not read the files", exc)
+            self.show_status("Reading the files failed; see the message.")
+        elif kind == "export":
             show_error(self, "export", exc)
             self.show_status("Export failed; see the message.")
         elif kind == "garch_all":

@@ -12,7 +12,6 @@ from volbench.intraday.measures import RealizedMeasures, realized_measures
 from volbench.intraday.report import RealizedReport, realized_report
 from volbench.intraday.sessions import (
     SessionLayout,
-    combine_date_time,
     daily_bars,
     infer_layout,
     parse_session_break,
@@ -27,7 +26,6 @@ __all__ = [
     "RealizedReport",
     "SessionLayout",
     "SignaturePlot",
-    "combine_date_time",
     "continuity_check",
     "daily_bars",
     "har_forecast",

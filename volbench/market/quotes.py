@@ -17,7 +17,7 @@ import numpy as np
 import pandas as pd
 
 from volbench.data.history import Finding
-from volbench.data.quality import parse_numbers
+from volbench.data.numbers import parse_numbers
 from volbench.data.reader import normalise_header, read_text, sniff_delimiter
 from volbench.errors import VolbenchError
 

@@ -18,7 +18,7 @@ from PySide6.QtWidgets import (
 from volbench.data.history import PriceHistory
 from volbench.gui import palette
 from volbench.gui.binding import Binding
-from volbench.gui.state import WorkbenchState
+from volbench.gui.state import IMPORT_FIELDS, WorkbenchState
 from volbench.gui.widgets import FrameTable
 
 SERIES_COLUMNS = ["series", "file", "rows", "first date", "last date", "columns", "quality"]
@@ -49,7 +49,7 @@ class DataPane(QWidget):
     open_requested()
         The user pressed "Open files…" (the window owns the dialog).
     reload_requested()
-        The date format changed; files must be read again.
+        A choice about how files are read changed; files must be read again.
     """
 
     open_requested = Signal()
@@ -80,6 +80,13 @@ class DataPane(QWidget):
                                 "are left out of every computation; the choice is recorded with results "
                                 "and exports. Rows with errors are always left out.")
         top.addWidget(self.exclude)
+        top.addSpacing(12)
+        self.adjust_splits = QCheckBox("Adjust splits")
+        self.adjust_splits.setObjectName("adjust_splits_check")
+        self.adjust_splits.setToolTip("Back-adjust every detected unadjusted split: earlier open/high/low/close "
+                                      "divided by the split ratio, volume multiplied by it. Each adjustment is "
+                                      "listed below and recorded with exports; files are read again.")
+        top.addWidget(self.adjust_splits)
         top.addStretch(1)
         lay.addLayout(top)
 
@@ -117,6 +124,8 @@ class DataPane(QWidget):
             Binding(state, "date_format", self.date_format, self.date_format.editingFinished,
                     lambda: self.date_format.text().strip() or None,
                     lambda v: self.date_format.setText(v or "")),
+            Binding(state, "adjust_splits", self.adjust_splits, self.adjust_splits.toggled,
+                    self.adjust_splits.isChecked, lambda v: self.adjust_splits.setChecked(bool(v))),
         ]
         state.changed.connect(self._on_state)
         self.render()
@@ -128,7 +137,7 @@ class DataPane(QWidget):
     def _on_state(self, names) -> None:
         if names & {"histories", "selected", "exclude_flagged"}:
             self.render()
-        if "date_format" in names:
+        if names & IMPORT_FIELDS:
             self.reload_requested.emit()
 
     def _on_series_clicked(self, index) -> None:
@@ -175,5 +184,7 @@ class DataPane(QWidget):
             what = f"{flagged} flagged row{'s' if flagged != 1 else ''} left out of every result"
         else:
             what = f"{flagged} flagged row{'s' if flagged != 1 else ''} kept (tick the box to leave them out)"
+        splits = "".join(f" Split adjusted: {a.label} on {a.date} (line {a.line}), earlier prices divided by "
+                         f"{a.ratio:g}." for a in h.adjustments)
         self.policy.setText(f"{what}; {errors} unusable row{'s' if errors != 1 else ''} always left out. "
-                            "The choice is recorded with exports and sessions.")
+                            f"The choice is recorded with exports and sessions.{splits}")
