@@ -204,17 +204,19 @@ def _table(result) -> str:
             row += [pct(r.forward_vol), "EWMA fallback" if "fallback" in src else src]
         row += ["/".join(str(r.findings.get(k, 0)) for k in ("error", "warning", "info"))]
         rows.append(row)
-    out = [f"survey of {len(result.records)} series ({result.failed} failed) in {result.elapsed_s:.1f} s "
-           f"{_engine_text(result)}; window {s.estimate_window} bars, option life {s.days} bars, annualized with {s.annualization:g} bars/year, flagged rows "
-           f"{'excluded' if s.exclude_flagged else 'kept'}"]
+    head_line = (f"survey of {len(result.records)} series ({result.failed} failed) in {result.elapsed_s:.1f} s "
+                 f"{_engine_text(result)}; window {s.estimate_window} bars, option life {s.days} bars, annualized "
+                 f"with {s.annualization:g} bars/year, flagged rows {'excluded' if s.exclude_flagged else 'kept'}")
+    out = [head_line]
     if rows:
         out += ["", render_table(head, rows, "lrl" + "r" * (len(head) - 3))]
     if failures:
         out += ["", "not surveyed:"] + [f"  {r.name}: {r.error}" for r in failures]
-    out += ["", f"cone pctl: percentile of the series' {s.cone_estimator.replace('_', '-')} vol over the last "
-                f"{s.days} bars in its own cone at {s.days} bars; its pctl: the pricing vol's percentile there.",
-            "VNID: variance proportional to horizon, normal, independent increments, negligible drift "
-            "(+ consistent, ? doubtful, x rejected, - not available; 'volbench scaling' explains).",
+    cone_line = (f"cone pctl: percentile of the series' {s.cone_estimator.replace('_', '-')} vol over the last "
+                 f"{s.days} bars in its own cone at {s.days} bars; its pctl: the pricing vol's percentile there.")
+    verdict_line = ("VNID: variance proportional to horizon, normal, independent increments, negligible drift "
+                    "(+ consistent, ? doubtful, x rejected, - not available; 'volbench scaling' explains).")
+    out += ["", cone_line, verdict_line,
             "Figures a series lacks are listed with their reasons in --format json or csv. " + CAUTION]
     return "\n".join(out) + "\n"
 

@@ -138,15 +138,15 @@ def plan_tasks(files: Sequence[str], workers: int, sizes: Sequence[int] | None =
     if sizes is None:
         sizes = [_size(f) for f in files]
     k = min(n, max(workers * TASKS_PER_WORKER, math.ceil(n / MAX_FILES_PER_TASK)))
-    heap = [(0, t) for t in range(k)]
+    heap = [(0, 0, t) for t in range(k)]  # (bytes, files, task): fewest bytes, then fewest files
     tasks: list[list[int]] = [[] for _ in range(k)]
     totals = [0] * k
     for i in sorted(range(n), key=lambda j: (-sizes[j], j)):
-        total, t = heapq.heappop(heap)
+        total, count, t = heapq.heappop(heap)
         tasks[t].append(i)
-        totals[t] = total + sizes[i] + 1
-        heapq.heappush(heap, (totals[t], t))
-    order = sorted(range(k), key=lambda t: -totals[t])
+        totals[t] = total + sizes[i]
+        heapq.heappush(heap, (totals[t], count + 1, t))
+    order = sorted(range(k), key=lambda t: (-totals[t], -len(tasks[t]), t))
     return [sorted(tasks[t]) for t in order if tasks[t]]
 
 
@@ -324,7 +324,7 @@ def _gather_dask(distributed, client, files, settings, workers, slots, progress,
     tasks = plan_tasks(files, workers)
     futures = [client.submit(survey_paths, [files[i] for i in t], settings, pure=False) for t in tasks]
     index = {f.key: t for f, t in zip(futures, tasks)}
-    ac = distributed.as_completed(futures)
+    ac = distributed.as_completed(futures, loop=client.loop)
     done = 0
     while not ac.is_empty():
         if cancel is not None and cancel():

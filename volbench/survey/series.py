@@ -15,7 +15,7 @@ from threadpoolctl import threadpool_limits
 from volbench.data import load_prices
 from volbench.data.history import PriceHistory
 from volbench.errors import EstimatorUnavailable, VolbenchError
-from volbench.estimators import estimate_all, point_estimate
+from volbench.estimators import estimate_all, rolling_vol
 from volbench.pricing.cone import vol_cone
 from volbench.scaling import scaling_check
 from volbench.survey.record import SEVERITIES, SurveyRecord, failed
@@ -84,8 +84,13 @@ def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> Su
         cone = vol_cone(h, s.cone_estimator, s.cone_windows, annualization=a)
     except VolbenchError as exc:
         unavailable["cone"] = str(exc)
-    try:
-        current = point_estimate(h, s.cone_estimator, days, annualization=a).vol
+    try:  # the cone's own definition of "today's" vol: the last value of the rolling series
+        values = rolling_vol(h, s.cone_estimator, days, annualization=a).values
+        if values.index[-1].to_datetime64() == h.dates[-1]:
+            current = float(values.iloc[-1])
+        else:
+            unavailable["current_vol"] = (f"{s.cone_estimator} over the last {days} bars is undefined: bars in it "
+                                          "have high below low or prices outside their range; exclude flagged rows")
     except EstimatorUnavailable as exc:
         unavailable["current_vol"] = f"{exc.key} over {days} bars: {exc.reason}"
     if cone is not None and current is not None:

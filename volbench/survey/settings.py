@@ -88,7 +88,9 @@ class SurveySettings:
         vols = {str(k): check_pricing_vol(v, f"pricing vol of {k!r}") for k, v in dict(self.pricing_vols).items()}
         set_(self, "pricing_vols", MappingProxyType(vols))
         set_(self, "with_garch", bool(self.with_garch))
-        from volbench.models.compare import check_models  # imports arch: only when a survey is set up
+        from volbench.models.compare import (
+            check_models,  # imports arch: only when a survey is set up
+        )
         from volbench.models.garch import DISTS
 
         set_(self, "garch_models", check_models(self.garch_models))
