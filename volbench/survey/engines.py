@@ -167,6 +167,7 @@ def run_survey(
     progress: Progress | None = None,
     cancel: Cancel | None = None,
     environ: Mapping[str, str] | None = None,
+    mp_context=None,
 ) -> SurveyResult:
     """Survey every series in ``paths`` (files, folders, glob patterns).
 
@@ -187,6 +188,9 @@ def run_survey(
         the survey with :class:`SurveyCancelled` (running tasks finish in the background).
     environ
         Environment to read ``DASK_SCHEDULER_ADDRESS`` from (default ``os.environ``).
+    mp_context
+        How the process pool starts its workers (default
+        :func:`volbench.models.batch.default_context`: ``fork`` when safe).
 
     Returns
     -------
@@ -211,7 +215,7 @@ def run_survey(
             engine, workers = "serial", 1
             _run_serial(files, settings, slots, progress, cancel)
         else:
-            _run_processes(files, settings, workers, slots, progress, cancel)
+            _run_processes(files, settings, workers, slots, progress, cancel, mp_context)
     else:
         workers = _run_dask(files, settings, address, jobs, slots, progress, cancel)
     records = _assemble(entries, slots)
@@ -250,11 +254,11 @@ def _run_serial(files, settings, slots, progress, cancel) -> None:
             progress(i + 1, len(files), Path(f).name)
 
 
-def _run_processes(files, settings, workers, slots, progress, cancel) -> None:
+def _run_processes(files, settings, workers, slots, progress, cancel, mp_context) -> None:
     from volbench.models.batch import default_context
 
     tasks = plan_tasks(files, workers)
-    pool = ProcessPoolExecutor(max_workers=workers, mp_context=default_context())
+    pool = ProcessPoolExecutor(max_workers=workers, mp_context=mp_context or default_context())
     done = 0
     try:
         index = {pool.submit(survey_paths, [files[i] for i in t], settings): t for t in tasks}
