@@ -60,6 +60,7 @@ def test_process_pool_serial_and_dask_give_identical_json(folder, loopback_clust
     # files in folder order, series in file order; a name seen before gets its file's stem
     assert [r.name for r in pool.records] == ["broken", "x1", "x2", "s0", "s0 (s0)", "s1", "s2", "s3", "s4", "s5"]
     assert not pool.records[0].ok and pool.succeeded == 9
+    assert [r.series for r in pool.records[3:5]] == ["s0", "s0"]  # the name to reopen each one by
     assert all(r.forward_vol is not None for r in pool.records if r.ok)
 
 

@@ -44,6 +44,9 @@ class SurveyRecord:
     unavailable
         Part -> reason, for every figure that could not be computed (an estimator lacking columns,
         a cone or scaling check the history is too short for, no pricing vol for this series).
+    series
+        The series' name inside its file (what :func:`volbench.data.load_prices` calls it), to
+        reopen it; ``name`` may carry the file stem to stay unique. Not part of the JSON row.
     error
         Why the series could not be surveyed at all (file missing or unreadable, too few rows for
         any estimate, an internal error); ``None`` when it was surveyed.
@@ -66,6 +69,7 @@ class SurveyRecord:
     findings: dict[str, int] = field(default_factory=dict)
     unavailable: dict[str, str] = field(default_factory=dict)
     error: str | None = None
+    series: str | None = None
 
     @property
     def ok(self) -> bool:

@@ -59,7 +59,7 @@ def survey_history(history: PriceHistory, settings: SurveySettings, *, pricing_v
         what = str(exc) if isinstance(exc, VolbenchError) else (
             f"internal error ({type(exc).__name__}: {exc}); please report it with the file")
         return failed(history.name, source, what, rows=history.n, as_of=history.last_date,
-                      findings=_count(history))
+                      findings=_count(history), series=history.name)
 
 
 def _count(history: PriceHistory) -> dict[str, int]:
@@ -76,7 +76,7 @@ def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> Su
                       f"{h.name}: no estimate possible with a {window}-bar window ({reasons}); "
                       "load a longer history or choose a shorter --window",
                       rows=h.n, as_of=h.last_date, window=window, days=days, findings=_count(h),
-                      unavailable=unavailable)
+                      unavailable=unavailable, series=h.name)
 
     current = cone_pct = pv_pct = None
     cone = None
@@ -116,7 +116,7 @@ def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> Su
         name=h.name, source=str(h.source) if h.source else None, rows=h.n, as_of=report.as_of, window=window,
         days=days, estimates=dict(report.estimates), current_vol=current, cone_percentile=cone_pct,
         pricing_vol=pricing_vol, pricing_vol_percentile=pv_pct, verdicts=verdicts, forward_vol=forward,
-        forward_vol_source=source, findings=_count(h), unavailable=unavailable,
+        forward_vol_source=source, findings=_count(h), unavailable=unavailable, series=h.name,
     )
 
 
