@@ -1,0 +1,233 @@
+"""``volbench survey``: every series in many files at once, on this machine's cores or a Dask cluster."""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import io
+import json
+import sys
+import time
+
+from volbench.cli.common import _clean, add_annualization, add_file_options, pct, render_table
+from volbench.errors import VolbenchError
+
+CAUTION = "Estimates are statistical and carry model risk; they are not advice."
+VERDICT_MARKS = {"consistent": "+", "doubtful": "?", "rejected": "x"}
+VERDICT_ORDER = ("variance_proportional_to_horizon", "normal_increments", "independent_increments",
+                 "negligible_drift")
+
+
+def register(sub) -> None:
+    p = sub.add_parser(
+        "survey", help="survey many series at once: estimates, cone, scaling verdicts (and GARCH)",
+        description="For every series in the files, folders or patterns given: each estimator's vol over "
+                    "the window with its 95%% interval, the cone percentile of the series' current vol (and "
+                    "of its pricing vol) at the option's life, the Brownian-scaling verdicts, optionally the "
+                    "GARCH forward vol, and the data-quality counts. The numbers are those of 'volbench "
+                    "estimate', 'cone', 'compare', 'scaling' and 'garch' for the same settings. Runs on this "
+                    "machine's cores, or on a Dask cluster with --scheduler or DASK_SCHEDULER_ADDRESS. A file "
+                    "or series that fails is a row with its error; the survey carries on.",
+        epilog="Exit status 0 when at least one series was surveyed, 2 when none was. " + CAUTION,
+    )
+    add_file_options(p)
+    for action in p._actions:  # the shared FILE positional, reworded: a survey also takes folders and patterns
+        if action.dest == "files":
+            action.metavar = "PATH"
+            action.help = ("price files, folders (their *.csv and *.tsv files) or glob patterns such as "
+                           "'data/**/*.csv'; a file with a symbol column holds several series")
+    p.add_argument("--window", type=int, default=None, metavar="N",
+                   help="bars in the estimation window (default: --days, the option's life)")
+    p.add_argument("--days", type=int, default=None, metavar="N",
+                   help="option life in bars: the cone column and GARCH horizon (default 21)")
+    add_annualization(p)
+    vols = p.add_mutually_exclusive_group()
+    vols.add_argument("--pricing-vol", type=float, default=None, metavar="V",
+                      help="one proposed pricing vol for every series, decimal (0.25 = 25%%)")
+    vols.add_argument("--pricing-vols", default=None, metavar="FILE",
+                      help="CSV of symbol,pricing_vol lines (a header line is allowed): a pricing vol per series")
+    p.add_argument("--with-garch", action="store_true",
+                   help="fit GARCH and report its forward vol over --days bars (slower: a fit per series)")
+    p.add_argument("--garch-model", choices=["garch", "gjr", "egarch", "all"], default="garch",
+                   help="model(s) fitted with --with-garch; 'all' ranks the three by BIC (default garch)")
+    p.add_argument("--jobs", type=int, default=None, metavar="N",
+                   help="worker processes on this machine (default: one per CPU; 1 runs in this process)")
+    p.add_argument("--scheduler", default=None, metavar="ADDRESS",
+                   help="run on a Dask cluster: tcp://HOST:PORT of its scheduler, or 'local' for a cluster on "
+                        "this machine ('processes' forces the local pool); default: DASK_SCHEDULER_ADDRESS "
+                        "when set. Needs pip install 'volbench[cluster]'")
+    p.add_argument("--format", choices=["table", "json", "csv"], default="table", help="output format (default table)")
+    p.add_argument("--to", default=None, metavar="FILE",
+                   help="write the output to FILE (atomically; never over an existing file without --force)")
+    p.add_argument("--force", action="store_true", help="with --to, replace FILE if it exists")
+    p.set_defaults(func=run_survey_command)
+
+
+def _settings(args: argparse.Namespace):
+    from volbench.data.quality import QualitySettings
+    from volbench.survey import DEFAULT_DAYS, SurveySettings, read_pricing_vols
+
+    per_series = read_pricing_vols(args.pricing_vols) if args.pricing_vols else {}
+    models = ("garch", "gjr", "egarch") if args.garch_model == "all" else (args.garch_model,)
+    return SurveySettings(
+        window=args.window, days=DEFAULT_DAYS if args.days is None else args.days,
+        annualization=args.annualization, pricing_vol=args.pricing_vol, pricing_vols=per_series,
+        with_garch=args.with_garch, garch_models=models, date_format=args.date_format,
+        exclude_flagged=args.exclude_flagged, use_adjusted=args.adjusted,
+        quality=QualitySettings(gap_days=args.gap_days),
+    )
+
+
+class _Bar:
+    """A one-line progress bar on stderr (only drawn when stderr is a terminal)."""
+
+    WIDTH = 24
+
+    def __init__(self) -> None:
+        self.start = time.perf_counter()
+        self.drawn = False
+
+    def __call__(self, done: int, total: int, name: str) -> None:
+        filled = int(self.WIDTH * done / max(total, 1))
+        bar = "#" * filled + "-" * (self.WIDTH - filled)
+        sys.stderr.write(f"\rsurvey [{bar}] {done}/{total} files, {time.perf_counter() - self.start:.1f} s "
+                         f"{name[:30]:<30}")
+        sys.stderr.flush()
+        self.drawn = True
+
+    def close(self) -> None:
+        if self.drawn:
+            sys.stderr.write("\n")
+            sys.stderr.flush()
+
+
+def run_survey_command(args: argparse.Namespace) -> int:
+    from volbench.export.atomic import atomic_write, check_destination
+    from volbench.survey import run_survey
+
+    settings = _settings(args)
+    if args.to is not None:
+        check_destination(args.to, overwrite=args.force)  # fail before the work, not after
+    elif args.force:
+        raise VolbenchError("--force only applies with --to FILE")
+    bar = _Bar() if sys.stderr.isatty() else None
+    try:
+        result = run_survey(args.files, settings, jobs=args.jobs, scheduler=args.scheduler, progress=bar)
+    finally:
+        if bar is not None:
+            bar.close()
+    text = render(result, args.format)
+    if args.to is None:
+        sys.stdout.write(text)
+    else:
+        path = atomic_write(args.to, text, overwrite=args.force)
+        print(f"surveyed {len(result.records)} series ({result.failed} failed) in {result.elapsed_s:.1f} s "
+              f"{_engine_text(result)}; wrote {path}")
+    unmatched = [k for k in settings.pricing_vols if k not in {r.name for r in result.records}]
+    if unmatched:
+        print(f"volbench: note: {args.pricing_vols} gives pricing vols for {len(unmatched)} symbol(s) not in the "
+              f"survey: {', '.join(unmatched[:10])}{' ...' if len(unmatched) > 10 else ''}", file=sys.stderr)
+    if result.succeeded == 0:
+        first = next((r.error for r in result.records if r.error), "no series found")
+        print(f"volbench: no series could be surveyed ({len(result.records)} failed); first: {first}",
+              file=sys.stderr)
+        return 2
+    return 0
+
+
+# ---------------------------------------------------------------------------- output
+def render(result, fmt: str) -> str:
+    """The survey as table, JSON or CSV text."""
+    if fmt == "json":
+        return json.dumps(_clean(result.as_dict()), indent=2, allow_nan=False) + "\n"
+    if fmt == "csv":
+        return _csv(result)
+    return _table(result)
+
+
+def _keys():
+    from volbench.estimators import REGISTRY
+
+    return REGISTRY
+
+
+def _csv(result) -> str:
+    keys = list(_keys())
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    head = ["series", "source", "rows", "as_of", "window", "days"]
+    for k in keys:
+        head += [f"{k}_vol", f"{k}_ci_low", f"{k}_ci_high", f"{k}_n"]
+    head += ["current_vol", "cone_percentile", "pricing_vol", "pricing_vol_percentile"]
+    head += [f"verdict_{p}" for p in VERDICT_ORDER]
+    head += ["forward_vol", "forward_vol_source", "findings_error", "findings_warning", "findings_info",
+             "unavailable", "error"]
+    w.writerow(head)
+
+    def num(x):
+        return "" if x is None else f"{x:.10g}"
+
+    for r in result.records:
+        row = [r.name, r.source or "", "" if r.rows is None else r.rows, r.as_of or "", r.window or "", r.days or ""]
+        for k in keys:
+            e = r.estimates.get(k)
+            row += ["", "", "", ""] if e is None else [num(e.vol), num(e.ci_low), num(e.ci_high), e.n]
+        row += [num(r.current_vol), num(r.cone_percentile), num(r.pricing_vol), num(r.pricing_vol_percentile)]
+        row += [r.verdicts.get(p, "") for p in VERDICT_ORDER]
+        row += [num(r.forward_vol), r.forward_vol_source or ""]
+        row += [r.findings.get(s, "") if r.ok or r.findings else "" for s in ("error", "warning", "info")]
+        row += ["; ".join(f"{k}: {v}" for k, v in r.unavailable.items()), r.error or ""]
+        w.writerow(row)
+    return buf.getvalue()
+
+
+def _table(result) -> str:
+    s = result.settings
+    garch = s.with_garch
+    head = ["series", "rows", "as of", f"c-c vol ({s.estimate_window})", "95% interval", "cone pctl",
+            "pricing vol", "its pctl", "VNID"]
+    if garch:
+        head += ["fwd vol", "source"]
+    head += ["findings e/w/i"]
+    rows, failures = [], []
+    for r in result.records:
+        if not r.ok:
+            failures.append(r)
+            continue
+        e = r.estimates.get("close_to_close")
+        marks = "".join(VERDICT_MARKS.get(r.verdicts.get(p, ""), "-") for p in VERDICT_ORDER)
+        row = [r.name, r.rows, r.as_of, pct(e.vol if e else None),
+               f"{pct(e.ci_low)} - {pct(e.ci_high)}" if e else "n/a",
+               _p(r.cone_percentile), pct(r.pricing_vol), _p(r.pricing_vol_percentile), marks]
+        if garch:
+            src = r.forward_vol_source or ""
+            row += [pct(r.forward_vol), "EWMA fallback" if "fallback" in src else src]
+        row += ["/".join(str(r.findings.get(k, 0)) for k in ("error", "warning", "info"))]
+        rows.append(row)
+    head_line = (f"survey of {len(result.records)} series ({result.failed} failed) in {result.elapsed_s:.1f} s "
+                 f"{_engine_text(result)}; window {s.estimate_window} bars, option life {s.days} bars, annualized "
+                 f"with {s.annualization:g} bars/year, flagged rows {'excluded' if s.exclude_flagged else 'kept'}")
+    out = [head_line]
+    if rows:
+        out += ["", render_table(head, rows, "lrl" + "r" * (len(head) - 3))]
+    if failures:
+        out += ["", "not surveyed:"] + [f"  {r.name}: {r.error}" for r in failures]
+    cone_line = (f"cone pctl: percentile of the series' {s.cone_estimator.replace('_', '-')} vol over the last "
+                 f"{s.days} bars in its own cone at {s.days} bars; its pctl: the pricing vol's percentile there.")
+    verdict_line = ("VNID: variance proportional to horizon, normal, independent increments, negligible drift "
+                    "(+ consistent, ? doubtful, x rejected, - not available; 'volbench scaling' explains).")
+    out += ["", cone_line, verdict_line,
+            "Figures a series lacks are listed with their reasons in --format json or csv. " + CAUTION]
+    return "\n".join(out) + "\n"
+
+
+def _engine_text(result) -> str:
+    n = result.workers
+    if result.engine == "serial":
+        return "in this process"
+    what = "Dask worker" if result.engine == "dask" else "worker process"
+    return f"on {n} {what}{'es' if n != 1 and what.endswith('s') else 's' if n != 1 else ''}"
+
+
+def _p(x) -> str:
+    return "n/a" if x is None else f"{x:.0f}"
