@@ -9,7 +9,14 @@ import json
 import sys
 import time
 
-from volbench.cli.common import _clean, add_annualization, add_file_options, pct, render_table
+from volbench.cli.common import (
+    _clean,
+    add_annualization,
+    add_file_options,
+    import_options,
+    pct,
+    render_table,
+)
 from volbench.errors import VolbenchError
 
 CAUTION = "Estimates are statistical and carry model risk; they are not advice."
@@ -64,7 +71,6 @@ def register(sub) -> None:
 
 
 def _settings(args: argparse.Namespace):
-    from volbench.data.quality import QualitySettings
     from volbench.survey import DEFAULT_DAYS, SurveySettings, read_pricing_vols
 
     per_series = read_pricing_vols(args.pricing_vols) if args.pricing_vols else {}
@@ -72,9 +78,7 @@ def _settings(args: argparse.Namespace):
     return SurveySettings(
         window=args.window, days=DEFAULT_DAYS if args.days is None else args.days,
         annualization=args.annualization, pricing_vol=args.pricing_vol, pricing_vols=per_series,
-        with_garch=args.with_garch, garch_models=models, date_format=args.date_format,
-        exclude_flagged=args.exclude_flagged, use_adjusted=args.adjusted,
-        quality=QualitySettings(gap_days=args.gap_days),
+        with_garch=args.with_garch, garch_models=models, import_options=import_options(args),
     )
 
 
@@ -201,12 +205,13 @@ def _table(result) -> str:
                _p(r.cone_percentile), pct(r.pricing_vol), _p(r.pricing_vol_percentile), marks]
         if garch:
             src = r.forward_vol_source or ""
-            row += [pct(r.forward_vol), "EWMA fallback" if "fallback" in src else src]
+            row += [pct(r.forward_vol), src.split(", because")[0] + " fallback" if ", because" in src else src]
         row += ["/".join(str(r.findings.get(k, 0)) for k in ("error", "warning", "info"))]
         rows.append(row)
     head_line = (f"survey of {len(result.records)} series ({result.failed} failed) in {result.elapsed_s:.1f} s "
                  f"{_engine_text(result)}; window {s.estimate_window} bars, option life {s.days} bars, annualized "
-                 f"with {s.annualization:g} bars/year, flagged rows {'excluded' if s.exclude_flagged else 'kept'}")
+                 f"with {s.annualization:g} bars/year, flagged rows "
+                 f"{'excluded' if s.import_options.exclude_flagged else 'kept'}")
     out = [head_line]
     if rows:
         out += ["", render_table(head, rows, "lrl" + "r" * (len(head) - 3))]

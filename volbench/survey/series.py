@@ -152,7 +152,7 @@ def survey_file(path: str | Path, settings: SurveySettings) -> list[SurveyRecord
     """
     p = Path(path)
     try:
-        histories = load_prices(p, **settings.load_kwargs())
+        histories = load_prices(p, settings.import_options)
     except Exception as exc:  # noqa: BLE001 - one bad file never stops a survey
         what = str(exc) if isinstance(exc, VolbenchError) else (
             f"{p}: internal error reading the file ({type(exc).__name__}: {exc}); please report it")

@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from types import MappingProxyType
 
-from volbench.data.quality import QualitySettings
+from volbench.data.options import ImportOptions
 from volbench.errors import VolbenchError
 from volbench.estimators import get_spec
 from volbench.pricing.bsm import check_pricing_vol
@@ -52,8 +52,8 @@ class SurveySettings:
         Estimator and windows of the volatility cone (the defaults of ``volbench cone``).
     horizons, alpha
         Horizons and significance level of the scaling check (the defaults of ``volbench scaling``).
-    date_format, exclude_flagged, use_adjusted, quality
-        Import options, as for every data command.
+    import_options
+        How files are read (:class:`volbench.data.ImportOptions`), as for every data command.
     """
 
     window: int | None = None
@@ -68,10 +68,7 @@ class SurveySettings:
     cone_windows: tuple[int, ...] = DEFAULT_CONE_WINDOWS
     horizons: tuple[int, ...] = DEFAULT_HORIZONS
     alpha: float = 0.05
-    date_format: str | None = None
-    exclude_flagged: bool = False
-    use_adjusted: bool = False
-    quality: QualitySettings = field(default_factory=QualitySettings)
+    import_options: ImportOptions = field(default_factory=ImportOptions)
 
     def __post_init__(self) -> None:
         set_ = object.__setattr__
@@ -100,8 +97,8 @@ class SurveySettings:
         set_(self, "cone_windows", _check_windows(self.cone_windows))
         set_(self, "horizons", check_horizons(self.horizons))
         set_(self, "alpha", check_alpha(self.alpha))
-        if not isinstance(self.quality, QualitySettings):
-            raise VolbenchError(f"quality must be QualitySettings, got {type(self.quality).__name__}")
+        if not isinstance(self.import_options, ImportOptions):
+            raise VolbenchError(f"import_options must be ImportOptions, got {type(self.import_options).__name__}")
 
     def __reduce__(self):  # MappingProxyType does not pickle: rebuild from a plain dict
         return (_rebuild, (self._fields(),))
@@ -120,18 +117,14 @@ class SurveySettings:
         """The pricing vol proposed for series ``name`` (per-series entry first), or ``None``."""
         return self.pricing_vols.get(name, self.pricing_vol)
 
-    def load_kwargs(self) -> dict:
-        """Keyword arguments for :func:`volbench.data.load_prices`."""
-        return {"date_format": self.date_format, "exclude_flagged": self.exclude_flagged,
-                "use_adjusted": self.use_adjusted, "quality": self.quality}
-
     def as_dict(self) -> dict:
         return {"window": self.estimate_window, "days": self.days, "annualization": self.annualization,
                 "pricing_vol": self.pricing_vol, "pricing_vols": len(self.pricing_vols),
                 "with_garch": self.with_garch, "garch_models": list(self.garch_models),
                 "garch_dist": self.garch_dist, "cone_estimator": self.cone_estimator,
                 "cone_windows": list(self.cone_windows), "horizons": list(self.horizons), "alpha": self.alpha,
-                "flagged_rows": "excluded" if self.exclude_flagged else "kept"}
+                "import": self.import_options.as_dict(),
+                "flagged_rows": "excluded" if self.import_options.exclude_flagged else "kept"}
 
 
 def _rebuild(fields: dict) -> SurveySettings:
