@@ -9,6 +9,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from volbench.data.logs import LogPrices
 from volbench.errors import VolbenchError
 from volbench.types import Column, Severity
 
@@ -234,9 +235,18 @@ class PriceHistory:
         """Size in bytes of the source file at load time (with :attr:`sha256`, tells a changed file)."""
         return self._size
 
+    @cached_property
+    def logs(self) -> LogPrices:
+        """Logs of the prices and shared per-bar terms, computed once per history (read-only arrays).
+
+        See :class:`volbench.data.logs.LogPrices`; derived histories (:meth:`take`, :meth:`select`,
+        :meth:`up_to`) are new objects and compute their own.
+        """
+        return LogPrices.of(self.close, self.open, self.high, self.low)
+
     def log_returns(self) -> np.ndarray:
-        """Close-to-close log returns r_t = ln(C_t / C_{t-1}), length n - 1."""
-        return np.diff(np.log(self.close))
+        """Close-to-close log returns r_t = ln(C_t / C_{t-1}), length n - 1 (a new, writable array)."""
+        return self.logs.returns.copy()
 
     def to_frame(self) -> pd.DataFrame:
         data = {c: getattr(self, c) for c in ("open", "high", "low", "close", "volume") if getattr(self, c) is not None}
@@ -267,7 +277,8 @@ class PriceHistory:
                          findings=tuple(sorted(self.findings + notes, key=_finding_order)))
 
     def take(self, mask: np.ndarray, **changes) -> PriceHistory:
-        """A copy keeping the rows where ``mask`` is true (findings and provenance carried over)."""
+        """A copy keeping the rows where ``mask`` is true, or the rows of a ``slice`` (findings and
+        provenance carried over)."""
         cols = {c: (None if getattr(self, c) is None else getattr(self, c)[mask]) for c in ("open", "high", "low", "close", "volume")}
         return replace(self, dates=self.dates[mask], lines=self.lines[mask], **cols, **changes)
 
@@ -277,19 +288,25 @@ class PriceHistory:
         A plain date includes every row stamped during that day; a date with a time of day
         includes rows up to that instant.
         """
+        k = self.end_index(as_of)
+        return self if k == self.n else self.take(slice(0, k))
+
+    def end_index(self, as_of: str | np.datetime64 | pd.Timestamp | None) -> int:
+        """How many rows :meth:`up_to` keeps for ``as_of`` (same rules, same errors), found by
+        binary search so that a caller needing only the last rows before ``as_of`` copies nothing else."""
         if as_of is None:
-            return self
+            return self.n
         ts = parse_as_of(as_of)
         end = np.datetime64(ts.to_datetime64(), "ns")
         if ts == ts.normalize():
             end = end + np.timedelta64(1, "D") - np.timedelta64(1, "ns")
-        mask = self.dates <= end
-        if not mask.any():
+        k = int(np.searchsorted(self.dates, end, side="right"))
+        if k == 0:
             raise VolbenchError(
                 f"{self.name}: as-of date {ts.date()} is before the first row ({self.first_date}); "
                 f"choose a date between {self.first_date} and {self.last_date}"
             )
-        return self if mask.all() else self.take(mask)
+        return k
 
     def provenance(self) -> dict:
         return {

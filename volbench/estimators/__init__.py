@@ -5,10 +5,12 @@ from volbench.estimators.registry import (
     ESTIMATOR_KEYS,
     REGISTRY,
     EstimateReport,
+    RollingReport,
     availability,
     estimate_all,
     get_spec,
     point_estimate,
+    rolling_all,
     rolling_vol,
 )
 
@@ -18,10 +20,12 @@ __all__ = [
     "Estimate",
     "EstimateReport",
     "EstimatorSpec",
+    "RollingReport",
     "RollingVol",
     "availability",
     "estimate_all",
     "get_spec",
     "point_estimate",
+    "rolling_all",
     "rolling_vol",
 ]

@@ -120,37 +120,53 @@ def rolling_mean(x: np.ndarray, w: int) -> np.ndarray:
     """Mean of each trailing window of ``w`` values; NaN for the first ``w - 1`` positions.
 
     Cumulative sums of the values centred on their overall mean, so that differences of large
-    partial sums do not cancel catastrophically on long series.
+    partial sums do not cancel catastrophically on long series. O(n), written into preallocated
+    buffers (one cumulative sum, no concatenation).
     """
     x = np.asarray(x, dtype=float)
     m = len(x)
-    out = np.full(m, np.nan)
+    out = np.empty(m)
     if m < w:
+        out.fill(np.nan)
         return out
+    out[:w - 1] = np.nan
     centre = float(np.mean(x))
-    c = np.concatenate(([0.0], np.cumsum(x - centre)))
-    out[w - 1:] = (c[w:] - c[:-w]) / w + centre
+    c = np.empty(m + 1)
+    c[0] = 0.0
+    np.cumsum(x - centre, out=c[1:])
+    v = out[w - 1:]
+    np.subtract(c[w:], c[:-w], out=v)
+    v /= w
+    v += centre
     return out
 
 
 def rolling_var(x: np.ndarray, w: int, ddof: int = 1) -> np.ndarray:
     """Sample variance (divisor ``w - ddof``) of each trailing window; NaN for the first ``w - 1``.
 
-    Computed from cumulative sums of ``x - mean(x)`` and its square (O(n)); tiny negative values
-    from rounding are set to zero.
+    Computed from cumulative sums of ``x - mean(x)`` and its square (O(n); both sums in one
+    call on a two-row buffer); tiny negative values from rounding are set to zero.
     """
     x = np.asarray(x, dtype=float)
     m = len(x)
-    out = np.full(m, np.nan)
+    out = np.empty(m)
     if m < w:
+        out.fill(np.nan)
         return out
-    y = x - float(np.mean(x))
-    c1 = np.concatenate(([0.0], np.cumsum(y)))
-    c2 = np.concatenate(([0.0], np.cumsum(y * y)))
-    s1 = c1[w:] - c1[:-w]
-    s2 = c2[w:] - c2[:-w]
-    v = (s2 - s1 * s1 / w) / (w - ddof)
-    out[w - 1:] = np.maximum(v, 0.0)
+    out[:w - 1] = np.nan
+    c = np.empty((2, m + 1))
+    c[:, 0] = 0.0
+    y = np.subtract(x, float(np.mean(x)), out=c[0, 1:])
+    np.multiply(y, y, out=c[1, 1:])
+    np.cumsum(c[:, 1:], axis=1, out=c[:, 1:])
+    s = c[:, w:] - c[:, :-w]
+    s1, s2 = s[0], s[1]
+    v = out[w - 1:]
+    np.multiply(s1, s1, out=s1)
+    s1 /= w
+    np.subtract(s2, s1, out=v)
+    v /= (w - ddof)
+    np.maximum(v, 0.0, out=v)
     return out
 
 
@@ -160,6 +176,8 @@ def pad_front(x: np.ndarray, k: int) -> np.ndarray:
 
 
 def ohlc_logs(h: PriceHistory) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """u = ln(H/O), d = ln(L/O), c = ln(C/O) per bar (docs/METHODS.md, Notation and conventions)."""
-    lo = np.log(h.open)
-    return np.log(h.high) - lo, np.log(h.low) - lo, np.log(h.close) - lo
+    """u = ln(H/O), d = ln(L/O), c = ln(C/O) per bar (docs/METHODS.md, Notation and conventions).
+
+    Read-only arrays computed once per history (:attr:`PriceHistory.logs`).
+    """
+    return h.logs.session

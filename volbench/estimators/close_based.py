@@ -22,7 +22,7 @@ def close_to_close_variance(h: PriceHistory, window: int, *, zero_mean: bool = F
     sum r^2 / n (common practice; e.g. Hull, *Options, Futures and Other Derivatives*).
     The value at bar t uses returns r_{t-n+1} .. r_t, i.e. closes t-n .. t.
     """
-    r = h.log_returns()
+    r = h.logs.returns
     v = rolling_mean(r * r, window) if zero_mean else rolling_var(r, window, ddof=1)
     return pad_front(v, 1)
 
@@ -37,9 +37,13 @@ def ewma_variance(h: PriceHistory, window: int, *, lam: float = EWMA_LAMBDA) -> 
     v_t = lambda v_{t-1} + (1 - lambda) r_t^2, with v at the end of the first ``window`` returns
     equal to their sample variance (divisor n - 1). The window only sets the seed; every later
     return is used. Computed as a first-order linear filter (O(n)).
+
+    The recursion needs the whole history: the value at the last bar depends on the seed (the
+    first ``window`` returns) and on every return after it, so even a point estimate costs
+    O(history), unlike the window estimators (one ``lfilter`` pass over the squared returns).
     """
     lam = validate.lam(lam)
-    r = h.log_returns()
+    r = h.logs.returns
     out = np.full(h.n, np.nan)
     if len(r) < window:
         return out

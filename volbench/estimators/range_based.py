@@ -12,7 +12,7 @@ LN2 = np.log(2.0)
 
 def parkinson_variance(h: PriceHistory, window: int) -> np.ndarray:
     """Parkinson (1980), J. of Business 53(1): (1 / (4 ln 2)) * mean((ln(H/L))^2) over the window."""
-    hl = np.log(h.high) - np.log(h.low)
+    hl = h.logs.range
     return rolling_mean(hl * hl, window) / (4.0 * LN2)
 
 
@@ -23,8 +23,8 @@ def garman_klass_variance(h: PriceHistory, window: int) -> np.ndarray:
 
 
 def _rs_terms(h: PriceHistory) -> np.ndarray:
-    u, d, c = ohlc_logs(h)
-    return u * (u - c) + d * (d - c)
+    """u (u - c) + d (d - c) per bar, computed once per history (read-only)."""
+    return h.logs.rogers_satchell
 
 
 def rogers_satchell_variance(h: PriceHistory, window: int) -> np.ndarray:
@@ -42,9 +42,9 @@ def yang_zhang_parts(h: PriceHistory, window: int) -> tuple[np.ndarray, np.ndarr
     nan = np.full(h.n, np.nan)
     if h.n < window + 1:
         return nan, nan.copy(), nan.copy()
-    o = np.log(h.open[1:]) - np.log(h.close[:-1])
-    c = np.log(h.close[1:]) - np.log(h.open[1:])
-    parts = (rolling_var(o, window), rolling_var(c, window), rolling_mean(_rs_terms(h)[1:], window))
+    logs = h.logs
+    parts = (rolling_var(logs.overnight, window), rolling_var(logs.session[2][1:], window),
+             rolling_mean(logs.rogers_satchell[1:], window))
     return tuple(np.concatenate(([np.nan], p)) for p in parts)
 
 

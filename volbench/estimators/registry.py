@@ -54,10 +54,22 @@ def _rolling_count(flags: np.ndarray, w: int) -> np.ndarray:
 
 def _uninformative(spec: EstimatorSpec, history: PriceHistory, window: int) -> np.ndarray:
     """True at bars whose window carries no information for ``spec`` (zero range, or no price moves)."""
+    empty = _empty_windows(spec, history, window)
+    return np.zeros(history.n, dtype=bool) if empty is None else empty
+
+
+def _empty_windows(spec: EstimatorSpec, history: PriceHistory, window: int) -> np.ndarray | None:
+    """:func:`_uninformative`, or ``None`` when no bar is (the usual case, found without a rolling
+    count: every bar has a range, or every close moved)."""
+    logs = history.logs
     if "high" in spec.needs:
-        moved = np.log(history.high) - np.log(history.low) > 0
+        if not logs.any_flat_range:
+            return None
+        moved = logs.range > 0
         return ~(_rolling_count(moved, window) > 0)
-    r = history.log_returns()
+    if not logs.any_flat_return:
+        return None
+    r = logs.returns
     if spec.key == "ewma":
         seen = np.concatenate(([0], np.cumsum(r != 0)))
         return seen == 0
@@ -149,26 +161,93 @@ def rolling_vol(
         Missing columns, too few rows for the window, or no window carrying information (zero
         range on every bar, closes that never move). Single windows without information, like
         windows with inconsistent OHLC bars, are left out and listed in ``invalid_dates``.
+
+    Notes
+    -----
+    The logs of the prices are taken once per history (:attr:`PriceHistory.logs`) and shared by
+    every estimator; :func:`rolling_all` returns every estimator's series in one call.
     """
+    a, w = _rolling_settings(annualization, window)
+    return _rolling(history, get_spec(key), w, a, options)
+
+
+def _rolling_settings(annualization: float, window: int) -> tuple[float, int]:
     a = check_annualization(annualization)
     w = check_window(window, minimum=1)
     if w is None:
         raise VolbenchError("a rolling series needs a window in bars, not 'all'")
-    spec, w = _check(history, key, w)
+    return a, w
+
+
+def _rolling(history: PriceHistory, spec: EstimatorSpec, window: int, a: float, options: dict) -> RollingVol:
+    spec, w = _check(history, spec.key, window)
     var = _variance(spec, history, w, options)
     first = spec.bars_needed(w) - 1
     seg = var[first:]
-    empty = _uninformative(spec, history, w)[first:]
-    if empty.all():
-        raise EstimatorUnavailable(spec.key, _why_uninformative(spec))
-    bad = ~(seg >= 0) | empty
+    empty = _empty_windows(spec, history, w)
+    if empty is not None:
+        empty = empty[first:]
+        if empty.all():
+            raise EstimatorUnavailable(spec.key, _why_uninformative(spec))
+    bad = seg >= 0.0
+    np.logical_not(bad, out=bad)  # negative or NaN
+    if empty is not None:
+        bad |= empty
     idx = history.index[first:]
     if not bad.any():  # the usual case: no inconsistent bars, no masking needed
-        values = pd.Series(np.sqrt(seg * a), index=idx, name=spec.key, copy=False)
+        vol = np.multiply(seg, a)
+        np.sqrt(vol, out=vol)
+        values = pd.Series(vol, index=idx, name=spec.key, copy=False)
         return RollingVol(spec.key, spec.label, w, a, values, ())
     values = pd.Series(np.sqrt(np.where(bad, np.nan, seg) * a), index=idx, name=spec.key, copy=False)
     invalid = tuple(_iso(d) for d in history.dates[first:][bad])
     return RollingVol(spec.key, spec.label, w, a, values[~bad], invalid)
+
+
+@dataclass(frozen=True)
+class RollingReport:
+    """Rolling vols of several estimators for one history and window (:func:`rolling_all`).
+
+    ``series`` maps each available estimator key to its :class:`RollingVol`; ``unavailable``
+    maps the others to the reason.
+    """
+
+    window: int
+    annualization: float
+    series: dict[str, RollingVol]
+    unavailable: dict[str, str] = field(default_factory=dict)
+
+
+def rolling_all(
+    history: PriceHistory,
+    window: int,
+    *,
+    keys: tuple[str, ...] | None = None,
+    annualization: float = DEFAULT_ANNUALIZATION,
+    **options,
+) -> RollingReport:
+    """Every (or the chosen) estimator's rolling vol over ``window`` bars, in one call.
+
+    Each series equals :func:`rolling_vol` for that key; an estimator that cannot be computed is
+    listed in ``unavailable`` with its reason instead of raising.
+
+    Notes
+    -----
+    Settings are validated once; the logs of the four price arrays and the per-bar terms several
+    estimators share (the log range, u/d/c, the Rogers-Satchell term, close-to-close returns)
+    are computed once per history and kept on it (:class:`volbench.data.logs.LogPrices`), so the
+    six series cost the six cumulative sums and little more.
+    """
+    a, w = _rolling_settings(annualization, window)
+    specs = [get_spec(k) for k in (tuple(keys) if keys else ESTIMATOR_KEYS)]
+    series: dict[str, RollingVol] = {}
+    unavailable: dict[str, str] = {}
+    for spec in specs:
+        try:
+            series[spec.key] = _rolling(history, spec, w, a, options)
+        except EstimatorUnavailable as exc:
+            unavailable[spec.key] = exc.reason
+    return RollingReport(w, a, series, unavailable)
 
 
 def point_estimate(
@@ -201,7 +280,8 @@ def point_estimate(
     a = check_annualization(annualization)
     w = check_window(window, minimum=1)
     confidence = validate.level(confidence)
-    h = history.up_to(validate.as_of_for(history, as_of))
+    end = history.end_index(validate.as_of_for(history, as_of))
+    h = _estimation_rows(history, get_spec(key), w, end)
     spec, w_eff = _check(h, key, w)
     all_var = _variance(spec, h, w_eff, options)
     var = float(all_var[-1])
@@ -213,7 +293,7 @@ def point_estimate(
     s = np.sqrt(var)
     dof = dof_series(spec, h, w_eff, all_var, options)
     dof = float(dof[-1]) if np.ndim(dof) else float(dof)
-    if spec.key == "ewma":
+    if spec.key in WHOLE_HISTORY:
         n = h.n - 1
         method = f"approximate: chi-square with effective n {dof:.1f}"
     else:
@@ -232,6 +312,29 @@ def point_estimate(
         n=int(n), window=w, as_of=h.last_date, annualization=a, confidence=confidence, ci_method=method,
         dof=dof, note=intervals.discretisation_note(spec.key),
     )
+
+
+WHOLE_HISTORY = frozenset({"ewma"})
+"""Estimators whose value at a bar depends on every row before it (EWMA's recursion starts from
+the first window's variance), so a point estimate needs the whole history up to the as-of date."""
+
+
+def _estimation_rows(history: PriceHistory, spec: EstimatorSpec, window: int | None, end: int) -> PriceHistory:
+    """The rows a point estimate of ``spec`` ending at row ``end`` (exclusive) depends on.
+
+    A window estimator needs only its last ``window + extra_bars`` rows, so the estimate costs
+    O(window) however long the history (its rolling value there agrees with the full rolling
+    series to rounding: the cumulative sums start at a different row). The whole sample
+    (``window`` None) and EWMA need every row up to ``end``. A history too short for the window
+    is returned whole, so that availability reports its true length.
+    """
+    if window is None or spec.key in WHOLE_HISTORY:
+        start = 0
+    else:
+        start = max(0, end - spec.bars_needed(window))
+    if start == 0 and end == history.n:
+        return history
+    return history.take(slice(start, end))
 
 
 @dataclass(frozen=True)
