@@ -15,6 +15,8 @@ from volbench.estimators import (
     rolling_all,
     rolling_vol,
 )
+from volbench.estimators.registry import FORMS
+from volbench.estimators.sums import Terms, form_variance, forms_variances
 
 
 def test_logs_are_computed_once_per_history_and_read_only(simulate_ohlc):
@@ -27,9 +29,11 @@ def test_logs_are_computed_once_per_history_and_read_only(simulate_ohlc):
         with pytest.raises(ValueError, match="read-only"):
             getattr(logs, col)[0] = 0.0
     np.testing.assert_array_equal(logs.returns, np.diff(np.log(h.close)))
-    u, d, c = logs.session
-    np.testing.assert_array_equal(logs.rogers_satchell, u * (u - c) + d * (d - c))
-    np.testing.assert_array_equal(logs.overnight, np.log(h.open[1:]) - np.log(h.close[:-1]))
+    t = Terms(logs)
+    u, d, c = t.session
+    np.testing.assert_array_equal(u, np.log(h.high) - np.log(h.open))
+    np.testing.assert_array_equal(t.rogers_satchell, u * (u - c) + d * (d - c))
+    np.testing.assert_array_equal(t.overnight, np.log(h.open[1:]) - np.log(h.close[:-1]))
     r = h.log_returns()  # callers still get their own writable copy
     r[0] = 99.0
     assert logs.returns[0] != 99.0
@@ -41,6 +45,21 @@ def test_close_only_history_has_close_logs_only(make_history):
     h = make_history([10.0, 11.0, 10.5, 10.5])
     assert h.logs.open is None and h.logs.high is None
     assert h.logs.any_flat_return  # 10.5 -> 10.5
+
+
+@pytest.mark.parametrize("window", [2, 7, 60])
+def test_window_sum_forms_together_equal_each_form_alone(simulate_ohlc, window):
+    # Same operations in the same order, sums from one stacked cumulative sum: identical to the
+    # last bit (common practice, no source); each form is its estimator's variance function.
+    h = simulate_ohlc(400, 0.3, seed=70, steps=10, overnight_share=0.3, mu_annual=0.2)
+    forms = {fn.__name__: form for fn, form in FORMS.items()}
+    together = forms_variances(h, window, forms)
+    for fn, form in FORMS.items():
+        alone = form_variance(h, window, form)
+        np.testing.assert_array_equal(together[fn.__name__], alone)
+        np.testing.assert_array_equal(fn(h, window), alone)
+        first = window - 1 + form.offset
+        assert np.isnan(alone[:first]).all() and np.isfinite(alone[first:]).all()
 
 
 @pytest.mark.parametrize("window", [2, 20])

@@ -2,9 +2,11 @@
 
 :attr:`volbench.data.history.PriceHistory.logs` builds a :class:`LogPrices` the first time it is
 read and keeps it on the (immutable) history, so the six estimators, the cone and the scaling
-check take the logarithm of each price array once per history instead of once per call. Derived
-per-bar terms that several estimators share are computed on first use and kept too. Every array
-here is read-only: callers that need to modify one must copy it.
+check take the logarithm of each price array once per history instead of once per call, and the
+close-to-close returns once too. Terms built from several logs (u, d, c, the Rogers-Satchell
+term) are not kept: they are computed per call and shared within it
+(:class:`volbench.estimators.sums.Terms`), so a history holds five extra arrays, not a dozen.
+Every array here is read-only: callers that need to modify one must copy it.
 """
 
 from __future__ import annotations
@@ -26,7 +28,7 @@ def _log(a: np.ndarray | None) -> np.ndarray | None:
 
 @dataclass(frozen=True, eq=False)
 class LogPrices:
-    """Natural logs of a history's prices and the per-bar terms built from them.
+    """Natural logs of a history's prices and its close-to-close log returns.
 
     Attributes
     ----------
@@ -35,10 +37,7 @@ class LogPrices:
 
     Notes
     -----
-    Notation of docs/METHODS.md, "Notation and conventions": r_t = ln(C_t / C_{t-1}),
-    u = ln(H/O), d = ln(L/O), c = ln(C/O). The terms are differences of the cached logs, computed
-    exactly as the estimators' formulas state them (so a cached term equals the one an estimator
-    would compute on its own, to the last bit).
+    Notation of docs/METHODS.md, "Notation and conventions": r_t = ln(C_t / C_{t-1}).
     """
 
     close: np.ndarray
@@ -62,27 +61,6 @@ class LogPrices:
         return bool((self.returns == 0.0).any())
 
     @cached_property
-    def range(self) -> np.ndarray:
-        """ln(H/L) = ln H - ln L per bar (Parkinson's range)."""
-        return _frozen(self.high - self.low)
-
-    @cached_property
     def any_flat_range(self) -> bool:
         """True when some bar has no range (ln H - ln L not above 0)."""
-        return not bool((self.range > 0).all())
-
-    @cached_property
-    def session(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        """(u, d, c) = (ln H - ln O, ln L - ln O, ln C - ln O) per bar."""
-        return (_frozen(self.high - self.open), _frozen(self.low - self.open), _frozen(self.close - self.open))
-
-    @cached_property
-    def rogers_satchell(self) -> np.ndarray:
-        """u (u - c) + d (d - c) per bar (Rogers & Satchell 1991)."""
-        u, d, c = self.session
-        return _frozen(u * (u - c) + d * (d - c))
-
-    @cached_property
-    def overnight(self) -> np.ndarray:
-        """o_t = ln O_t - ln C_{t-1}, length n - 1 (bar 1 onwards)."""
-        return _frozen(self.open[1:] - self.close[:-1])
+        return not bool((self.high - self.low > 0).all())

@@ -116,52 +116,89 @@ class RollingVol:
 
 
 # ---------------------------------------------------------------------- O(n) rolling helpers
-def rolling_mean(x: np.ndarray, w: int) -> np.ndarray:
+def mean_of(x: np.ndarray) -> float:
+    """``numpy.mean`` of a 1-D float array (the same pairwise sum and division, less call overhead)."""
+    return float(np.add.reduce(x) / x.shape[0])
+
+
+def sample_variance(x: np.ndarray) -> float:
+    """``numpy.var(x, ddof=1)`` of a 1-D float array: the same two passes, less call overhead."""
+    n = x.shape[0]
+    d = x - np.add.reduce(x) / n
+    return float(np.add.reduce(d * d) / (n - 1))
+
+
+def _nan_led(m: int, w: int, pad: int) -> np.ndarray:
+    """An output of ``pad + m`` values whose first ``pad + w - 1`` are NaN (all NaN when m < w)."""
+    out = np.empty(pad + m)
+    out[:pad + min(w - 1, m)] = np.nan
+    return out
+
+
+def trailing_sums(x: np.ndarray, w: int) -> np.ndarray:
+    """Sums of each trailing window of ``w`` values (length ``len(x) - w + 1``), from one cumulative sum.
+
+    Callers centre ``x`` first when its mean is large against its spread (see :func:`rolling_mean`).
+    """
+    c = np.empty(x.shape[0] + 1)
+    c[0] = 0.0
+    np.cumsum(x, out=c[1:])
+    return np.subtract(c[w:], c[:-w])
+
+
+def rolling_mean(x: np.ndarray, w: int, *, pad: int = 0) -> np.ndarray:
     """Mean of each trailing window of ``w`` values; NaN for the first ``w - 1`` positions.
 
     Cumulative sums of the values centred on their overall mean, so that differences of large
-    partial sums do not cancel catastrophically on long series. O(n), written into preallocated
-    buffers (one cumulative sum, no concatenation).
+    partial sums do not cancel catastrophically on long series. O(n): one cumulative sum.
+    ``pad`` NaNs are put in front (aligning returns, n - 1 of them, with n bars).
     """
     x = np.asarray(x, dtype=float)
-    m = len(x)
-    out = np.empty(m)
+    m = x.shape[0]
+    out = _nan_led(m, w, pad)
     if m < w:
-        out.fill(np.nan)
         return out
-    out[:w - 1] = np.nan
-    centre = float(np.mean(x))
+    centre = mean_of(x)
+    v = out[pad + w - 1:]
     c = np.empty(m + 1)
     c[0] = 0.0
     np.cumsum(x - centre, out=c[1:])
-    v = out[w - 1:]
     np.subtract(c[w:], c[:-w], out=v)
     v /= w
     v += centre
     return out
 
 
-def rolling_var(x: np.ndarray, w: int, ddof: int = 1) -> np.ndarray:
+def rolling_var(x: np.ndarray, w: int, ddof: int = 1, *, window_sums: np.ndarray | None = None,
+                pad: int = 0) -> np.ndarray:
     """Sample variance (divisor ``w - ddof``) of each trailing window; NaN for the first ``w - 1``.
 
-    Computed from cumulative sums of ``x - mean(x)`` and its square (O(n); both sums in one
-    call on a two-row buffer); tiny negative values from rounding are set to zero.
+    Computed from cumulative sums of ``x - mean(x)`` and its square (O(n)); tiny negative values
+    from rounding are set to zero. ``window_sums``, the plain sums of ``x`` over each trailing
+    window (length ``len(x) - w + 1``), saves one cumulative sum when the caller has them for free:
+    the window sums of log returns are differences of log prices (``ln C_t - ln C_{t-w}``).
+    ``pad`` NaNs are put in front, as in :func:`rolling_mean`.
     """
     x = np.asarray(x, dtype=float)
-    m = len(x)
-    out = np.empty(m)
+    m = x.shape[0]
+    out = _nan_led(m, w, pad)
     if m < w:
-        out.fill(np.nan)
         return out
-    out[:w - 1] = np.nan
-    c = np.empty((2, m + 1))
-    c[:, 0] = 0.0
-    y = np.subtract(x, float(np.mean(x)), out=c[0, 1:])
-    np.multiply(y, y, out=c[1, 1:])
-    np.cumsum(c[:, 1:], axis=1, out=c[:, 1:])
-    s = c[:, w:] - c[:, :-w]
-    s1, s2 = s[0], s[1]
-    v = out[w - 1:]
+    mean = mean_of(x)
+    y = x - mean
+    if window_sums is None:
+        c = np.empty((2, m + 1))
+        c[:, 0] = 0.0
+        c[0, 1:] = y
+        np.multiply(y, y, out=c[1, 1:])
+        np.cumsum(c[:, 1:], axis=1, out=c[:, 1:])
+        s = c[:, w:] - c[:, :-w]
+        s1, s2 = s[0], s[1]
+    else:
+        np.multiply(y, y, out=y)
+        s2 = trailing_sums(y, w)
+        s1 = np.subtract(window_sums, w * mean)
+    v = out[pad + w - 1:]
     np.multiply(s1, s1, out=s1)
     s1 /= w
     np.subtract(s2, s1, out=v)
@@ -178,6 +215,7 @@ def pad_front(x: np.ndarray, k: int) -> np.ndarray:
 def ohlc_logs(h: PriceHistory) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """u = ln(H/O), d = ln(L/O), c = ln(C/O) per bar (docs/METHODS.md, Notation and conventions).
 
-    Read-only arrays computed once per history (:attr:`PriceHistory.logs`).
+    New arrays, from the logs kept on the history (:attr:`PriceHistory.logs`).
     """
-    return h.logs.session
+    lo = h.logs.open
+    return h.logs.high - lo, h.logs.low - lo, h.logs.close - lo

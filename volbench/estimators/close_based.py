@@ -7,10 +7,34 @@ from scipy.signal import lfilter
 
 from volbench import validate
 from volbench.data.history import PriceHistory
-from volbench.estimators.base import EstimatorSpec, pad_front, rolling_mean, rolling_var
+from volbench.estimators.base import EstimatorSpec, rolling_mean, sample_variance
+from volbench.estimators.sums import SumForm, Terms, centred, form_variance
 
 EWMA_LAMBDA = 0.94
 """RiskMetrics decay for daily data (J.P. Morgan/Reuters RiskMetrics Technical Document, 1996)."""
+
+
+def _close_to_close_rows(t: Terms, window: int):
+    y, mean = centred(t.returns)
+    y *= y
+    return (y,), mean
+
+
+def _close_to_close_finish(t: Terms, window: int, sums, mean: float, out: np.ndarray) -> None:
+    # rolling_var with the window sums of r telescoped: sum of r_{t-n+1..t} = ln C_t - ln C_{t-n}
+    w = window
+    lc = t.logs.close
+    s1 = lc[w:] - lc[:-w]
+    s1 -= w * mean
+    s1 *= s1
+    s1 /= w
+    np.subtract(sums[0], s1, out=out)
+    out /= (w - 1)
+    np.maximum(out, 0.0, out=out)
+
+
+CLOSE_TO_CLOSE_FORM = SumForm(_close_to_close_rows, _close_to_close_finish, offset=1)
+"""The sample-variance form (divisor n - 1); the zero-mean option is evaluated on its own."""
 
 
 def close_to_close_variance(h: PriceHistory, window: int, *, zero_mean: bool = False) -> np.ndarray:
@@ -20,11 +44,14 @@ def close_to_close_variance(h: PriceHistory, window: int, *, zero_mean: bool = F
     -----
     r_t = ln(C_t / C_{t-1}); variance = sum (r - rbar)^2 / (n - 1), or with ``zero_mean``
     sum r^2 / n (common practice; e.g. Hull, *Options, Futures and Other Derivatives*).
-    The value at bar t uses returns r_{t-n+1} .. r_t, i.e. closes t-n .. t.
+    The value at bar t uses returns r_{t-n+1} .. r_t, i.e. closes t-n .. t. O(n): the window
+    sums of r are differences of log closes, those of the centred squares one cumulative sum
+    (:func:`volbench.estimators.base.rolling_var`).
     """
-    r = h.logs.returns
-    v = rolling_mean(r * r, window) if zero_mean else rolling_var(r, window, ddof=1)
-    return pad_front(v, 1)
+    if zero_mean:
+        r = h.logs.returns
+        return rolling_mean(r * r, window, pad=1)
+    return form_variance(h, window, CLOSE_TO_CLOSE_FORM)
 
 
 def ewma_variance(h: PriceHistory, window: int, *, lam: float = EWMA_LAMBDA) -> np.ndarray:
@@ -47,8 +74,9 @@ def ewma_variance(h: PriceHistory, window: int, *, lam: float = EWMA_LAMBDA) -> 
     out = np.full(h.n, np.nan)
     if len(r) < window:
         return out
-    seed = float(np.var(r[:window], ddof=1))
-    tail = lfilter([1.0 - lam], [1.0, -lam], r[window:] ** 2, zi=[lam * seed])[0]
+    seed = sample_variance(r[:window])
+    sq = r[window:] * r[window:]
+    tail = lfilter([1.0 - lam], [1.0, -lam], sq, zi=[lam * seed])[0]
     out[window] = seed
     out[window + 1:] = tail
     return out

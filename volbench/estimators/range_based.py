@@ -5,31 +5,74 @@ from __future__ import annotations
 import numpy as np
 
 from volbench.data.history import PriceHistory
-from volbench.estimators.base import EstimatorSpec, ohlc_logs, rolling_mean, rolling_var
+from volbench.estimators.base import EstimatorSpec, rolling_mean, rolling_var
+from volbench.estimators.sums import SumForm, Terms, centred, finish_mean, form_variance
 
 LN2 = np.log(2.0)
 
 
+# Each estimator is a SumForm (volbench.estimators.sums): the per-bar terms whose trailing-window
+# sums it needs, and how they combine. ``*_variance`` evaluates the form alone; the registry
+# evaluates several forms together on shared terms, with the same numbers.
+def _parkinson_rows(t: Terms, window: int):
+    hl = t.range
+    x, centre = centred(hl * hl)
+    return (x,), centre
+
+
+def _parkinson_finish(t: Terms, window: int, sums, centre: float, out: np.ndarray) -> None:
+    finish_mean(window, sums[0], centre, out)
+    out /= 4.0 * LN2
+
+
+PARKINSON_FORM = SumForm(_parkinson_rows, _parkinson_finish)
+
+
 def parkinson_variance(h: PriceHistory, window: int) -> np.ndarray:
     """Parkinson (1980), J. of Business 53(1): (1 / (4 ln 2)) * mean((ln(H/L))^2) over the window."""
-    hl = h.logs.range
-    return rolling_mean(hl * hl, window) / (4.0 * LN2)
+    return form_variance(h, window, PARKINSON_FORM)
+
+
+def _garman_klass_rows(t: Terms, window: int):
+    u, d, c = t.session
+    term = u - d
+    term *= term
+    term *= 0.5
+    cc = c * (2.0 * LN2 - 1.0)
+    cc *= c
+    term -= cc
+    x, centre = centred(term)
+    return (x,), centre
+
+
+def _mean_finish(t: Terms, window: int, sums, centre: float, out: np.ndarray) -> None:
+    finish_mean(window, sums[0], centre, out)
+
+
+GARMAN_KLASS_FORM = SumForm(_garman_klass_rows, _mean_finish)
 
 
 def garman_klass_variance(h: PriceHistory, window: int) -> np.ndarray:
     """Garman & Klass (1980), J. of Business 53(1): mean(0.5 (u - d)^2 - (2 ln 2 - 1) c^2)."""
-    u, d, c = ohlc_logs(h)
-    return rolling_mean(0.5 * (u - d) ** 2 - (2.0 * LN2 - 1.0) * c * c, window)
+    return form_variance(h, window, GARMAN_KLASS_FORM)
 
 
 def _rs_terms(h: PriceHistory) -> np.ndarray:
-    """u (u - c) + d (d - c) per bar, computed once per history (read-only)."""
-    return h.logs.rogers_satchell
+    """u (u - c) + d (d - c) per bar."""
+    return Terms(h.logs).rogers_satchell
+
+
+def _rogers_satchell_rows(t: Terms, window: int):
+    x, centre = centred(t.rogers_satchell)
+    return (x,), centre
+
+
+ROGERS_SATCHELL_FORM = SumForm(_rogers_satchell_rows, _mean_finish)
 
 
 def rogers_satchell_variance(h: PriceHistory, window: int) -> np.ndarray:
     """Rogers & Satchell (1991), Annals of Applied Probability 1(4): mean(u (u - c) + d (d - c))."""
-    return rolling_mean(_rs_terms(h), window)
+    return form_variance(h, window, ROGERS_SATCHELL_FORM)
 
 
 def yang_zhang_k(window: int) -> float:
@@ -42,10 +85,51 @@ def yang_zhang_parts(h: PriceHistory, window: int) -> tuple[np.ndarray, np.ndarr
     nan = np.full(h.n, np.nan)
     if h.n < window + 1:
         return nan, nan.copy(), nan.copy()
-    logs = h.logs
-    parts = (rolling_var(logs.overnight, window), rolling_var(logs.session[2][1:], window),
-             rolling_mean(logs.rogers_satchell[1:], window))
-    return tuple(np.concatenate(([np.nan], p)) for p in parts)
+    t = Terms(h.logs)
+    return (rolling_var(t.overnight, window, pad=1), rolling_var(t.session[2][1:], window, pad=1),
+            rolling_mean(t.rogers_satchell[1:], window, pad=1))
+
+
+def _yang_zhang_rows(t: Terms, window: int):
+    # V_o + k V_c + (1 - k) V_rs in two trailing sums: with centred y_o = o - mean(o), y_c = c - mean(c),
+    #   V_o + k V_c = [S(y_o^2) + k S(y_c^2) - (S(y_o)^2 + k S(y_c)^2) / n] / (n - 1),
+    # so one sum of the combined squares (the centred Rogers-Satchell term folded in) and one of
+    # y_c; S(y_o) telescopes, since o_t + c_t = r_t: S(o) = ln C_t - ln C_{t-n} - S(c).
+    w = window
+    k = yang_zhang_k(w)
+    o, c, rs = t.overnight, t.session[2][1:], t.rogers_satchell[1:]
+    y_o, m_o = centred(o)
+    y_c, m_c = centred(c)
+    y_rs, m_rs = centred(rs)
+    g = y_o
+    g *= y_o
+    sq = y_c * y_c
+    sq *= k
+    g += sq
+    g /= (w - 1)
+    y_rs *= (1.0 - k) / w
+    g += y_rs
+    return (g, y_c), (k, m_o, m_c, m_rs)
+
+
+def _yang_zhang_finish(t: Terms, window: int, sums, state, out: np.ndarray) -> None:
+    w = window
+    k, m_o, m_c, m_rs = state
+    s_g, s_c = sums
+    lc = t.logs.close
+    s_o = lc[w:] - lc[:-w]
+    s_o -= s_c
+    s_o -= w * (m_o + m_c)
+    s_o *= s_o
+    s_c *= s_c
+    s_c *= k
+    s_o += s_c
+    s_o /= w * (w - 1)
+    np.subtract(s_g, s_o, out=out)
+    out += (1.0 - k) * m_rs
+
+
+YANG_ZHANG_FORM = SumForm(_yang_zhang_rows, _yang_zhang_finish, offset=1)
 
 
 def yang_zhang_variance(h: PriceHistory, window: int) -> np.ndarray:
@@ -55,9 +139,7 @@ def yang_zhang_variance(h: PriceHistory, window: int) -> np.ndarray:
     and the open-to-close return c_t = ln(C_t / O_t) over the window; V_rs is the Rogers-Satchell
     mean over the same n bars. The first bar has no previous close, so a window of n needs n + 1 rows.
     """
-    v_o, v_c, v_rs = yang_zhang_parts(h, window)
-    k = yang_zhang_k(window)
-    return v_o + k * v_c + (1.0 - k) * v_rs
+    return form_variance(h, window, YANG_ZHANG_FORM)
 
 
 _OHLC = frozenset({"open", "high", "low", "close"})

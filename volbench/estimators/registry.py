@@ -17,14 +17,29 @@ from volbench.data.history import PriceHistory, _iso
 from volbench.errors import EstimatorUnavailable, VolbenchError
 from volbench.estimators import intervals
 from volbench.estimators.base import Estimate, EstimatorSpec, RollingVol
-from volbench.estimators.close_based import CLOSE_TO_CLOSE, EWMA, EWMA_LAMBDA
+from volbench.estimators.close_based import (
+    CLOSE_TO_CLOSE,
+    CLOSE_TO_CLOSE_FORM,
+    EWMA,
+    EWMA_LAMBDA,
+    close_to_close_variance,
+)
 from volbench.estimators.range_based import (
     GARMAN_KLASS,
+    GARMAN_KLASS_FORM,
     PARKINSON,
+    PARKINSON_FORM,
     ROGERS_SATCHELL,
+    ROGERS_SATCHELL_FORM,
     YANG_ZHANG,
+    YANG_ZHANG_FORM,
+    garman_klass_variance,
+    parkinson_variance,
+    rogers_satchell_variance,
     yang_zhang_parts,
+    yang_zhang_variance,
 )
+from volbench.estimators.sums import SumForm, forms_variances
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_window
 
 REGISTRY: dict[str, EstimatorSpec] = {
@@ -65,7 +80,7 @@ def _empty_windows(spec: EstimatorSpec, history: PriceHistory, window: int) -> n
     if "high" in spec.needs:
         if not logs.any_flat_range:
             return None
-        moved = logs.range > 0
+        moved = logs.high - logs.low > 0
         return ~(_rolling_count(moved, window) > 0)
     if not logs.any_flat_return:
         return None
@@ -95,8 +110,12 @@ def dof_series(spec: EstimatorSpec, history: PriceHistory, window: int, variance
 
 def availability(history: PriceHistory, key: str, window: int | None) -> str | None:
     """Why ``key`` cannot be computed on ``history`` with ``window`` (``None`` when it can)."""
-    spec = get_spec(key)
-    missing = sorted(spec.needs - history.columns)
+    return _why_not(get_spec(key), history, window)
+
+
+def _why_not(spec: EstimatorSpec, history: PriceHistory, window: int | None) -> str | None:
+    """:func:`availability` for a spec already looked up."""
+    missing = sorted(c for c in spec.needs if getattr(history, c) is None)
     if missing:
         return f"needs {'/'.join(missing)} column{'s' if len(missing) > 1 else ''}"
     minimum = max(spec.min_window, 2 if spec.ci_exact or spec.extra_bars else 1)
@@ -121,7 +140,7 @@ def _resolve_window(spec: EstimatorSpec, history: PriceHistory, window: int | No
 
 def _check(history: PriceHistory, key: str, window: int | None) -> tuple[EstimatorSpec, int]:
     spec = get_spec(key)
-    reason = availability(history, key, window)
+    reason = _why_not(spec, history, window)
     if reason:
         raise EstimatorUnavailable(key, reason)
     return spec, _resolve_window(spec, history, window)
@@ -168,7 +187,11 @@ def rolling_vol(
     every estimator; :func:`rolling_all` returns every estimator's series in one call.
     """
     a, w = _rolling_settings(annualization, window)
-    return _rolling(history, get_spec(key), w, a, options)
+    spec = get_spec(key)
+    done, unavailable = _rolling_many(history, [spec], w, a, options)
+    if spec.key in unavailable:
+        raise EstimatorUnavailable(spec.key, unavailable[spec.key])
+    return done[spec.key]
 
 
 def _rolling_settings(annualization: float, window: int) -> tuple[float, int]:
@@ -179,29 +202,97 @@ def _rolling_settings(annualization: float, window: int) -> tuple[float, int]:
     return a, w
 
 
-def _rolling(history: PriceHistory, spec: EstimatorSpec, window: int, a: float, options: dict) -> RollingVol:
-    spec, w = _check(history, spec.key, window)
-    var = _variance(spec, history, w, options)
-    first = spec.bars_needed(w) - 1
-    seg = var[first:]
-    empty = _empty_windows(spec, history, w)
-    if empty is not None:
-        empty = empty[first:]
-        if empty.all():
-            raise EstimatorUnavailable(spec.key, _why_uninformative(spec))
-    bad = seg >= 0.0
-    np.logical_not(bad, out=bad)  # negative or NaN
-    if empty is not None:
-        bad |= empty
-    idx = history.index[first:]
-    if not bad.any():  # the usual case: no inconsistent bars, no masking needed
-        vol = np.multiply(seg, a)
-        np.sqrt(vol, out=vol)
-        values = pd.Series(vol, index=idx, name=spec.key, copy=False)
-        return RollingVol(spec.key, spec.label, w, a, values, ())
-    values = pd.Series(np.sqrt(np.where(bad, np.nan, seg) * a), index=idx, name=spec.key, copy=False)
-    invalid = tuple(_iso(d) for d in history.dates[first:][bad])
-    return RollingVol(spec.key, spec.label, w, a, values[~bad], invalid)
+FORMS: dict = {
+    close_to_close_variance: CLOSE_TO_CLOSE_FORM,
+    parkinson_variance: PARKINSON_FORM,
+    garman_klass_variance: GARMAN_KLASS_FORM,
+    rogers_satchell_variance: ROGERS_SATCHELL_FORM,
+    yang_zhang_variance: YANG_ZHANG_FORM,
+}
+"""Variance function -> its window-sum form (:mod:`volbench.estimators.sums`): estimators whose
+spec uses one of these functions are computed together, on shared terms, by :func:`rolling_all`."""
+
+
+def _form(spec: EstimatorSpec, options: dict) -> SumForm | None:
+    """The spec's window-sum form, when its options ask for the form's (default) variant."""
+    form = FORMS.get(spec.variance)
+    if form is None or any(v for k, v in options.items() if v is not None and k in spec.options):
+        return None  # e.g. zero-mean close-to-close: computed by its own variance function
+    return form
+
+
+def _rolling_many(history: PriceHistory, specs: list[EstimatorSpec], w: int, a: float,
+                  options: dict) -> tuple[dict[str, RollingVol], dict[str, str]]:
+    """Rolling vols of ``specs`` (validated settings), and the reasons for those unavailable.
+
+    The variances go into one (estimators, n) array: window-sum forms computed together on shared
+    terms, others by their own function; then, in the usual case (no inconsistent bar, no window
+    without information), one multiplication and one square root for all of them.
+    """
+    done: dict[str, RollingVol] = {}
+    unavailable: dict[str, str] = {}
+    ready = []
+    for spec in specs:
+        reason = _why_not(spec, history, w)
+        if reason:
+            unavailable[spec.key] = reason
+        else:
+            ready.append(spec)
+    if not ready:
+        return done, unavailable
+    block = np.empty((len(ready), history.n))
+    forms = {}
+    for row, spec in zip(block, ready):
+        form = _form(spec, options)
+        if form is None:
+            row[:] = _variance(spec, history, w, options)
+        else:
+            forms[spec.key] = form
+    if forms:
+        forms_variances(history, w, forms, out={s.key: row for row, s in zip(block, ready) if s.key in forms})
+    indexes: dict[int, pd.DatetimeIndex] = {}
+
+    def index_from(first: int) -> pd.DatetimeIndex:
+        if first not in indexes:
+            indexes[first] = history.index[first:]
+        return indexes[first]
+
+    fast = []
+    for i, spec in enumerate(ready):
+        first = spec.bars_needed(w) - 1
+        seg = block[i, first:]
+        empty = _empty_windows(spec, history, w)
+        if empty is not None:
+            empty = empty[first:]
+            if empty.all():
+                unavailable[spec.key] = _why_uninformative(spec)
+                continue
+        if empty is None and seg.min() >= 0.0:  # the usual case (the minimum is NaN if any value is)
+            fast.append((i, spec, first))
+            continue
+        bad = seg >= 0.0
+        np.logical_not(bad, out=bad)  # negative or NaN
+        if empty is not None:
+            bad |= empty
+        idx = index_from(first)
+        if not bad.any():
+            values = pd.Series(np.sqrt(seg * a), index=idx, name=spec.key, copy=False)
+            done[spec.key] = RollingVol(spec.key, spec.label, w, a, values, ())
+            continue
+        values = pd.Series(np.sqrt(np.where(bad, np.nan, seg) * a), index=idx, name=spec.key, copy=False)
+        invalid = tuple(_iso(d) for d in history.dates[first:][bad])
+        done[spec.key] = RollingVol(spec.key, spec.label, w, a, values[~bad], invalid)
+    if len(fast) == len(ready):
+        np.multiply(block, a, out=block)
+        np.sqrt(block, out=block)
+    else:
+        for i, _, _ in fast:
+            np.multiply(block[i], a, out=block[i])
+            np.sqrt(block[i], out=block[i])
+    for i, spec, first in fast:
+        values = pd.Series(block[i, first:], index=index_from(first), name=spec.key, copy=False)
+        done[spec.key] = RollingVol(spec.key, spec.label, w, a, values, ())
+    return {s.key: done[s.key] for s in specs if s.key in done}, unavailable
 
 
 @dataclass(frozen=True)
@@ -233,21 +324,17 @@ def rolling_all(
 
     Notes
     -----
-    Settings are validated once; the logs of the four price arrays and the per-bar terms several
-    estimators share (the log range, u/d/c, the Rogers-Satchell term, close-to-close returns)
-    are computed once per history and kept on it (:class:`volbench.data.logs.LogPrices`), so the
-    six series cost the six cumulative sums and little more.
+    Settings are validated once. The logs of the four price arrays and the returns are computed
+    once per history and kept on it (:class:`volbench.data.logs.LogPrices`); the window
+    estimators, each written as trailing sums of per-bar terms (:mod:`volbench.estimators.sums`),
+    share the terms (u, d, c, the Rogers-Satchell term) and take all their trailing sums from one
+    cumulative sum over a stacked array; EWMA runs its recursion. The numbers are those of each
+    estimator's own ``variance`` function, to the last bit.
     """
     a, w = _rolling_settings(annualization, window)
     specs = [get_spec(k) for k in (tuple(keys) if keys else ESTIMATOR_KEYS)]
-    series: dict[str, RollingVol] = {}
-    unavailable: dict[str, str] = {}
-    for spec in specs:
-        try:
-            series[spec.key] = _rolling(history, spec, w, a, options)
-        except EstimatorUnavailable as exc:
-            unavailable[spec.key] = exc.reason
-    return RollingReport(w, a, series, unavailable)
+    series, unavailable = _rolling_many(history, specs, w, a, options)
+    return RollingReport(w, a, series, {s.key: unavailable[s.key] for s in specs if s.key in unavailable})
 
 
 def point_estimate(
