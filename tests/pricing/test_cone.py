@@ -254,3 +254,22 @@ def test_as_dict_is_json_safe(gbm):
     assert d["windows"][0]["window"] == 10 and "p50_adj" in d["windows"][0]
     assert d["dropped"] == {} and d["windows"][-1]["window"] == 250 and "NaN" not in text
     assert d["adjustment"].startswith("adjusted = mean + ht_factor")
+
+
+def test_percentiles_and_rank_without_sorting_equal_numpy_and_the_sorted_rank():
+    # Reference library: numpy.percentile (linear) to the last bit; the O(n) rank equals
+    # percentile_rank on the sorted sample to the last bit (same arithmetic), ties and ends included.
+    from volbench.pricing.cone import percentiles, rank_unsorted
+
+    rng = np.random.default_rng(12)
+    qs = np.array([0, 10, 25, 50, 75, 90, 100.0])
+    for m in (2, 3, 7, 250, 5021):
+        x = rng.lognormal(-1.5, 0.3, m)
+        if m > 3:
+            x[::5] = x[1]  # ties
+        np.testing.assert_array_equal(percentiles(x, qs), np.percentile(x, qs))
+        xs = np.sort(x)
+        for v in (x[0], x[1], x[-1], xs[0], xs[-1], xs[0] * 0.9, xs[-1] * 1.1, float(np.median(x)),
+                  float(x.mean()), float(rng.choice(x)) * 1.0001):
+            assert rank_unsorted(x, v) == percentile_rank(xs, v), (m, v)
+            assert percentile_rank(xs, v) == float(percentile_rank(xs, np.array([v]))[0])

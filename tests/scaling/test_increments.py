@@ -94,3 +94,44 @@ def test_drift_t_statistic_and_inflation_of_a_zero_mean_vol():
     assert h25["h"] == 25
     assert h25["drift_to_vol"] == pytest.approx(mu * 5 / sigma, rel=0.05)
     assert h25["vol_inflation"] == pytest.approx(direct, rel=0.05)
+
+
+def test_autocorrelations_by_one_fft_equal_statsmodels_acf(garch_returns):
+    # Reference library: statsmodels.tsa.stattools.acf (adjusted=False, demeaned) on each row, to
+    # 1e-10; several rows and lengths (odd, even, short) in one call.
+    from statsmodels.tsa.stattools import acf
+
+    from volbench.scaling.increments import autocorrelations, lagged_products
+
+    for n in (31, 500, 1201):
+        r = garch_returns(n, 8) * 0.01 + 0.0003
+        rows = np.stack((r, r * r, np.abs(r)))
+        nlags = min(40, n - 1)
+        got = autocorrelations(rows, nlags)
+        for row, ref in zip(got, rows):
+            np.testing.assert_allclose(row, acf(ref, nlags=nlags, fft=False)[1:], rtol=0, atol=1e-10)
+        # the raw lagged sums, against plain dot products (numpy as reference library)
+        sums = lagged_products(rows[1:2], nlags)[0]
+        z2 = rows[1]
+        direct = [z2 @ z2] + [z2[k:] @ z2[:-k] for k in range(1, nlags + 1)]
+        np.testing.assert_allclose(sums, direct, rtol=1e-12)
+
+
+def test_qq_pairs_equal_probplot_at_every_kept_rank():
+    # Reference library: scipy.stats.probplot(fit=False); the kept ranks carry the same pairs.
+    r = np.random.default_rng(9).standard_t(4, size=1234) * 0.01
+    theo, samp = stats.probplot((r - r.mean()) / r.std(ddof=1), fit=False)
+    qq = qq_pairs(r, 97)
+    keep = np.unique(np.round(np.linspace(0, len(r) - 1, 97)).astype(int))
+    np.testing.assert_array_equal(qq["theoretical"].to_numpy(), theo[keep])
+    np.testing.assert_array_equal(qq["sample"].to_numpy(), samp[keep])
+
+
+def test_p_values_equal_scipy_stats():
+    # Reference library: scipy.stats.ttest_1samp and chi2.sf (the special functions behind them).
+    r = np.random.default_rng(10).standard_normal(700) * 0.01 + 0.0008
+    d = drift(r, [1, 5], 252)
+    ref = stats.ttest_1samp(r, 0.0)
+    assert d["p_value"] == pytest.approx(ref.pvalue, rel=1e-12)
+    lb, _ = independence(r, [3, 9], 10, 0.05)
+    np.testing.assert_allclose(lb["p_returns"], stats.chi2.sf(lb["q_returns"], [3, 9]), rtol=1e-12)

@@ -348,6 +348,11 @@ def _gap_notes(h: PriceHistory, keep: np.ndarray) -> tuple[Finding, ...]:
 
 
 def _iso(d: np.datetime64) -> str:
+    """YYYY-MM-DD for a midnight stamp, else the ISO date and time (pandas' isoformat)."""
+    if isinstance(d, np.datetime64):  # the usual case, an element of a dates array: no Timestamp
+        day = d.astype("datetime64[D]")
+        if day == d:
+            return str(day)
     ts = pd.Timestamp(d)
     return ts.strftime("%Y-%m-%d") if ts == ts.normalize() else ts.isoformat()
 

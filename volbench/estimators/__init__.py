@@ -12,6 +12,7 @@ from volbench.estimators.registry import (
     point_estimate,
     rolling_all,
     rolling_vol,
+    rolling_windows,
 )
 
 __all__ = [
@@ -28,4 +29,5 @@ __all__ = [
     "point_estimate",
     "rolling_all",
     "rolling_vol",
+    "rolling_windows",
 ]

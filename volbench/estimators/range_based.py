@@ -129,7 +129,7 @@ def _yang_zhang_finish(t: Terms, window: int, sums, state, out: np.ndarray) -> N
     out += (1.0 - k) * m_rs
 
 
-YANG_ZHANG_FORM = SumForm(_yang_zhang_rows, _yang_zhang_finish, offset=1)
+YANG_ZHANG_FORM = SumForm(_yang_zhang_rows, _yang_zhang_finish, offset=1, window_free=False)
 
 
 def yang_zhang_variance(h: PriceHistory, window: int) -> np.ndarray:

@@ -39,7 +39,7 @@ from volbench.estimators.range_based import (
     yang_zhang_parts,
     yang_zhang_variance,
 )
-from volbench.estimators.sums import SumForm, forms_variances
+from volbench.estimators.sums import SumForm, evaluate
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_window
 
 REGISTRY: dict[str, EstimatorSpec] = {
@@ -188,10 +188,10 @@ def rolling_vol(
     """
     a, w = _rolling_settings(annualization, window)
     spec = get_spec(key)
-    done, unavailable = _rolling_many(history, [spec], w, a, options)
-    if spec.key in unavailable:
-        raise EstimatorUnavailable(spec.key, unavailable[spec.key])
-    return done[spec.key]
+    result = _rolling_many(history, [(spec, w)], a, options)[0]
+    if isinstance(result, str):
+        raise EstimatorUnavailable(spec.key, result)
+    return result
 
 
 def _rolling_settings(annualization: float, window: int) -> tuple[float, int]:
@@ -221,35 +221,33 @@ def _form(spec: EstimatorSpec, options: dict) -> SumForm | None:
     return form
 
 
-def _rolling_many(history: PriceHistory, specs: list[EstimatorSpec], w: int, a: float,
-                  options: dict) -> tuple[dict[str, RollingVol], dict[str, str]]:
-    """Rolling vols of ``specs`` (validated settings), and the reasons for those unavailable.
+Job = tuple[EstimatorSpec, int]
 
-    The variances go into one (estimators, n) array: window-sum forms computed together on shared
-    terms, others by their own function; then, in the usual case (no inconsistent bar, no window
-    without information), one multiplication and one square root for all of them.
+
+def _rolling_many(history: PriceHistory, jobs: list[Job], a: float, options: dict) -> list[RollingVol | str]:
+    """Rolling vol of each (spec, window) job (settings validated), or why it is unavailable.
+
+    The variances go into one (jobs, n) array: window-sum forms evaluated together on shared
+    terms (:func:`volbench.estimators.sums.evaluate`), others by their own function; then, in the
+    usual case (no inconsistent bar, no window without information), one multiplication and one
+    square root for all of them.
     """
-    done: dict[str, RollingVol] = {}
-    unavailable: dict[str, str] = {}
-    ready = []
-    for spec in specs:
-        reason = _why_not(spec, history, w)
-        if reason:
-            unavailable[spec.key] = reason
-        else:
-            ready.append(spec)
+    out: list[RollingVol | str | None] = [_why_not(spec, history, w) for spec, w in jobs]
+    ready = [i for i, reason in enumerate(out) if reason is None]
     if not ready:
-        return done, unavailable
+        return out
     block = np.empty((len(ready), history.n))
-    forms = {}
-    for row, spec in zip(block, ready):
+    form_jobs, form_rows = [], []
+    for row, i in zip(block, ready):
+        spec, w = jobs[i]
         form = _form(spec, options)
         if form is None:
             row[:] = _variance(spec, history, w, options)
         else:
-            forms[spec.key] = form
-    if forms:
-        forms_variances(history, w, forms, out={s.key: row for row, s in zip(block, ready) if s.key in forms})
+            form_jobs.append((form, w))
+            form_rows.append(row)
+    if form_jobs:
+        evaluate(history, form_jobs, form_rows)
     indexes: dict[int, pd.DatetimeIndex] = {}
 
     def index_from(first: int) -> pd.DatetimeIndex:
@@ -258,17 +256,18 @@ def _rolling_many(history: PriceHistory, specs: list[EstimatorSpec], w: int, a: 
         return indexes[first]
 
     fast = []
-    for i, spec in enumerate(ready):
+    for r, i in enumerate(ready):
+        spec, w = jobs[i]
         first = spec.bars_needed(w) - 1
-        seg = block[i, first:]
+        seg = block[r, first:]
         empty = _empty_windows(spec, history, w)
         if empty is not None:
             empty = empty[first:]
             if empty.all():
-                unavailable[spec.key] = _why_uninformative(spec)
+                out[i] = _why_uninformative(spec)
                 continue
         if empty is None and seg.min() >= 0.0:  # the usual case (the minimum is NaN if any value is)
-            fast.append((i, spec, first))
+            fast.append((r, i, first))
             continue
         bad = seg >= 0.0
         np.logical_not(bad, out=bad)  # negative or NaN
@@ -277,22 +276,44 @@ def _rolling_many(history: PriceHistory, specs: list[EstimatorSpec], w: int, a: 
         idx = index_from(first)
         if not bad.any():
             values = pd.Series(np.sqrt(seg * a), index=idx, name=spec.key, copy=False)
-            done[spec.key] = RollingVol(spec.key, spec.label, w, a, values, ())
+            out[i] = RollingVol(spec.key, spec.label, w, a, values, ())
             continue
         values = pd.Series(np.sqrt(np.where(bad, np.nan, seg) * a), index=idx, name=spec.key, copy=False)
         invalid = tuple(_iso(d) for d in history.dates[first:][bad])
-        done[spec.key] = RollingVol(spec.key, spec.label, w, a, values[~bad], invalid)
+        out[i] = RollingVol(spec.key, spec.label, w, a, values[~bad], invalid)
     if len(fast) == len(ready):
         np.multiply(block, a, out=block)
         np.sqrt(block, out=block)
     else:
-        for i, _, _ in fast:
-            np.multiply(block[i], a, out=block[i])
-            np.sqrt(block[i], out=block[i])
-    for i, spec, first in fast:
-        values = pd.Series(block[i, first:], index=index_from(first), name=spec.key, copy=False)
-        done[spec.key] = RollingVol(spec.key, spec.label, w, a, values, ())
-    return {s.key: done[s.key] for s in specs if s.key in done}, unavailable
+        for r, _, _ in fast:
+            np.multiply(block[r], a, out=block[r])
+            np.sqrt(block[r], out=block[r])
+    for r, i, first in fast:
+        spec, w = jobs[i]
+        values = pd.Series(block[r, first:], index=index_from(first), name=spec.key, copy=False)
+        out[i] = RollingVol(spec.key, spec.label, w, a, values, ())
+    return out
+
+
+def rolling_windows(history: PriceHistory, key: str, windows, *, annualization: float = DEFAULT_ANNUALIZATION,
+                    **options) -> tuple[dict[int, RollingVol], dict[int, str]]:
+    """:func:`rolling_vol` of one estimator for several windows in one call (a volatility cone).
+
+    Returns the series by window and, for windows that cannot be computed, the reason. The
+    estimator's per-bar terms and, when they do not depend on the window, their cumulative sums
+    are computed once for all windows; each series equals :func:`rolling_vol`'s.
+    """
+    a = check_annualization(annualization)
+    spec = get_spec(key)
+    ws = []
+    for window in windows:
+        w = check_window(window, minimum=1)
+        if w is None:
+            raise VolbenchError("a rolling series needs a window in bars, not 'all'")
+        ws.append(w)
+    results = _rolling_many(history, [(spec, w) for w in ws], a, options)
+    return ({w: v for w, v in zip(ws, results) if not isinstance(v, str)},
+            {w: v for w, v in zip(ws, results) if isinstance(v, str)})
 
 
 @dataclass(frozen=True)
@@ -333,8 +354,9 @@ def rolling_all(
     """
     a, w = _rolling_settings(annualization, window)
     specs = [get_spec(k) for k in (tuple(keys) if keys else ESTIMATOR_KEYS)]
-    series, unavailable = _rolling_many(history, specs, w, a, options)
-    return RollingReport(w, a, series, {s.key: unavailable[s.key] for s in specs if s.key in unavailable})
+    results = _rolling_many(history, [(spec, w) for spec in specs], a, options)
+    return RollingReport(w, a, {s.key: v for s, v in zip(specs, results) if not isinstance(v, str)},
+                         {s.key: v for s, v in zip(specs, results) if isinstance(v, str)})
 
 
 def point_estimate(

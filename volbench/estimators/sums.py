@@ -4,9 +4,10 @@ Every window estimator (close-to-close, Parkinson, Garman-Klass, Rogers-Satchell
 a combination of sums, over the trailing window, of a few per-bar terms: a :class:`SumForm`
 says which terms (``rows``) and how the window sums combine into the per-bar variance
 (``finish``). :func:`form_variance` evaluates one form (each estimator's ``variance`` function
-is exactly that); :func:`forms_variances` evaluates several on one history at once, computing
-the terms they share (u, d, c, the Rogers-Satchell term, returns) once (:class:`Terms`). Both
-paths run the same operations in the same order, so they give the same numbers to the last bit.
+is exactly that); :func:`evaluate` runs several (form, window) jobs on one history at once,
+computing the terms they share (u, d, c, the Rogers-Satchell term, returns) once
+(:class:`Terms`), and a window-free form's cumulative sums once for all its windows. Both paths
+run the same operations in the same order, so they give the same numbers to the last bit.
 
 Trailing sums are differences of cumulative sums of values centred on their overall mean (the
 forms centre their terms), O(n) and stable on long series (docs/METHODS.md, "Estimators").
@@ -14,7 +15,7 @@ forms centre their terms), O(n) and stable on long series (docs/METHODS.md, "Est
 
 from __future__ import annotations
 
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -22,7 +23,6 @@ import numpy as np
 
 from volbench.data.history import PriceHistory
 from volbench.data.logs import LogPrices
-from volbench.estimators.base import trailing_sums
 
 
 class Terms:
@@ -83,63 +83,66 @@ class SumForm:
         trailing sums of ``rows[i]`` over those windows (the function may overwrite them).
     offset
         0 when the terms are per bar, 1 when they start at bar 1 (they use the previous close).
+    window_free
+        True when ``rows`` does not depend on the window: several windows then share the terms
+        and their cumulative sums (a volatility cone).
     """
 
     rows: Rows
     finish: Finish
     offset: int = 0
+    window_free: bool = True
 
 
-def _evaluate(terms: Terms, window: int, form: SumForm, out: np.ndarray) -> None:
-    """Write the form's per-bar variance into ``out`` (length n)."""
-    first = window - 1 + form.offset
-    n = out.shape[0]
-    out[:min(first, n)] = np.nan
-    if n <= first:
-        return
-    rows, state = form.rows(terms, window)
-    form.finish(terms, window, tuple(trailing_sums(x, window) for x in rows), state, out[first:])
+def _cumulative(x: np.ndarray) -> np.ndarray:
+    """0 followed by the running sums of ``x`` (what :func:`volbench.estimators.base.trailing_sums`
+    differences)."""
+    c = np.empty(x.shape[0] + 1)
+    c[0] = 0.0
+    np.cumsum(x, out=c[1:])
+    return c
+
+
+def evaluate(h: PriceHistory, jobs: Sequence[tuple[SumForm, int]], outs: Sequence[np.ndarray]) -> None:
+    """Write the per-bar variance of each (form, window) job into the matching array of ``outs``.
+
+    The terms are computed once for all jobs (:class:`Terms`); a window-free form's rows and
+    their cumulative sums once for all its windows. Every value equals :func:`form_variance`'s
+    to the last bit (the same operations on the same numbers). Each job's window must be >= 2
+    for forms that divide by ``window - 1``, as the registry's availability check ensures.
+    """
+    terms = Terms(h.logs)
+    shared: dict[int, tuple[list[np.ndarray], object]] = {}
+    for (form, window), out in zip(jobs, outs):
+        first = window - 1 + form.offset
+        n = out.shape[0]
+        out[:min(first, n)] = np.nan
+        if n <= first:
+            continue
+        if form.window_free and id(form) in shared:
+            cums, state = shared[id(form)]
+        else:
+            rows, state = form.rows(terms, window)
+            cums = [_cumulative(x) for x in rows]
+            if form.window_free:
+                shared[id(form)] = (cums, state)
+        sums = tuple(np.subtract(c[window:], c[:-window]) for c in cums)
+        form.finish(terms, window, sums, state, out[first:])
 
 
 def form_variance(h: PriceHistory, window: int, form: SumForm) -> np.ndarray:
     """Per-bar variance of one form at every bar (NaN where the window does not fit)."""
     out = np.empty(h.n)
-    _evaluate(Terms(h.logs), window, form, out)
+    evaluate(h, [(form, window)], [out])
     return out
 
 
-def forms_variances(h: PriceHistory, window: int, forms: Mapping[str, SumForm],
-                    out: Mapping[str, np.ndarray] | None = None) -> dict[str, np.ndarray]:
-    """Per-bar variances of several forms on one history, sharing their terms.
-
-    Parameters
-    ----------
-    h, window
-        History and window in bars.
-    forms
-        Key -> form.
-    out
-        Optional key -> array of length n to write each variance into.
-
-    Returns
-    -------
-    dict
-        Key -> per-bar variance, equal to :func:`form_variance` of each form to the last bit
-        (the same operations on the same terms).
-
-    Notes
-    -----
-    The terms several forms use (u, d, c, the Rogers-Satchell term, the overnight return) are
-    computed once for the call (:class:`Terms`); each form then runs to completion before the
-    next starts, so its temporaries are freed and reused while still in cache.
-    """
-    terms = Terms(h.logs)
-    result: dict[str, np.ndarray] = {}
-    for key, form in forms.items():
-        row = np.empty(h.n) if out is None else out[key]
-        _evaluate(terms, window, form, row)
-        result[key] = row
-    return result
+def forms_variances(h: PriceHistory, window: int, forms: Mapping[str, SumForm]) -> dict[str, np.ndarray]:
+    """Per-bar variances of several forms on one history and window, sharing their terms
+    (:func:`evaluate`); each equals :func:`form_variance` of that form to the last bit."""
+    outs = {key: np.empty(h.n) for key in forms}
+    evaluate(h, [(form, window) for form in forms.values()], list(outs.values()))
+    return outs
 
 
 # ------------------------------------------------------------------ pieces the forms share

@@ -14,8 +14,8 @@ import numpy as np
 import pandas as pd
 
 from volbench.data.history import PriceHistory, _iso
-from volbench.errors import EstimatorUnavailable, VolbenchError
-from volbench.estimators import get_spec, rolling_vol
+from volbench.errors import VolbenchError
+from volbench.estimators import get_spec, rolling_windows
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_positive, check_window
 
 DEFAULT_CONE_WINDOWS: tuple[int, ...] = (10, 20, 40, 60, 120, 250)
@@ -73,6 +73,8 @@ def percentile_rank(sorted_values: np.ndarray, vol) -> float | np.ndarray:
     middle of the run; below the minimum 0, above the maximum 100 (common practice, no source).
     """
     x = np.asarray(sorted_values, dtype=float)
+    if isinstance(vol, (float, int, np.floating)) and not isinstance(vol, bool):
+        return _rank_one(x, float(vol))
     v = np.asarray(vol, dtype=float)
     m = len(x)
     lo = np.searchsorted(x, v, side="left")
@@ -86,6 +88,80 @@ def percentile_rank(sorted_values: np.ndarray, vol) -> float | np.ndarray:
     pos = np.where(v < x[0], 0.0, np.where(v > x[-1], m - 1.0, pos))
     out = 100.0 * pos / (m - 1)
     return float(out) if out.ndim == 0 else out
+
+
+def _rank_one(x: np.ndarray, v: float) -> float:
+    """:func:`percentile_rank` of one number: the same arithmetic on Python floats (IEEE doubles,
+    so the same result) without the array machinery."""
+    m = x.shape[0]
+    if v < x[0]:
+        return 0.0
+    if v > x[-1]:
+        return 100.0 * (m - 1.0) / (m - 1)
+    lo = int(np.searchsorted(x, v, side="left"))
+    hi = int(np.searchsorted(x, v, side="right"))
+    if hi > lo:
+        pos = (lo + hi - 1) / 2.0
+    else:
+        j = min(max(lo, 1), m - 1)
+        left, right = float(x[j - 1]), float(x[j])
+        pos = (j - 1) + ((v - left) / (right - left) if right > left else 0.0)
+    return 100.0 * pos / (m - 1)
+
+
+def rank_unsorted(values: np.ndarray, vol: float) -> float:
+    """:func:`percentile_rank` of ``vol`` in ``values`` given in any order, without sorting (O(n)).
+
+    The sorted neighbours it needs are counts and extremes: ``lo`` values below ``vol``, ``hi``
+    at or below it, the largest value below and the smallest above; the arithmetic is
+    :func:`percentile_rank`'s, so the result is the same to the last bit.
+    """
+    x = values
+    v = float(vol)
+    m = x.shape[0]
+    if math.isnan(v):
+        return v
+    below = x < v
+    lo = int(np.count_nonzero(below))
+    ties = int(np.count_nonzero(x == v))
+    if lo + ties == 0:
+        return 0.0
+    if lo == m:
+        return 100.0 * (m - 1.0) / (m - 1)
+    if ties:
+        pos = (lo + lo + ties - 1) / 2.0
+    else:  # min(max(lo, 1), m - 1) == lo here: vol lies strictly between the extremes
+        left = float(np.max(x, where=below, initial=-np.inf))
+        right = float(np.min(x, where=~below, initial=np.inf))
+        pos = (lo - 1) + ((v - left) / (right - left) if right > left else 0.0)
+    return 100.0 * pos / (m - 1)
+
+
+def percentiles(values: np.ndarray, qs: np.ndarray) -> np.ndarray:
+    """``numpy.percentile(values, qs)`` (linear method), from one partial sort.
+
+    Notes
+    -----
+    numpy's definition, step by step: position (m - 1) q / 100, neighbours at its floor and the
+    next index (the last value at or beyond the end), weight g = position - floor, and numpy's
+    interpolation a + (b - a) g, or b - (b - a)(1 - g) when g >= 0.5. The neighbours come from one
+    ``numpy.partition`` at just those ranks, as numpy.percentile does; the tests check equality
+    with numpy.percentile to the last bit.
+    """
+    m = values.shape[0]
+    vi = (m - 1) * (np.asarray(qs, dtype=float) / 100)
+    prev = np.floor(vi).astype(np.intp)
+    nxt = prev + 1
+    above = vi >= m - 1
+    prev[above] = m - 1
+    nxt[above] = m - 1
+    gamma = vi - np.where(above, -1, prev)  # numpy's weight at the end (its index -1)
+    x = np.partition(values, np.unique(np.concatenate((prev, nxt))))
+    a, b = x[prev], x[nxt]
+    diff = b - a
+    out = a + diff * gamma
+    np.subtract(b, diff * (1 - gamma), out=out, where=gamma >= 0.5)
+    return out
 
 
 @dataclass(frozen=True)
@@ -160,7 +236,8 @@ class Cone:
         return tuple(int(w) for w in self.table.index)
 
     def _sample(self, window: int, adjusted: bool) -> np.ndarray:
-        x = np.sort(self.rolling[window].to_numpy())
+        """The column's values, in date order (stretched about the mean under Hodges-Tompkins)."""
+        x = self.rolling[window].to_numpy()
         if adjusted:
             mean = float(self.table.at[window, "mean"])
             x = mean + float(self.table.at[window, "ht_factor"]) * (x - mean)
@@ -171,7 +248,7 @@ class Cone:
         if window not in self.rolling:
             raise VolbenchError(f"window {window} is not in this cone; windows: "
                                 f"{', '.join(str(w) for w in self.windows)}")
-        return float(percentile_rank(self._sample(window, self.hodges_tompkins), vol))
+        return rank_unsorted(self._sample(window, self.hodges_tompkins), vol)
 
     def place(self, vol: float, days: int) -> ConePlacement:
         """Percentile of ``vol`` at the cone window matching an option life of ``days`` bars.
@@ -314,8 +391,10 @@ def vol_cone(
     Notes
     -----
     Burghardt & Lane (1990), J. of Portfolio Management 16(2): per window w, the rolling w-bar
-    vols (:func:`volbench.estimators.rolling_vol`) summarised by min, 10th, 25th, 50th, 75th, 90th
-    percentile and max (``numpy.percentile``, linear). Hodges & Tompkins (2002), J. of Derivatives
+    vols (:func:`volbench.estimators.rolling_windows`: the same series as
+    :func:`volbench.estimators.rolling_vol`, all windows in one call) summarised by min, 10th, 25th,
+    50th, 75th, 90th percentile and max (``numpy.percentile``, linear, from one partial sort per
+    window, :func:`percentiles`); today's rank by :func:`rank_unsorted` (no sort). Hodges & Tompkins (2002), J. of Derivatives
     10(1): with n overlapping windows, the column's dispersion around its mean is scaled by
     :func:`hodges_tompkins_factor`: adjusted = mean + factor x (value - mean), floored at 0.
     A window needs at least two rolling values; one that does not fit is listed in ``dropped``.
@@ -330,12 +409,12 @@ def vol_cone(
     dropped: dict[int, str] = {}
     notes: list[str] = []
     qs = np.fromiter(PERCENTILES.values(), dtype=float)
+    series, reasons = rolling_windows(h, spec.key, ws, annualization=a)  # terms shared by the windows
     for w in ws:
-        try:
-            rv = rolling_vol(h, spec.key, w, annualization=a)
-        except EstimatorUnavailable as exc:
-            dropped[w] = exc.reason
+        if w in reasons:
+            dropped[w] = reasons[w]
             continue
+        rv = series[w]
         vals = rv.values.to_numpy()
         n = len(vals)
         if n < 2:
@@ -345,17 +424,16 @@ def vol_cone(
         if rv.invalid_dates:
             notes.append(f"window {w}: {len(rv.invalid_dates)} rolling value(s) left out because bars have "
                          "high below low or prices outside their range; exclude flagged rows")
-        last = rv.values.index[-1]
-        if last.to_datetime64() != h.dates[-1]:
-            notes.append(f"window {w}: current value is from {_iso(last.to_datetime64())}, "
+        last = rv.values.index.values[-1]
+        if last != h.dates[-1]:
+            notes.append(f"window {w}: current value is from {_iso(last)}, "
                          f"the last valid window before {h.last_date}")
-        xs = np.sort(vals)
-        perc = np.percentile(xs, qs)
+        perc = percentiles(vals, qs)
         row = dict(zip(PERCENTILES, perc.tolist()))
-        mean = float(np.mean(vals))
+        mean = float(np.add.reduce(vals) / n)  # numpy.mean's sum and division
         indep = obs // w
         row.update(mean=mean, current=float(vals[-1]),
-                   current_percentile=float(percentile_rank(xs, vals[-1])),
+                   current_percentile=rank_unsorted(vals, vals[-1]),
                    n_windows=n, n_independent=indep)
         if indep < 2:
             notes.append(f"window {w}: only {indep} independent (non-overlapping) window behind this column; "
@@ -385,8 +463,10 @@ def vol_cone(
         notes.append("EWMA weighs every past return (half-life about 11 bars); its window only sets the "
                      "seed, so its columns differ little")
     first = next(iter(rows.values()))
-    table = pd.DataFrame({k: [r[k] for r in rows.values()] for k in first},
-                         index=pd.Index(list(rows), name="window", dtype="int64"))
+    ints = ("n_windows", "n_independent")
+    table = pd.DataFrame({k: np.array([r[k] for r in rows.values()], dtype=np.int64 if k in ints else float)
+                          for k in first},
+                         index=pd.Index(np.fromiter(rows, dtype=np.int64, count=len(rows)), name="window"))
     return Cone(name=h.name, estimator=spec.key, label=spec.label, annualization=a, start=h.first_date,
                 end=h.last_date, rows=h.n, hodges_tompkins=bool(hodges_tompkins), table=table,
                 dropped=dropped, notes=tuple(notes), rolling=rolling)

@@ -10,11 +10,18 @@ import pandas as pd
 
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
+from volbench.estimators.base import sample_variance
 from volbench.scaling.false_alarm import family_false_alarm
 from volbench.scaling.increments import drift as drift_stats
-from volbench.scaling.increments import independence, normality_table, qq_pairs
-from volbench.scaling.ratio import chow_denning, robust_deltas, variance_ratio_table
-from volbench.scaling.variance import loglog_fit, nonoverlapping_variance
+from volbench.scaling.increments import (
+    independence_arrays,
+    independence_rows,
+    lagged_products,
+    normality_arrays,
+    qq_arrays,
+)
+from volbench.scaling.ratio import chow_denning, deltas_from_squares, ratio_arrays
+from volbench.scaling.variance import loglog_fit, nonoverlapping_returns
 from volbench.scaling.verdicts import (
     Verdict,
     drift_verdict,
@@ -272,40 +279,51 @@ def scaling_check(
     if history.exclude_flagged and history.excluded_lines:
         notes.append(f"{len(history.excluded_lines)} rows flagged by data-quality warnings were excluded")
 
-    deltas = robust_deltas(y, max(kept) - 1)
-    vr = variance_ratio_table(y, kept, deltas)
-    nonov = [nonoverlapping_variance(y, h) for h in kept]
-    var1 = float(vr["variance"].iloc[0])
-    tab = vr.assign(
-        variance_nonoverlap=[v for v, _ in nonov],
-        n_nonoverlap=np.array([c for _, c in nonov], dtype=np.int64),
-        annualized_vol=np.sqrt(vr["variance"] * a / vr["h"]),
-        sqrt_time_vol=np.sqrt(var1 * a),
-    )
-    tab["vol_ratio"] = tab["annualized_vol"] / tab["sqrt_time_vol"]
-    norm = normality_table(y, kept)  # same horizons, same order
-    for col in ("skew", "excess_kurtosis", "jarque_bera", "jarque_bera_p"):
-        tab[col] = norm[col].to_numpy()
-    tab = tab[list(HORIZON_COLUMNS)]
+    # Every statistic from numpy arrays; the four tables are wrapped in pandas once, at the end.
+    # One FFT gives the autocorrelations of returns and squared returns and the lagged products
+    # of squared returns behind the robust variance-ratio statistics.
+    mu = (y[-1] - y[0]) / n
+    z2 = (r - mu) ** 2.0
+    top, max_lag = max(acf_lags, lb_lags[-1]), max(kept) - 1
+    rows = independence_rows(r)
+    rows -= rows.mean(axis=-1, keepdims=True)
+    lagged = lagged_products(np.concatenate((rows, z2[None, :])), max(top, max_lag))
+    rho = lagged[:2, 1:top + 1] / lagged[:2, :1]
+    deltas = deltas_from_squares(z2, max_lag, lagged[2])
+    vq, vr, z, zr, p_z, p_zr = ratio_arrays(y, kept, deltas)
+    blocks = [nonoverlapping_returns(y, h) for h in kept]
+    var_non = np.array([sample_variance(x) for x in blocks])
+    n_non = np.array([x.shape[0] for x in blocks], dtype=np.int64)
+    hs_arr = np.asarray(kept, dtype=np.int64)
+    var1 = float(vq[0])
+    annual = np.sqrt(vq * a / hs_arr)
+    sqrt_time = np.full(len(kept), np.sqrt(var1 * a))
+    skew, kurt, jb, jb_p = normality_arrays(blocks)
+    cols = {"h": hs_arr, "variance": vq, "variance_nonoverlap": var_non, "n_nonoverlap": n_non,
+            "annualized_vol": annual, "sqrt_time_vol": sqrt_time, "vol_ratio": annual / sqrt_time,
+            "variance_ratio": vr, "z": z, "z_robust": zr, "p_value": p_z, "p_value_robust": p_zr,
+            "skew": skew, "excess_kurtosis": kurt, "jarque_bera": jb, "jarque_bera_p": jb_p}
 
-    fit = loglog_fit(kept, tab["variance"].to_numpy(), n, deltas, level=1.0 - alpha)
-    cd_stat, cd_p = chow_denning(tab["z_robust"].to_numpy()[1:])
-    ljung, ac = independence(r, lb_lags, acf_lags, alpha)
+    fit = loglog_fit(kept, vq, n, deltas, level=1.0 - alpha)
+    cd_stat, cd_p = chow_denning(zr[1:])
+    lb, ac = independence_arrays(r, lb_lags, acf_lags, alpha, (rho[0], rho[1]))
     dr = drift_stats(r, kept, a)
-    p_values = [cd_p, float(tab["jarque_bera_p"].iloc[0]), min(independence_p(ljung)), float(dr["p_value"])]
+    p_values = [cd_p, float(jb_p[0]), min(independence_p(lb)), float(dr["p_value"])]
     st = family_statuses(p_values, alpha)
     verdicts = (
-        variance_verdict(tab, cd_stat, cd_p, fit, alpha, st[0]),
-        normality_verdict(tab, alpha, st[1]),
-        independence_verdict(ljung, ac, alpha, st[2]),
+        variance_verdict(cols, cd_stat, cd_p, fit, alpha, st[0]),
+        normality_verdict(cols, alpha, st[1]),
+        independence_verdict(lb, ac, alpha, st[2]),
         drift_verdict(dr, alpha, st[3]),
     )
+    theo, samp = qq_arrays(r, int(qq_points))
     return ScalingResult(
-        name=name, horizons=tab, dropped=dropped, slope=fit.slope, slope_ci=fit.ci, slope_se=fit.se,
-        hurst=fit.hurst, chow_denning_stat=cd_stat, chow_denning_p=cd_p, ljung_box=ljung, acf=ac,
-        qq=qq_pairs(r, int(qq_points)), drift=dr, verdicts=verdicts, n_returns=n, alpha=alpha,
-        annualization=a, notes=tuple(notes), provenance=history.provenance(),
-        family_false_alarm=family_false_alarm(n, alpha),
+        name=name, horizons=pd.DataFrame(cols), dropped=dropped, slope=fit.slope, slope_ci=fit.ci,
+        slope_se=fit.se, hurst=fit.hurst, chow_denning_stat=cd_stat, chow_denning_p=cd_p,
+        ljung_box=pd.DataFrame(lb), acf=pd.DataFrame(ac),
+        qq=pd.DataFrame(np.column_stack((theo, samp)), columns=["theoretical", "sample"]), drift=dr,
+        verdicts=verdicts, n_returns=n, alpha=alpha, annualization=a, notes=tuple(notes),
+        provenance=history.provenance(), family_false_alarm=family_false_alarm(n, alpha),
     )
 
 

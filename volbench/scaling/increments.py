@@ -6,7 +6,7 @@ from collections.abc import Sequence
 
 import numpy as np
 import pandas as pd
-from scipy import stats
+from scipy import fft, special
 
 from volbench.scaling.variance import nonoverlapping_returns
 
@@ -37,22 +37,30 @@ def normality_table(y: np.ndarray, horizons: Sequence[int]) -> pd.DataFrame:
     (Jarque & Bera 1987, International Statistical Review 55(2)). These are the definitions of
     ``scipy.stats.skew``, ``scipy.stats.kurtosis(fisher=True)`` and ``scipy.stats.jarque_bera``;
     the moments are computed here in one pass per horizon (the scipy calls' fixed overhead
-    dominated the whole check) and the tests check equality with scipy. Under Brownian motion
+    dominated the whole check), the p-value by ``scipy.special.chdtrc``, and the tests check
+    equality with scipy. Under Brownian motion
     S = K = 0 at every horizon; for i.i.d. fat-tailed returns K falls like 1/h.
     """
     hs = [int(h) for h in horizons]
-    out = np.empty((len(hs), 3))
+    skew, kurt, jb, p = normality_arrays([nonoverlapping_returns(y, h) for h in hs])
+    return pd.DataFrame({"h": hs, "skew": skew, "excess_kurtosis": kurt, "jarque_bera": jb, "jarque_bera_p": p})
+
+
+def normality_arrays(blocks: Sequence[np.ndarray]) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """(skew, excess kurtosis, Jarque-Bera, its p-value) of each array of returns, as in
+    :func:`normality_table` (the p-value is the chi-square(2) survival function, ``scipy.special.chdtrc``)."""
+    out = np.empty((len(blocks), 3))
+    add = np.add.reduce
     with np.errstate(invalid="ignore", divide="ignore"):  # a constant block set gives NaN, not a warning
-        for i, h in enumerate(hs):
-            x = nonoverlapping_returns(y, h)
-            d = x - x.mean()
+        for i, x in enumerate(blocks):
+            m = x.shape[0]
+            d = x - add(x) / m
             d2 = d * d
-            m2, m3, m4 = d2.mean(), (d2 * d).mean(), (d2 * d2).mean()
-            out[i] = (m3 / m2**1.5, m4 / (m2 * m2) - 3.0, x.shape[0])
+            m2, m3, m4 = add(d2) / m, add(d2 * d) / m, add(d2 * d2) / m  # numpy's mean, less overhead
+            out[i] = (m3 / m2**1.5, m4 / (m2 * m2) - 3.0, m)
     skew, kurt, count = out.T
     jb = count / 6.0 * (skew**2 + kurt**2 / 4.0)
-    return pd.DataFrame({"h": hs, "skew": skew, "excess_kurtosis": kurt, "jarque_bera": jb,
-                         "jarque_bera_p": stats.chi2.sf(jb, 2)})
+    return skew, kurt, jb, special.chdtrc(2, jb)
 
 
 def qq_pairs(returns: np.ndarray, points: int) -> pd.DataFrame:
@@ -62,13 +70,24 @@ def qq_pairs(returns: np.ndarray, points: int) -> pd.DataFrame:
     -----
     ``scipy.stats.probplot(z, fit=False)`` gives the normal order-statistic medians (Filliben's
     plotting positions) against the sorted standardized returns z = (r - mean) / sd. Evenly spaced
-    ranks are kept, always including both extremes, where departures from normality show.
+    ranks are kept, always including both extremes, where departures from normality show. The
+    pairs are computed here for the kept ranks only, by probplot's formulas: uniform medians
+    0.5^(1/m) at the top, one minus that at the bottom, (i - 0.3175) / (m + 0.365) between
+    (Filliben 1975, Technometrics 17(1)), mapped by the normal quantile ``scipy.special.ndtri``
+    (what ``scipy.stats.norm.ppf`` calls); the tests check equality with probplot.
     """
+    theo, samp = qq_arrays(returns, points)
+    return pd.DataFrame({"theoretical": theo, "sample": samp})
+
+
+def qq_arrays(returns: np.ndarray, points: int) -> tuple[np.ndarray, np.ndarray]:
+    """(theoretical, sample) of :func:`qq_pairs` as arrays."""
     z = (returns - returns.mean()) / returns.std(ddof=1)
-    theo, samp = stats.probplot(z, dist="norm", fit=False)
-    m = theo.shape[0]
+    m = z.shape[0]
     keep = np.unique(np.round(np.linspace(0, m - 1, min(points, m))).astype(int))
-    return pd.DataFrame({"theoretical": theo[keep], "sample": samp[keep]})
+    top = 0.5 ** (1.0 / m)
+    u = np.where(keep == m - 1, top, np.where(keep == 0, 1 - top, (keep + 1 - 0.3175) / (m + 0.365)))
+    return special.ndtri(u), np.sort(z)[keep]
 
 
 def independence(
@@ -88,36 +107,79 @@ def independence(
     Notes
     -----
     Q(L) = n (n + 2) sum_{k=1}^{L} rho_k^2 / (n - k), chi-square(L) under independence
-    (Ljung & Box 1978, Biometrika 65(2)), from the autocorrelations of
-    ``statsmodels.tsa.stattools.acf(fft=True)``: the formula of
-    ``statsmodels.stats.diagnostic.acorr_ljungbox``, which recomputes the autocorrelations by
-    direct O(n^2) correlation on every call; the tests check equality with it. Squared demeaned
+    (Ljung & Box 1978, Biometrika 65(2)), with the autocorrelations of returns and squared
+    returns from one FFT (:func:`autocorrelations`, equal to ``statsmodels.tsa.stattools.acf``):
+    the formula of ``statsmodels.stats.diagnostic.acorr_ljungbox``, which recomputes the
+    autocorrelations by direct O(n^2) correlation on every call; the tests check equality with
+    it. p-values are chi-square survival functions (``scipy.special.chdtrc``). Squared demeaned
     returns reveal volatility clustering, which leaves returns uncorrelated but not independent
     (Engle 1982, Econometrica 50(4)).
     """
-    from statsmodels.tsa.stattools import acf
+    ljung, ac = independence_arrays(returns, lags, acf_lags, alpha)
+    return pd.DataFrame(ljung), pd.DataFrame(ac)
 
-    e = returns - returns.mean()
-    sq = e * e
+
+def independence_arrays(returns: np.ndarray, lags: Sequence[int], acf_lags: int, alpha: float,
+                        rho: tuple[np.ndarray, np.ndarray] | None = None) -> tuple[dict, dict]:
+    """The two tables of :func:`independence` as dicts of column arrays.
+
+    ``rho``: the autocorrelations of the demeaned returns and of their squares, lags 1 .. at
+    least max(acf_lags, lags), when the caller already has them (see
+    :func:`independence_rows`); computed here otherwise.
+    """
     n = returns.shape[0]
     lags = np.asarray([int(x) for x in lags], dtype=np.int64)
     top = max(int(acf_lags), int(lags.max()))
-    rho_r = acf(e, nlags=top, fft=True)[1:]
-    rho_s = acf(sq, nlags=top, fft=True)[1:]
-    q_r, q_s = ljung_box_q(rho_r, n, lags), ljung_box_q(rho_s, n, lags)
-    ljung = pd.DataFrame({
-        "lag": lags,
-        "q_returns": q_r, "p_returns": stats.chi2.sf(q_r, lags),
-        "q_squared": q_s, "p_squared": stats.chi2.sf(q_s, lags),
-    })
-    band = float(stats.norm.ppf(1.0 - alpha / 2.0)) / np.sqrt(n)
-    ac = pd.DataFrame({
-        "lag": np.arange(1, acf_lags + 1),
-        "acf_returns": rho_r[:acf_lags],
-        "acf_squared": rho_s[:acf_lags],
-        "band": band,
-    })
+    if rho is None:
+        rho_r, rho_s = autocorrelations(independence_rows(returns), top)
+    else:
+        rho_r, rho_s = rho
+    q_r, q_s = ljung_box_q(rho_r[:top], n, lags), ljung_box_q(rho_s[:top], n, lags)
+    ljung = {"lag": lags, "q_returns": q_r, "p_returns": special.chdtrc(lags, q_r),
+             "q_squared": q_s, "p_squared": special.chdtrc(lags, q_s)}
+    band = float(special.ndtri(1.0 - alpha / 2.0)) / np.sqrt(n)
+    ac = {"lag": np.arange(1, acf_lags + 1), "acf_returns": rho_r[:acf_lags], "acf_squared": rho_s[:acf_lags],
+          "band": np.full(acf_lags, band)}
     return ljung, ac
+
+
+def independence_rows(returns: np.ndarray) -> np.ndarray:
+    """The two series whose autocorrelations :func:`independence` tests: demeaned returns and
+    their squares, as the rows of one array."""
+    e = returns - returns.mean()
+    return np.stack((e, e * e))
+
+
+def lagged_products(rows: np.ndarray, max_lag: int) -> np.ndarray:
+    """sum_t x_t x_{t-k} for k = 0 .. ``max_lag`` of each row of ``rows`` (2-D, one series a row).
+
+    Notes
+    -----
+    One real FFT of all rows, zero-padded to at least n + max_lag points so that the circular
+    correlation equals the linear one at every lag up to ``max_lag`` (Wiener-Khinchin; the way
+    ``statsmodels.tsa.stattools.acovf(fft=True)`` computes it, with a shorter padding). O(n log n)
+    for all lags at once, against O(n) per lag for dot products.
+    """
+    n = rows.shape[-1]
+    size = fft.next_fast_len(n + max_lag, real=True)
+    spec = fft.rfft(rows, n=size, axis=-1)
+    power = spec.real * spec.real
+    power += spec.imag * spec.imag
+    return fft.irfft(power, n=size, axis=-1)[..., :max_lag + 1]
+
+
+def autocorrelations(rows: np.ndarray, nlags: int) -> np.ndarray:
+    """Autocorrelations rho_1 .. rho_nlags of each row, each row demeaned first.
+
+    Notes
+    -----
+    rho_k = sum_t (x_t - xbar)(x_{t-k} - xbar) / sum_t (x_t - xbar)^2, the definition of
+    ``statsmodels.tsa.stattools.acf`` (adjusted=False), from one FFT of all rows
+    (:func:`lagged_products`); the tests check it against statsmodels to 1e-10.
+    """
+    d = rows - rows.mean(axis=-1, keepdims=True)
+    acov = lagged_products(d, nlags)
+    return acov[..., 1:] / acov[..., :1]
 
 
 def ljung_box_q(rho: np.ndarray, n: int, lags: np.ndarray) -> np.ndarray:
@@ -133,7 +195,8 @@ def drift(returns: np.ndarray, horizons: Sequence[int], annualization: float) ->
     -------
     dict
         ``mean_per_bar``, ``mean_annualized`` (mean x A), ``vol_annualized`` (sd x sqrt(A)),
-        ``t_stat``, ``p_value`` (two-sided, ``scipy.stats.ttest_1samp``), ``n``, and
+        ``t_stat`` = mean / (sd / sqrt(n)), ``p_value`` two-sided from Student's t with n - 1
+        degrees of freedom (``scipy.special.stdtr``; what ``scipy.stats.ttest_1samp`` gives), ``n``, and
         ``by_horizon``: list of {h, drift_to_vol, vol_inflation} records.
 
     Notes
@@ -147,7 +210,9 @@ def drift(returns: np.ndarray, horizons: Sequence[int], annualization: float) ->
     n = returns.shape[0]
     mu = float(returns.mean())
     sd = float(returns.std(ddof=1))
-    tt = stats.ttest_1samp(returns, 0.0)
+    with np.errstate(divide="ignore", invalid="ignore"):  # constant returns: t is NaN, as scipy says
+        t_stat = float(np.divide(mu, sd / np.sqrt(n)))
+    p_value = float(2.0 * special.stdtr(n - 1, -abs(t_stat)))
     by_h = []
     for h in horizons:
         ratio = abs(mu) * np.sqrt(h) / sd
@@ -157,8 +222,8 @@ def drift(returns: np.ndarray, horizons: Sequence[int], annualization: float) ->
         "mean_per_bar": mu,
         "mean_annualized": mu * annualization,
         "vol_annualized": sd * float(np.sqrt(annualization)),
-        "t_stat": float(tt.statistic),
-        "p_value": float(tt.pvalue),
+        "t_stat": t_stat,
+        "p_value": p_value,
         "n": int(n),
         "by_horizon": by_h,
     }

@@ -13,8 +13,9 @@ from collections.abc import Sequence
 
 import numpy as np
 import pandas as pd
-from scipy import stats
+from scipy import special
 
+from volbench.scaling.increments import lagged_products
 from volbench.scaling.variance import overlapping_variance
 
 VR_COLUMNS = ("h", "variance", "variance_ratio", "z", "z_robust", "p_value", "p_value_robust")
@@ -30,14 +31,26 @@ def robust_deltas(y: np.ndarray, max_lag: int) -> np.ndarray:
         delta_k = n sum_{t>k} e_t^2 e_{t-k}^2 / (sum_t e_t^2)^2,
 
     Lo & MacKinlay (1988), Review of Financial Studies 1(1), eq. (19) (as in ``arch``).
-    One dot product per lag: a loop over lags, not over bars.
+    The lagged sums for every lag come from one FFT
+    (:func:`volbench.scaling.increments.lagged_products`), not one dot product per lag.
     """
     r = np.diff(y)
     n = r.shape[0]
     mu = (y[-1] - y[0]) / n
     z2 = (r - mu) ** 2.0
+    return deltas_from_squares(z2, max_lag)
+
+
+def deltas_from_squares(z2: np.ndarray, max_lag: int, lagged: np.ndarray | None = None) -> np.ndarray:
+    """:func:`robust_deltas` from the squared demeaned returns ``z2`` (and, when already computed,
+    their lagged sums ``lagged[k]`` = sum_t z2_t z2_{t-k}, k = 0 .. max_lag)."""
+    n = z2.shape[0]
+    if max_lag < 1:
+        return np.empty(0)
+    if lagged is None:
+        lagged = lagged_products(z2[None, :], max_lag)[0]
     scale = np.sum(z2) ** 2.0
-    return np.array([n * (z2[k:] @ z2[:-k]) / scale for k in range(1, max_lag + 1)], dtype=float)
+    return n * lagged[1:max_lag + 1] / scale
 
 
 def variance_ratio_table(
@@ -70,15 +83,24 @@ def variance_ratio_table(
 
     Lo & MacKinlay (1988), eqs. (14) and (20), in the form of Campbell, Lo & MacKinlay (1997),
     eqs. 2.4.39 and 2.4.43, which is what ``arch.unitroot.VarianceRatio(y, q, trend="c",
-    debiased=True, robust=...)`` computes. p-values are two-sided standard normal.
+    debiased=True, robust=...)`` computes. p-values are two-sided standard normal
+    (``scipy.special.ndtr``, the function behind ``scipy.stats.norm.sf``).
     """
-    n = y.shape[0] - 1
     hs = [int(h) for h in horizons]
     if deltas is None:
         deltas = robust_deltas(y, max(hs) - 1)
+    vq, vr, z, zr, p, pr = ratio_arrays(y, hs, deltas)
+    return pd.DataFrame({"h": hs, "variance": vq, "variance_ratio": vr, "z": z, "z_robust": zr,
+                         "p_value": p, "p_value_robust": pr})
+
+
+def ratio_arrays(y: np.ndarray, hs: Sequence[int], deltas: np.ndarray) -> tuple[np.ndarray, ...]:
+    """(variance, variance_ratio, z, z_robust, p_value, p_value_robust) of
+    :func:`variance_ratio_table` as arrays (p-values two-sided normal, ``scipy.special.ndtr``)."""
+    n = y.shape[0] - 1
     var1 = overlapping_variance(y, 1)
     q = np.asarray(hs, dtype=float)
-    vq = np.array([overlapping_variance(y, h) for h in hs])
+    vq = np.array([var1 if h == 1 else overlapping_variance(y, h) for h in hs])
     vr = vq / (q * var1)
     phi = 2.0 * (2 * q - 1) * (q - 1) / (3.0 * q)
     theta = np.array([np.sum(4.0 * (1.0 - np.arange(1, h) / h) ** 2.0 * deltas[: h - 1]) for h in hs])
@@ -88,9 +110,8 @@ def variance_ratio_table(
     one = q == 1
     vr[one] = 1.0
     z[one] = zr[one] = np.nan
-    p, pr = 2.0 * stats.norm.sf(np.abs(np.vstack((z, zr))))
-    return pd.DataFrame({"h": hs, "variance": vq, "variance_ratio": vr, "z": z, "z_robust": zr,
-                         "p_value": p, "p_value_robust": pr})
+    p, pr = 2.0 * special.ndtr(-np.abs(np.vstack((z, zr))))
+    return vq, vr, z, zr, p, pr
 
 
 def variance_ratio_table_arch(y: np.ndarray, horizons: Sequence[int]) -> pd.DataFrame:
@@ -141,5 +162,5 @@ def chow_denning(z: Sequence[float]) -> tuple[float, float]:
     if zz.size == 0:
         return float("nan"), float("nan")
     stat = float(zz.max())
-    p = -np.expm1(zz.size * np.log1p(-2.0 * stats.norm.sf(stat)))
+    p = -np.expm1(zz.size * np.log1p(-2.0 * special.ndtr(-stat)))
     return stat, float(min(max(p, 0.0), 1.0))

@@ -10,7 +10,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
+from scipy import special
 
 
 def overlapping_variance(y: np.ndarray, h: int) -> float:
@@ -127,7 +127,7 @@ def loglog_fit(
         Var(b) = c' K c,   K_ij = (4/n) sum_{k < min(h_i, h_j)} (1 - k/h_i)(1 - k/h_j) delta_k.
 
     The diagonal of K is the robust variance of VR(h) - 1 in Lo & MacKinlay's z*; the interval is
-    normal, b +/- z_{(1+level)/2} sqrt(Var(b)).
+    normal, b +/- z_{(1+level)/2} sqrt(Var(b)) (z from ``scipy.special.ndtri``).
     """
     h = np.asarray(horizons, dtype=float)
     x = np.log(h)
@@ -143,5 +143,5 @@ def loglog_fit(
     a = np.clip(1.0 - k[None, :] / h[:, None], 0.0, None)  # (1 - k/h_i) for k < h_i, else 0
     cov = (4.0 / n) * (a * np.asarray(deltas[:kmax], dtype=float)[None, :]) @ a.T
     se = float(np.sqrt(max(c @ cov @ c, 0.0)))
-    zq = float(stats.norm.ppf(0.5 + level / 2.0))
+    zq = float(special.ndtri(0.5 + level / 2.0))
     return LogLogFit(slope, intercept, se, (slope - zq * se, slope + zq * se), level)

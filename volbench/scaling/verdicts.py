@@ -17,9 +17,11 @@ is, and whether it would matter for pricing, is said in the sentence, never in t
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass
 from typing import Literal
 
+import numpy as np
 import pandas as pd
 
 from volbench.formatting import pct as _pct
@@ -30,6 +32,13 @@ def _pc(x: float, digits: int = 1) -> str:
     return _pct(x, digits, space=False)
 
 Status = Literal["consistent", "doubtful", "rejected"]
+Table = pd.DataFrame | Mapping[str, np.ndarray]
+"""A table of the check: a DataFrame, or a mapping of column name -> array (what the check
+passes, before it wraps its tables in pandas once)."""
+
+
+def _col(table: Table, name: str) -> np.ndarray:
+    return np.asarray(table[name])
 PROPERTIES = ("variance_proportional_to_horizon", "normal_increments", "independent_increments",
               "negligible_drift")
 
@@ -89,28 +98,29 @@ def _doubtful_note(status: Status, alpha: float) -> str:
             "are judged together (Holm).")
 
 
-def independence_p(ljung: pd.DataFrame) -> tuple[float, float]:
+def independence_p(ljung: Table) -> tuple[float, float]:
     """Bonferroni-adjusted p-values (returns, squared returns): min(1, m x smallest p), m = 2 x lags."""
-    m = 2 * len(ljung)
-    return (min(1.0, m * float(ljung["p_returns"].min())), min(1.0, m * float(ljung["p_squared"].min())))
+    p_r, p_s = _col(ljung, "p_returns"), _col(ljung, "p_squared")
+    m = 2 * p_r.shape[0]
+    return (min(1.0, m * float(p_r.min())), min(1.0, m * float(p_s.min())))
 
 
 def fmt_p(p: float) -> str:
     return "p < 0.001" if p < 0.001 else f"p = {p:.3f}"
 
 
-def variance_verdict(horizons: pd.DataFrame, cd_stat: float, cd_p: float, fit, alpha: float,
+def variance_verdict(horizons: Table, cd_stat: float, cd_p: float, fit, alpha: float,
                      status: Status | None = None) -> Verdict:
     """Variance proportional to horizon: Chow-Denning joint test.
 
     The effect is read at the horizon whose vol departs most from sqrt-time scaling when that
     departure is large (>= :data:`LARGE_VOL_GAP`), else at the longest horizon.
     """
-    gaps = (horizons["vol_ratio"] - 1.0).abs().to_numpy()
+    gaps = np.abs(_col(horizons, "vol_ratio") - 1.0)
     large = bool(gaps.max() >= LARGE_VOL_GAP)
-    row = horizons.iloc[int(gaps.argmax())] if large else horizons.iloc[-1]
-    h, n_h = int(row["h"]), int(row["n_nonoverlap"])
-    gap = float(row["variance_ratio"]) - 1.0
+    i = int(gaps.argmax()) if large else gaps.shape[0] - 1
+    h, n_h = int(_col(horizons, "h")[i]), int(_col(horizons, "n_nonoverlap")[i])
+    gap = float(_col(horizons, "variance_ratio")[i]) - 1.0
     status = status or status_for(cd_p, alpha)
     side = "below" if gap < 0 else "above"
     msg = f"{h}-bar variance is {_pc(abs(gap), 0)} {side} {h} x 1-bar variance"
@@ -120,8 +130,8 @@ def variance_verdict(horizons: pd.DataFrame, cd_stat: float, cd_p: float, fit, a
     else:
         how = ("returns mean-revert and sqrt-time scaling overstates" if gap < 0
                else "returns trend and sqrt-time scaling understates")
-        msg += (f" ({_pc(row['annualized_vol'], 1)} measured vs {_pc(row['sqrt_time_vol'], 1)} sqrt-time scaled "
-                "1-bar vol, annualized)")
+        msg += (f" ({_pc(float(_col(horizons, 'annualized_vol')[i]), 1)} measured vs "
+                f"{_pc(float(_col(horizons, 'sqrt_time_vol')[i]), 1)} sqrt-time scaled 1-bar vol, annualized)")
         if status != "consistent":
             msg += f": {how} {h}-bar vol (Chow-Denning {fmt_p(cd_p)})"
         else:
@@ -133,10 +143,10 @@ def variance_verdict(horizons: pd.DataFrame, cd_stat: float, cd_p: float, fit, a
     return Verdict("variance_proportional_to_horizon", status, cd_stat, cd_p, msg)
 
 
-def normality_verdict(horizons: pd.DataFrame, alpha: float, status: Status | None = None) -> Verdict:
+def normality_verdict(horizons: Table, alpha: float, status: Status | None = None) -> Verdict:
     """Normal increments: Jarque-Bera on 1-bar returns; tails at the longest horizon for context."""
-    one, last = horizons.iloc[0], horizons.iloc[-1]
-    s, k, p = float(one["skew"]), float(one["excess_kurtosis"]), float(one["jarque_bera_p"])
+    skew, kurt = _col(horizons, "skew"), _col(horizons, "excess_kurtosis")
+    s, k, p = float(skew[0]), float(kurt[0]), float(_col(horizons, "jarque_bera_p")[0])
     large = abs(k) >= LARGE_EXCESS_KURTOSIS or abs(s) >= LARGE_SKEW
     status = status or status_for(p, alpha)
     if status == "consistent" and large:
@@ -150,30 +160,31 @@ def normality_verdict(horizons: pd.DataFrame, alpha: float, status: Status | Non
         tails = ("fatter than normal: one flat vol underprices far out-of-the-money options relative to "
                  "at-the-money ones" if k > 0 else "thinner than normal: one flat vol overprices far "
                  "out-of-the-money options relative to at-the-money ones")
-        h, kh = int(last["h"]), float(last["excess_kurtosis"])
+        h, kh = int(_col(horizons, "h")[-1]), float(kurt[-1])
         trend = ("tails thin out for longer-dated options" if abs(kh) < abs(k) / 2
                  else "the departure persists at longer horizons")
         msg = (f"1-bar returns have excess kurtosis {k:.1f} and skew {s:+.2f} (Jarque-Bera {fmt_p(p)}): tails "
-               f"are {tails}; at {h} bars excess kurtosis is {kh:.1f} ({int(last['n_nonoverlap'])} "
+               f"are {tails}; at {h} bars excess kurtosis is {kh:.1f} ({int(_col(horizons, 'n_nonoverlap')[-1])} "
                f"periods), so {trend}.") + _doubtful_note(status, alpha)
-    return Verdict("normal_increments", status, float(one["jarque_bera"]), p, msg)
+    return Verdict("normal_increments", status, float(_col(horizons, "jarque_bera")[0]), p, msg)
 
 
-def independence_verdict(ljung: pd.DataFrame, acf: pd.DataFrame, alpha: float,
+def independence_verdict(ljung: Table, acf: Table, alpha: float,
                          status: Status | None = None) -> Verdict:
     """Independent increments: Ljung-Box on returns and squared returns, Bonferroni over all tests.
 
     The p-value is min(1, m x smallest p) over the m = 2 x (number of lags) Ljung-Box tests.
     """
-    m = 2 * len(ljung)
-    i_r, i_s = int(ljung["p_returns"].idxmin()), int(ljung["p_squared"].idxmin())
+    lags = _col(ljung, "lag")
+    m = 2 * lags.shape[0]
+    i_r, i_s = int(_col(ljung, "p_returns").argmin()), int(_col(ljung, "p_squared").argmin())
     p_r, p_s = independence_p(ljung)
     if p_s <= p_r:
-        stat, p = float(ljung.loc[i_s, "q_squared"]), p_s
+        stat, p = float(_col(ljung, "q_squared")[i_s]), p_s
     else:
-        stat, p = float(ljung.loc[i_r, "q_returns"]), p_r
+        stat, p = float(_col(ljung, "q_returns")[i_r]), p_r
     status = status or status_for(p, alpha)
-    lag_r, lag_s = int(ljung.loc[i_r, "lag"]), int(ljung.loc[i_s, "lag"])
+    lag_r, lag_s = int(lags[i_r]), int(lags[i_s])
     parts = []
     if p_s < alpha:
         verb = "are" if status == "rejected" else "may be"
@@ -181,7 +192,7 @@ def independence_verdict(ljung: pd.DataFrame, acf: pd.DataFrame, alpha: float,
                      "volatility clusters, so the vol over an option's life depends on today's level; lean on "
                      "recent data (EWMA or a GARCH forecast) rather than the long-sample average.")
     if p_r < alpha:
-        a1 = float(acf["acf_returns"].iloc[0])
+        a1 = float(_col(acf, "acf_returns")[0])
         verb = "are" if status == "rejected" else "may be"
         parts.append(f"Returns {verb} autocorrelated (lag-1 autocorrelation {a1:+.2f}; Ljung-Box to lag {lag_r}, "
                      f"adjusted {fmt_p(p_r)}): see the variance-ratio verdict for the effect on long-horizon vol.")
