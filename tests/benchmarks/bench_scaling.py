@@ -3,6 +3,12 @@
 Run: .venv/bin/pytest -q -s tests/benchmarks/bench_scaling.py -o addopts="--import-mode=importlib"
 
 Reports, in one run:
+- scaling check + volatility cone (default windows) of all 500 series, each run on new history
+  objects (logs are cached per history), against a numpy floor measured in alternating runs:
+  the bare numpy of the same core numbers (log closes and returns, the overlapping variance at
+  each horizon, moments of the non-overlapping returns, one FFT for 20 autocorrelations of
+  returns and squared returns, and per cone window a cumulative-sum rolling std and
+  numpy.percentile). Target: <= 2 s;
 - wall time of :func:`volbench.scaling.scaling_check` over all 500 series (default horizons
   1..60, Ljung-Box lags 5/10/20, 20 autocorrelations, 200 QQ points), per series and in total;
 - the variance-ratio part alone, computed the fast way (:func:`variance_ratio_table`) and with
@@ -16,20 +22,25 @@ The core loops over series and horizons only, never over bars.
 
 from __future__ import annotations
 
+import dataclasses
 import resource
+import statistics
 import time
 import tracemalloc
 
 import numpy as np
 import pandas as pd
+import scipy.fft
 
 from volbench.data.history import PriceHistory
+from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, PERCENTILES, vol_cone
 from volbench.scaling import DEFAULT_HORIZONS, scaling_check
 from volbench.scaling.ratio import variance_ratio_table, variance_ratio_table_arch
 
 SERIES = 500
 BARS = 5040
 ARCH_SUBSET = 100
+TARGET_S = 2.0
 
 
 def _histories() -> list[PriceHistory]:
@@ -82,3 +93,59 @@ def test_bench_scaling():
     print(f"  baseline close-to-close vol         {t_base:8.3f} s;  full check / baseline {t_full / t_base:8.0f}")
     print(f"  memory: input data {data_mb:.1f} MiB traced; one check peaks at {peak_one:.2f} MiB traced; "
           f"process max RSS {maxrss_mb:.0f} MiB")
+
+
+def _floor(histories: list[PriceHistory]) -> None:
+    """Bare numpy of the check's and the cone's core numbers, nothing else (see the module docstring)."""
+    qs = list(PERCENTILES.values())
+    for h in histories:
+        y = np.log(h.close)
+        r = np.diff(y)
+        n = r.shape[0]
+        mu = (y[-1] - y[0]) / n
+        for k in DEFAULT_HORIZONS:
+            d = y[k:] - y[:-k] - k * mu
+            d @ d
+            x = np.diff(y[::-k][::-1])
+            c = x - x.mean()
+            c2 = c * c
+            c2.mean(), (c2 * c).mean(), (c2 * c2).mean()
+        e = r - r.mean()
+        size = scipy.fft.next_fast_len(n + 21, real=True)
+        spec = scipy.fft.rfft(np.stack((e, e * e - (e * e).mean())), n=size)
+        scipy.fft.irfft(spec.real ** 2 + spec.imag ** 2, n=size)[:, :21]
+        sq = np.concatenate(([0.0], np.cumsum(e)))
+        sq2 = np.concatenate(([0.0], np.cumsum(e * e)))
+        for w in DEFAULT_CONE_WINDOWS:
+            s1, s2 = sq[w:] - sq[:-w], sq2[w:] - sq2[:-w]
+            np.percentile(np.sqrt((s2 - s1 * s1 / w) / (w - 1) * 252), qs)
+
+
+def _run(fn, histories: list[PriceHistory]) -> float:
+    fresh = [dataclasses.replace(h) for h in histories]  # nothing cached yet
+    t0 = time.perf_counter()
+    fn(fresh)
+    return time.perf_counter() - t0
+
+
+def test_bench_scaling_and_cone():
+    histories = _histories()
+    ours_fn = lambda hs: [(scaling_check(h), vol_cone(h)) for h in hs]
+    ours_fn(histories[:5])
+    _floor(histories[:5])
+    ours, floor, check_only, cone_only = [], [], [], []
+    for _ in range(3):
+        floor.append(_run(_floor, histories))
+        ours.append(_run(ours_fn, histories))
+    for _ in range(2):
+        check_only.append(_run(lambda hs: [scaling_check(h) for h in hs], histories))
+        cone_only.append(_run(lambda hs: [vol_cone(h) for h in hs], histories))
+    med, fl = statistics.median(ours), statistics.median(floor)
+    ratio = statistics.median(o / f for o, f in zip(ours, floor))
+    print(f"\nscaling check + cone ({len(DEFAULT_CONE_WINDOWS)} windows), {SERIES} series x {BARS} bars, "
+          "new history objects each run (median / fastest of 3):")
+    print(f"  volbench            {med:6.2f} / {min(ours):5.2f} s  ({1000 * med / SERIES:5.2f} ms a series; "
+          f"target <= {TARGET_S:g} s: {'met' if med <= TARGET_S else 'NOT met'})")
+    print(f"    check alone       {statistics.median(check_only):6.2f} s;  cone alone {statistics.median(cone_only):6.2f} s")
+    print(f"  numpy floor         {fl:6.2f} / {min(floor):5.2f} s;  ratio volbench / floor {ratio:5.2f}x "
+          "(median of alternating runs)")

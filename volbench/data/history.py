@@ -9,6 +9,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
+from volbench import validate
 from volbench.data.logs import LogPrices
 from volbench.errors import VolbenchError
 from volbench.types import Column, Severity
@@ -359,6 +360,4 @@ def _iso(d: np.datetime64) -> str:
 
 def parse_as_of(as_of) -> pd.Timestamp:
     """An as-of date; text must be ISO YYYY-MM-DD (one rule everywhere: volbench.validate.date)."""
-    from volbench import validate
-
     return validate.date(as_of, "as-of date", time_of_day=True)

@@ -11,7 +11,6 @@ Every array here is read-only: callers that need to modify one must copy it.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from functools import cached_property
 
 import numpy as np
@@ -26,9 +25,10 @@ def _log(a: np.ndarray | None) -> np.ndarray | None:
     return None if a is None else _frozen(np.log(a))
 
 
-@dataclass(frozen=True, eq=False)
 class LogPrices:
     """Natural logs of a history's prices and its close-to-close log returns.
+
+    Each log is taken on first use and kept (a cone or a scaling check needs only ln C).
 
     Attributes
     ----------
@@ -40,15 +40,30 @@ class LogPrices:
     Notation of docs/METHODS.md, "Notation and conventions": r_t = ln(C_t / C_{t-1}).
     """
 
-    close: np.ndarray
-    open: np.ndarray | None = None
-    high: np.ndarray | None = None
-    low: np.ndarray | None = None
+    def __init__(self, close: np.ndarray, open: np.ndarray | None = None, high: np.ndarray | None = None,
+                 low: np.ndarray | None = None) -> None:
+        self._prices = (close, open, high, low)
 
     @classmethod
     def of(cls, close, open=None, high=None, low=None) -> LogPrices:
-        """Logs of the given price arrays (positive floats, as a PriceHistory holds them)."""
-        return cls(_log(close), _log(open), _log(high), _log(low))
+        """Logs of the given price arrays (positive floats, as a PriceHistory holds them), taken on use."""
+        return cls(close, open, high, low)
+
+    @cached_property
+    def close(self) -> np.ndarray:
+        return _log(self._prices[0])
+
+    @cached_property
+    def open(self) -> np.ndarray | None:
+        return _log(self._prices[1])
+
+    @cached_property
+    def high(self) -> np.ndarray | None:
+        return _log(self._prices[2])
+
+    @cached_property
+    def low(self) -> np.ndarray | None:
+        return _log(self._prices[3])
 
     @cached_property
     def returns(self) -> np.ndarray:

@@ -13,14 +13,19 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from volbench import validate
 from volbench.data.history import PriceHistory, _iso
 from volbench.errors import VolbenchError
 from volbench.estimators import get_spec, rolling_windows
+from volbench.frames import frame, labels
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_positive, check_window
 
 DEFAULT_CONE_WINDOWS: tuple[int, ...] = (10, 20, 40, 60, 120, 250)
 PERCENTILES: dict[str, float] = {"min": 0, "p10": 10, "p25": 25, "p50": 50, "p75": 75, "p90": 90, "max": 100}
 """Cone columns and the percentile each one is (numpy.percentile, linear interpolation)."""
+_TABLE_COLUMNS = (*PERCENTILES, "mean", "current", "current_percentile", "n_windows", "n_independent")
+_TABLE_LABELS = {False: labels(_TABLE_COLUMNS),
+                 True: labels((*_TABLE_COLUMNS, "ht_factor", *(f"{k}_adj" for k in PERCENTILES)))}
 
 
 def hodges_tompkins_factor(window: int, n: int) -> float:
@@ -156,7 +161,7 @@ def percentiles(values: np.ndarray, qs: np.ndarray) -> np.ndarray:
     prev[above] = m - 1
     nxt[above] = m - 1
     gamma = vi - np.where(above, -1, prev)  # numpy's weight at the end (its index -1)
-    x = np.partition(values, np.unique(np.concatenate((prev, nxt))))
+    x = np.partition(values, sorted({*prev.tolist(), *nxt.tolist()}))
     a, b = x[prev], x[nxt]
     diff = b - a
     out = a + diff * gamma
@@ -304,8 +309,6 @@ class Cone:
 
 
 def _check_days(days) -> int:
-    from volbench import validate
-
     return validate.days(days)
 
 
@@ -322,8 +325,6 @@ def _check_windows(windows: Sequence[int]) -> tuple[int, ...]:
 
 
 def _date(value, what: str) -> pd.Timestamp | None:
-    from volbench import validate
-
     return validate.date(value, f"{what} date")
 
 
@@ -332,8 +333,6 @@ def select_range(history: PriceHistory, start=None, end=None) -> PriceHistory:
     s, e = _date(start, "start"), _date(end, "end")
     if s is None and e is None:
         return history
-    from volbench import validate
-
     validate.date_within(e, history.first_date, history.last_date, what="end date", name=history.name)
     if s is not None and e is not None and s > e:
         raise VolbenchError(f"start date {s.date()} is after end date {e.date()}")
@@ -464,9 +463,9 @@ def vol_cone(
                      "seed, so its columns differ little")
     first = next(iter(rows.values()))
     ints = ("n_windows", "n_independent")
-    table = pd.DataFrame({k: np.array([r[k] for r in rows.values()], dtype=np.int64 if k in ints else float)
-                          for k in first},
-                         index=pd.Index(np.fromiter(rows, dtype=np.int64, count=len(rows)), name="window"))
+    table = frame({k: np.array([r[k] for r in rows.values()], dtype=np.int64 if k in ints else float) for k in first},
+                  _TABLE_LABELS[bool(hodges_tompkins)],
+                  pd.Index(np.fromiter(rows, dtype=np.int64, count=len(rows)), name="window"))
     return Cone(name=h.name, estimator=spec.key, label=spec.label, annualization=a, start=h.first_date,
                 end=h.last_date, rows=h.n, hodges_tompkins=bool(hodges_tompkins), table=table,
                 dropped=dropped, notes=tuple(notes), rolling=rolling)

@@ -8,18 +8,22 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from volbench import validate
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators.base import sample_variance
+from volbench.frames import frame, labels
 from volbench.scaling.false_alarm import family_false_alarm
-from volbench.scaling.increments import drift as drift_stats
 from volbench.scaling.increments import (
+    ACF_LABELS,
+    LJUNG_BOX_LABELS,
     independence_arrays,
     independence_rows,
     lagged_products,
     normality_arrays,
     qq_arrays,
 )
+from volbench.scaling.increments import drift as drift_stats
 from volbench.scaling.ratio import chow_denning, deltas_from_squares, ratio_arrays
 from volbench.scaling.variance import loglog_fit, nonoverlapping_returns
 from volbench.scaling.verdicts import (
@@ -46,6 +50,8 @@ HORIZON_COLUMNS = (
     "vol_ratio", "variance_ratio", "z", "z_robust", "p_value", "p_value_robust", "skew",
     "excess_kurtosis", "jarque_bera", "jarque_bera_p",
 )
+_HORIZON_LABELS = labels(HORIZON_COLUMNS)
+_QQ_LABELS = labels(("theoretical", "sample"))
 
 
 @dataclass(frozen=True, eq=False)
@@ -178,8 +184,6 @@ def check_horizons(horizons: Iterable[int]) -> tuple[int, ...]:
 
 def check_alpha(alpha: float) -> float:
     """Significance level of the verdicts (one rule everywhere: volbench.validate.significance)."""
-    from volbench import validate
-
     return validate.significance(alpha)
 
 
@@ -318,10 +322,10 @@ def scaling_check(
     )
     theo, samp = qq_arrays(r, int(qq_points))
     return ScalingResult(
-        name=name, horizons=pd.DataFrame(cols), dropped=dropped, slope=fit.slope, slope_ci=fit.ci,
+        name=name, horizons=frame(cols, _HORIZON_LABELS), dropped=dropped, slope=fit.slope, slope_ci=fit.ci,
         slope_se=fit.se, hurst=fit.hurst, chow_denning_stat=cd_stat, chow_denning_p=cd_p,
-        ljung_box=pd.DataFrame(lb), acf=pd.DataFrame(ac),
-        qq=pd.DataFrame(np.column_stack((theo, samp)), columns=["theoretical", "sample"]), drift=dr,
+        ljung_box=frame(lb, LJUNG_BOX_LABELS), acf=frame(ac, ACF_LABELS),
+        qq=frame({"theoretical": theo, "sample": samp}, _QQ_LABELS), drift=dr,
         verdicts=verdicts, n_returns=n, alpha=alpha, annualization=a, notes=tuple(notes),
         provenance=history.provenance(), family_false_alarm=family_false_alarm(n, alpha),
     )

@@ -8,9 +8,12 @@ import numpy as np
 import pandas as pd
 from scipy import fft, special
 
+from volbench.frames import frame, labels
 from volbench.scaling.variance import nonoverlapping_returns
 
 NORMALITY_COLUMNS = ("h", "skew", "excess_kurtosis", "jarque_bera", "jarque_bera_p")
+LJUNG_BOX_LABELS = labels(("lag", "q_returns", "p_returns", "q_squared", "p_squared"))
+ACF_LABELS = labels(("lag", "acf_returns", "acf_squared", "band"))
 
 
 def normality_table(y: np.ndarray, horizons: Sequence[int]) -> pd.DataFrame:
@@ -84,10 +87,11 @@ def qq_arrays(returns: np.ndarray, points: int) -> tuple[np.ndarray, np.ndarray]
     """(theoretical, sample) of :func:`qq_pairs` as arrays."""
     z = (returns - returns.mean()) / returns.std(ddof=1)
     m = z.shape[0]
-    keep = np.unique(np.round(np.linspace(0, m - 1, min(points, m))).astype(int))
+    ranks = np.round(np.linspace(0, m - 1, min(points, m))).astype(int)  # nondecreasing
+    keep = ranks[np.concatenate(([True], ranks[1:] != ranks[:-1]))]  # numpy.unique of a sorted array
     top = 0.5 ** (1.0 / m)
     u = np.where(keep == m - 1, top, np.where(keep == 0, 1 - top, (keep + 1 - 0.3175) / (m + 0.365)))
-    return special.ndtri(u), np.sort(z)[keep]
+    return special.ndtri(u), np.partition(z, keep)[keep]  # the sorted values at the kept ranks only
 
 
 def independence(
@@ -116,7 +120,7 @@ def independence(
     (Engle 1982, Econometrica 50(4)).
     """
     ljung, ac = independence_arrays(returns, lags, acf_lags, alpha)
-    return pd.DataFrame(ljung), pd.DataFrame(ac)
+    return frame(ljung, LJUNG_BOX_LABELS), frame(ac, ACF_LABELS)
 
 
 def independence_arrays(returns: np.ndarray, lags: Sequence[int], acf_lags: int, alpha: float,
