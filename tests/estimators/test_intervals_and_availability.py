@@ -232,3 +232,12 @@ def test_constant_closes_make_close_estimators_unavailable(make_history):
     assert rep.unavailable["close_to_close"] == ("the closes do not change over the window: there is no "
                                                  "volatility to measure; check the price column")
     assert rep.unavailable["ewma"] == rep.unavailable["close_to_close"]
+
+
+def test_chi2_quantile_equals_scipy_stats():
+    # Reference library: scipy.stats.chi2.ppf, to the last bit (the same special function).
+    for p in (0.005, 0.025, 0.5, 0.975, 0.995):
+        for dof in (1.0, 2.5, 19.0, 147.3, 10_000.0):
+            assert intervals.chi2_quantile(p, dof) == stats.chi2.ppf(p, dof)
+    dofs = np.array([3.0, 30.0, 300.0])
+    np.testing.assert_array_equal(intervals.chi2_quantile(0.025, dofs), stats.chi2.ppf(0.025, dofs))

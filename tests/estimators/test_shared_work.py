@@ -161,3 +161,33 @@ def test_estimate_all_equals_single_point_estimates(simulate_ohlc):
     report = estimate_all(h, 21, as_of=h.index[300].strftime("%Y-%m-%d"))
     for key, est in report.estimates.items():
         assert est == point_estimate(h, key, 21, as_of=report.as_of)
+
+
+def test_rolling_windows_equal_rolling_vol_for_each_window(simulate_ohlc):
+    # One call for a cone's windows (terms and their cumulative sums shared): each series equals the
+    # single call to the last bit (common practice, no source); windows that do not fit say why.
+    from volbench.estimators import rolling_windows
+
+    h = simulate_ohlc(260, 0.3, seed=80, steps=10, overnight_share=0.2)
+    for key in ESTIMATOR_KEYS:
+        series, reasons = rolling_windows(h, key, (5, 20, 60, 300), annualization=250.0)
+        assert set(series) == {5, 20, 60} and "300 needs" in reasons[300]
+        for w, rv in series.items():
+            alone = rolling_vol(h, key, w, annualization=250.0)
+            assert rv.values.equals(alone.values) and rv.values.index.equals(alone.values.index), (key, w)
+            assert (rv.window, rv.invalid_dates) == (w, alone.invalid_dates)
+
+
+def test_a_run_of_rows_views_the_history_without_copying(simulate_ohlc):
+    # take(slice) shares the parent's read-only arrays and equals the boolean-mask copy.
+    h = simulate_ohlc(120, 0.3, seed=81, steps=5)
+    part = h.take(slice(30, 90))
+    mask = np.zeros(h.n, dtype=bool)
+    mask[30:90] = True
+    copy = h.take(mask)
+    for col in ("dates", "open", "high", "low", "close", "lines"):
+        np.testing.assert_array_equal(getattr(part, col), getattr(copy, col))
+        assert np.shares_memory(getattr(part, col), getattr(h, col))
+        assert not getattr(part, col).flags.writeable
+    assert (part.n, part.first_date, part.last_date, part.findings) == (60, copy.first_date, copy.last_date, h.findings)
+    assert part.provenance() == copy.provenance()

@@ -273,3 +273,25 @@ def test_percentiles_and_rank_without_sorting_equal_numpy_and_the_sorted_rank():
                   float(x.mean()), float(rng.choice(x)) * 1.0001):
             assert rank_unsorted(x, v) == percentile_rank(xs, v), (m, v)
             assert percentile_rank(xs, v) == float(percentile_rank(xs, np.array([v]))[0])
+
+
+def test_place_in_cone_equals_the_cones_own_placement(gbm, make_history):
+    # Same rolling series, window rules and ranks without the percentile table: identical numbers
+    # and notes (common practice, no source), also when windows are dropped or the life is outside.
+    from volbench.pricing.cone import place_in_cone
+
+    h = gbm(700, seed=11)
+    for windows in (DEFAULT_CONE_WINDOWS, (5, 30, 500, 900)):
+        cone = vol_cone(h, windows=windows)
+        for days in (3, 5, 21, 30, 100, 2000):
+            got = place_in_cone(h, (0.21, None, 0.4), days, windows=windows)
+            assert got[1] is None
+            assert got[0] == cone.place(0.21, days) and got[2] == cone.place(0.4, days)
+    short = gbm(9)
+    with pytest.raises(VolbenchError, match="no cone window fits the 9 rows") as exc:
+        place_in_cone(short, (0.2,), 21)
+    with pytest.raises(VolbenchError) as same:
+        vol_cone(short)
+    assert str(exc.value) == str(same.value)
+    with pytest.raises(VolbenchError, match="vol must be a positive decimal"):
+        place_in_cone(h, (-0.1,), 21)

@@ -251,3 +251,17 @@ def test_large_but_insignificant_variance_gap_is_described_but_stays_consistent(
     v = variance_verdict(tab.assign(vol_ratio=1.0), 1.2, 0.40, fit, 0.05)  # no large gap: consistent
     assert v.status == "consistent" and v.message.startswith("60-bar variance")
     assert "16 non-overlapping periods; read it with caution" in v.message
+
+
+def test_scaling_verdicts_equal_the_full_check(garch_returns, history_from_returns):
+    # Same code without the tables (what a survey reads): the verdicts must be identical, on a
+    # Brownian and on a GARCH series, with non-default settings (common practice, no source).
+    from volbench.scaling import scaling_verdicts
+
+    for r in (np.random.default_rng(3).standard_normal(1500) * 0.01, garch_returns(2000, 4) * 0.01):
+        h = history_from_returns(r, name="x")
+        for kw in ({}, {"alpha": 0.01, "acf_lags": 8, "ljung_box_lags": (2, 7)}):
+            full = scaling_check(h, (1, 3, 9, 27), **kw)
+            assert scaling_verdicts(h, (1, 3, 9, 27), **kw) == full.verdicts
+    with pytest.raises(VolbenchError, match="only 10 returns"):
+        scaling_verdicts(history_from_returns(np.full(10, 0.01), name="short"))

@@ -47,7 +47,7 @@ def parse_dates(text: pd.Series, date_format: str | None = None,
     fmt = date_format or "ISO8601"
     finding = None
     try:
-        parsed = pd.to_datetime(s, format=fmt, errors="coerce")
+        parsed = pd.to_datetime(s, format=fmt, errors="coerce", cache=False)  # dates rarely repeat
     except (ValueError, TypeError):  # offsets that differ between cells, or naive cells among them
         parsed = None
     if parsed is None or getattr(parsed.dt, "tz", None) is not None:
@@ -58,7 +58,7 @@ def parse_dates(text: pd.Series, date_format: str | None = None,
     if failed.any():
         retry = failed & s.notna().to_numpy()
         if retry.any():  # cells with spaces around the date: only those are stripped
-            again = pd.to_datetime(s[retry].str.strip(), format=fmt, errors="coerce")
+            again = pd.to_datetime(s[retry].str.strip(), format=fmt, errors="coerce", cache=False)
             if getattr(again.dt, "tz", None) is None:
                 out[retry] = _in_range(again)
     return out, finding

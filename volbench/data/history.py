@@ -195,11 +195,11 @@ class PriceHistory:
     def has(self, *cols: str) -> bool:
         return all(getattr(self, c, None) is not None for c in cols)
 
-    @property
+    @cached_property
     def first_date(self) -> str | None:
         return _iso(self.dates[0]) if self.n else None
 
-    @property
+    @cached_property
     def last_date(self) -> str | None:
         return _iso(self.dates[-1]) if self.n else None
 
@@ -280,8 +280,22 @@ class PriceHistory:
     def take(self, mask: np.ndarray, **changes) -> PriceHistory:
         """A copy keeping the rows where ``mask`` is true, or the rows of a ``slice`` (findings and
         provenance carried over)."""
+        if isinstance(mask, slice) and mask.step in (None, 1) and not changes:
+            return self._rows(mask)
         cols = {c: (None if getattr(self, c) is None else getattr(self, c)[mask]) for c in ("open", "high", "low", "close", "volume")}
         return replace(self, dates=self.dates[mask], lines=self.lines[mask], **cols, **changes)
+
+    def _rows(self, rows: slice) -> PriceHistory:
+        """Consecutive rows as a history viewing this one's read-only arrays: no copy and no second
+        validation (a run of rows of a valid history is valid), so an estimate over the last
+        window of a long history costs O(window)."""
+        out = object.__new__(PriceHistory)
+        fields = {f: self.__dict__[f] for f in self.__dataclass_fields__}
+        for c in ("dates", "open", "high", "low", "close", "volume", "lines"):
+            if fields[c] is not None:
+                fields[c] = fields[c][rows]
+        out.__dict__.update(fields)
+        return out
 
     def up_to(self, as_of: str | np.datetime64 | pd.Timestamp | None) -> PriceHistory:
         """Rows dated on or before ``as_of`` (inclusive); the whole history when ``None``.

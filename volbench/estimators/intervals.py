@@ -12,7 +12,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import stats
+from scipy import special
 from scipy.special import zeta
 
 from volbench.estimators import calibration as cal
@@ -80,11 +80,18 @@ def effective_dof(key: str, n: int, *, zero_mean: bool = False, overnight_share=
     return n * BAR_EFFICIENCY[key]
 
 
+def chi2_quantile(p, dof):
+    """Chi-square(dof) quantile at probability p: 2 x the inverse regularized lower incomplete gamma
+    function at dof / 2 (``scipy.special.gammaincinv``; what ``scipy.stats.chi2.ppf`` computes, without
+    its argument handling, for 0 < p < 1 and dof > 0)."""
+    return 2.0 * special.gammaincinv(np.asarray(dof, dtype=float) / 2.0, p)
+
+
 def chi2_interval(vol, dof, confidence: float = 0.95):
     """[vol sqrt(nu / q_hi), vol sqrt(nu / q_lo)] with q the chi-square(nu) quantiles (vectorised)."""
     alpha = 1.0 - confidence
-    q_lo = stats.chi2.ppf(alpha / 2, dof)
-    q_hi = stats.chi2.ppf(1 - alpha / 2, dof)
+    q_lo = chi2_quantile(alpha / 2, dof)
+    q_hi = chi2_quantile(1 - alpha / 2, dof)
     vol = np.asarray(vol, dtype=float)
     lo, hi = vol * np.sqrt(dof / q_hi), vol * np.sqrt(dof / q_lo)
     if np.ndim(lo) == 0:

@@ -7,7 +7,7 @@ A pricing vol is placed by its percentile in the cone column matching the option
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -266,26 +266,7 @@ class Cone:
         (clamped, and the note says so). With Hodges-Tompkins the adjusted distribution
         mean + factor (x - mean) is used (common practice, no source, for the interpolation).
         """
-        v = check_positive(vol, "vol must be a positive decimal such as 0.25")
-        d = _check_days(days)
-        ws = self.windows
-        adj = self.hodges_tompkins
-        what = f"{self.label.lower()} vol" + (" (Hodges-Tompkins adjusted)" if adj else "")
-        if d in ws:
-            p = self.rank(v, d)
-            return ConePlacement(v, d, p, (d,), (1.0,), False, adj, f"{d}-bar {what}")
-        if d < ws[0] or d > ws[-1]:
-            w = ws[0] if d < ws[0] else ws[-1]
-            side = "shorter than the shortest" if d < ws[0] else "longer than the longest"
-            note = (f"{w}-bar {what}; the option life of {d} bars is {side} cone window, "
-                    f"so the {w}-bar column is used")
-            return ConePlacement(v, d, self.rank(v, w), (w,), (1.0,), True, adj, note)
-        i = int(np.searchsorted(ws, d))
-        w1, w2 = ws[i - 1], ws[i]
-        a = (d - w1) / (w2 - w1)
-        p = (1 - a) * self.rank(v, w1) + a * self.rank(v, w2)
-        note = f"{d}-bar {what}, interpolated between the {w1}- and {w2}-bar cone columns"
-        return ConePlacement(v, d, p, (w1, w2), (1 - a, a), False, adj, note)
+        return place_vol(vol, days, self.windows, self.rank, self.label, self.hodges_tompkins)
 
     def percentile_of(self, vol: float, days: int) -> float:
         """Percentile (0-100) of ``vol`` for an option of ``days`` bars; see :meth:`place`."""
@@ -306,6 +287,30 @@ class Cone:
                            if self.hodges_tompkins else None),
             "windows": rows, "dropped": {str(w): r for w, r in self.dropped.items()}, "notes": list(self.notes),
         }
+
+
+def place_vol(vol: float, days: int, windows: Sequence[int], rank: Callable[[float, int], float], label: str,
+              adjusted: bool = False) -> ConePlacement:
+    """:meth:`Cone.place` for a cone given by its sorted ``windows`` and ``rank(vol, window)``."""
+    v = check_positive(vol, "vol must be a positive decimal such as 0.25")
+    d = _check_days(days)
+    ws = tuple(windows)
+    what = f"{label.lower()} vol" + (" (Hodges-Tompkins adjusted)" if adjusted else "")
+    if d in ws:
+        p = rank(v, d)
+        return ConePlacement(v, d, p, (d,), (1.0,), False, adjusted, f"{d}-bar {what}")
+    if d < ws[0] or d > ws[-1]:
+        w = ws[0] if d < ws[0] else ws[-1]
+        side = "shorter than the shortest" if d < ws[0] else "longer than the longest"
+        note = (f"{w}-bar {what}; the option life of {d} bars is {side} cone window, "
+                f"so the {w}-bar column is used")
+        return ConePlacement(v, d, rank(v, w), (w,), (1.0,), True, adjusted, note)
+    i = int(np.searchsorted(ws, d))
+    w1, w2 = ws[i - 1], ws[i]
+    a = (d - w1) / (w2 - w1)
+    p = (1 - a) * rank(v, w1) + a * rank(v, w2)
+    note = f"{d}-bar {what}, interpolated between the {w1}- and {w2}-bar cone columns"
+    return ConePlacement(v, d, p, (w1, w2), (1 - a, a), False, adjusted, note)
 
 
 def _check_days(days) -> int:
@@ -405,21 +410,12 @@ def vol_cone(
     obs = h.n - spec.extra_bars
     rows: dict[int, dict] = {}
     rolling: dict[int, pd.Series] = {}
-    dropped: dict[int, str] = {}
     notes: list[str] = []
     qs = np.fromiter(PERCENTILES.values(), dtype=float)
-    series, reasons = rolling_windows(h, spec.key, ws, annualization=a)  # terms shared by the windows
-    for w in ws:
-        if w in reasons:
-            dropped[w] = reasons[w]
-            continue
-        rv = series[w]
+    kept, dropped = _columns(h, spec, ws, a)
+    for w, rv in kept.items():
         vals = rv.values.to_numpy()
         n = len(vals)
-        if n < 2:
-            dropped[w] = (f"window {w} gives {n} rolling value{'s' if n != 1 else ''}; a cone column needs "
-                          f"at least 2, i.e. {spec.bars_needed(w) + 1} rows, history has {h.n}")
-            continue
         if rv.invalid_dates:
             notes.append(f"window {w}: {len(rv.invalid_dates)} rolling value(s) left out because bars have "
                          "high below low or prices outside their range; exclude flagged rows")
@@ -446,18 +442,6 @@ def vol_cone(
             row.update(zip((f"{k}_adj" for k in PERCENTILES), np.maximum(adj, 0.0).tolist()))
         rows[w] = row
         rolling[w] = rv.values
-    if not rows and dropped and len(set(dropped.values())) == 1 and next(iter(dropped.values())).startswith(
-            ("no range on any bar", "the closes do not change")):
-        raise VolbenchError(f"{h.name}: no {spec.label} cone: {next(iter(dropped.values()))}; choose another "
-                            "cone estimator")
-    if not rows:
-        by_reason: dict[str, list[str]] = {}
-        for w, r in dropped.items():
-            by_reason.setdefault(r, []).append(str(w))
-        reasons = "; ".join(r if r.startswith("window ") else f"window{'s' if len(ws_) > 1 else ''} "
-                            f"{', '.join(ws_)}: {r}" for r, ws_ in by_reason.items())
-        raise VolbenchError(f"{h.name}: no cone window fits the {h.n} rows from {h.first_date} to "
-                            f"{h.last_date} ({reasons}); use shorter windows or a longer range")
     if spec.key == "ewma":
         notes.append("EWMA weighs every past return (half-life about 11 bars); its window only sets the "
                      "seed, so its columns differ little")
@@ -469,3 +453,66 @@ def vol_cone(
     return Cone(name=h.name, estimator=spec.key, label=spec.label, annualization=a, start=h.first_date,
                 end=h.last_date, rows=h.n, hodges_tompkins=bool(hodges_tompkins), table=table,
                 dropped=dropped, notes=tuple(notes), rolling=rolling)
+
+
+def _columns(h: PriceHistory, spec, ws: tuple[int, ...], a: float) -> tuple[dict, dict[int, str]]:
+    """The rolling series of each cone window that fits (at least two values), and why the others do
+    not; raises the cone's errors when none fits."""
+    series, reasons = rolling_windows(h, spec.key, ws, annualization=a)  # terms shared by the windows
+    kept: dict[int, object] = {}
+    dropped: dict[int, str] = {}
+    for w in ws:
+        if w in reasons:
+            dropped[w] = reasons[w]
+            continue
+        n = len(series[w].values)
+        if n < 2:
+            dropped[w] = (f"window {w} gives {n} rolling value{'s' if n != 1 else ''}; a cone column needs "
+                          f"at least 2, i.e. {spec.bars_needed(w) + 1} rows, history has {h.n}")
+            continue
+        kept[w] = series[w]
+    if not kept and dropped and len(set(dropped.values())) == 1 and next(iter(dropped.values())).startswith(
+            ("no range on any bar", "the closes do not change")):
+        raise VolbenchError(f"{h.name}: no {spec.label} cone: {next(iter(dropped.values()))}; choose another "
+                            "cone estimator")
+    if not kept:
+        by_reason: dict[str, list[str]] = {}
+        for w, r in dropped.items():
+            by_reason.setdefault(r, []).append(str(w))
+        text = "; ".join(r if r.startswith("window ") else f"window{'s' if len(ws_) > 1 else ''} "
+                         f"{', '.join(ws_)}: {r}" for r, ws_ in by_reason.items())
+        raise VolbenchError(f"{h.name}: no cone window fits the {h.n} rows from {h.first_date} to "
+                            f"{h.last_date} ({text}); use shorter windows or a longer range")
+    return kept, dropped
+
+
+def place_in_cone(
+    history: PriceHistory,
+    vols: Sequence[float | None],
+    days: int,
+    estimator: str = "close_to_close",
+    windows: Sequence[int] = DEFAULT_CONE_WINDOWS,
+    *,
+    annualization: float = DEFAULT_ANNUALIZATION,
+) -> tuple[ConePlacement | None, ...]:
+    """``vol_cone(history, estimator, windows, annualization=...).place(vol, days)`` for each vol
+    (``None`` gives ``None``), without the cone's table.
+
+    The same rolling series, window rules, errors and ranks as :func:`vol_cone` and
+    :meth:`Cone.place` (the same code), so the same numbers; only the percentile summary of every
+    column, which a placement does not read, is left out (a survey places two vols per series).
+
+    Raises
+    ------
+    VolbenchError
+        As :func:`vol_cone` and :meth:`Cone.place`.
+    """
+    a = check_annualization(annualization)
+    spec = get_spec(estimator)
+    ws = _check_windows(windows)
+    kept, _ = _columns(history, spec, ws, a)
+
+    def rank(vol: float, window: int) -> float:
+        return rank_unsorted(kept[window].values.to_numpy(), vol)
+
+    return tuple(None if v is None else place_vol(v, days, tuple(kept), rank, spec.label) for v in vols)

@@ -12,6 +12,7 @@ from volbench.scaling.check import (
     ScalingResult,
     horizon_vol,
     scaling_check,
+    scaling_verdicts,
 )
 from volbench.scaling.verdicts import PROPERTIES, Verdict
 
@@ -25,4 +26,5 @@ __all__ = [
     "Verdict",
     "horizon_vol",
     "scaling_check",
+    "scaling_verdicts",
 ]

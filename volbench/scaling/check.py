@@ -233,19 +233,75 @@ def scaling_check(
     :mod:`volbench.scaling.increments`, status rules in :mod:`volbench.scaling.verdicts`.
     Horizon vol: sqrt(Var_h x A / h) against sqrt(Var_1 x A).
     """
+    hs, alpha, a, lb_lags, acf_lags = _settings(horizons, alpha, annualization, ljung_box_lags, acf_lags)
+    if isinstance(qq_points, bool) or not isinstance(qq_points, (int, np.integer)) or qq_points < 10:
+        raise VolbenchError(f"qq_points must be a whole number >= 10, got {qq_points!r}")
+    st = _statistics(history, hs, alpha, a, lb_lags, acf_lags)
+    theo, samp = qq_arrays(st.r, int(qq_points))
+    return ScalingResult(
+        name=history.name, horizons=frame(st.cols, _HORIZON_LABELS), dropped=st.dropped, slope=st.fit.slope,
+        slope_ci=st.fit.ci, slope_se=st.fit.se, hurst=st.fit.hurst, chow_denning_stat=st.cd_stat,
+        chow_denning_p=st.cd_p, ljung_box=frame(st.lb, LJUNG_BOX_LABELS), acf=frame(st.ac, ACF_LABELS),
+        qq=frame({"theoretical": theo, "sample": samp}, _QQ_LABELS), drift=st.dr, verdicts=st.verdicts,
+        n_returns=st.n, alpha=alpha, annualization=a, notes=st.notes, provenance=history.provenance(),
+        family_false_alarm=family_false_alarm(st.n, alpha),
+    )
+
+
+def scaling_verdicts(
+    history: PriceHistory,
+    horizons: Sequence[int] = DEFAULT_HORIZONS,
+    *,
+    alpha: float = 0.05,
+    annualization: float = DEFAULT_ANNUALIZATION,
+    ljung_box_lags: Sequence[int] = DEFAULT_LJUNG_BOX_LAGS,
+    acf_lags: int = DEFAULT_ACF_LAGS,
+) -> tuple[Verdict, ...]:
+    """The verdicts of :func:`scaling_check` alone (same arguments, same code, same verdicts), without
+    the tables and QQ pairs a caller that only reads the verdicts (a survey) would discard.
+
+    Raises
+    ------
+    VolbenchError
+        As :func:`scaling_check`.
+    """
+    hs, alpha, a, lb_lags, acf_lags = _settings(horizons, alpha, annualization, ljung_box_lags, acf_lags)
+    return _statistics(history, hs, alpha, a, lb_lags, acf_lags).verdicts
+
+
+def _settings(horizons, alpha, annualization, ljung_box_lags, acf_lags):
     hs = check_horizons(horizons)
     alpha = check_alpha(alpha)
     a = check_annualization(annualization)
-    if isinstance(qq_points, bool) or not isinstance(qq_points, (int, np.integer)) or qq_points < 10:
-        raise VolbenchError(f"qq_points must be a whole number >= 10, got {qq_points!r}")
     lb_lags = sorted({int(x) for x in ljung_box_lags})
     if not lb_lags or lb_lags[0] < 1:
         raise VolbenchError(f"Ljung-Box lags must be whole numbers >= 1, got {list(ljung_box_lags)!r}")
     if isinstance(acf_lags, bool) or not isinstance(acf_lags, (int, np.integer)) or acf_lags < 1:
         raise VolbenchError(f"acf_lags must be a whole number >= 1, got {acf_lags!r}")
+    return hs, alpha, a, lb_lags, int(acf_lags)
 
+
+@dataclass(frozen=True, eq=False)
+class _Statistics:
+    r: np.ndarray
+    n: int
+    dropped: dict
+    notes: tuple[str, ...]
+    cols: dict
+    fit: object
+    cd_stat: float
+    cd_p: float
+    lb: dict
+    ac: dict
+    dr: dict
+    verdicts: tuple[Verdict, ...]
+
+
+def _statistics(history: PriceHistory, hs: tuple[int, ...], alpha: float, a: float, lb_lags: list[int],
+                acf_lags: int) -> _Statistics:
+    """Every number of the check, as numpy arrays and the verdicts (validated settings)."""
     name = history.name
-    r = history.log_returns()
+    r = history.logs.returns
     n = r.shape[0]
     if n < MIN_RETURNS:
         raise VolbenchError(f"{name}: only {n} returns ({history.n} rows); the scaling check needs at least "
@@ -253,7 +309,7 @@ def scaling_check(
     if not np.any(r != 0.0):
         raise VolbenchError(f"{name}: prices are constant (every return is zero), so there is no variance to "
                             "scale; check that the file holds the right price column")
-    y = np.log(history.close)
+    y = history.logs.close
 
     dropped = {h: (f"needs at least {MIN_PERIODS} non-overlapping {h}-bar returns ({MIN_PERIODS * h} returns); "
                    f"the history has {n}") for h in hs if n // h < MIN_PERIODS}
@@ -320,15 +376,7 @@ def scaling_check(
         independence_verdict(lb, ac, alpha, st[2]),
         drift_verdict(dr, alpha, st[3]),
     )
-    theo, samp = qq_arrays(r, int(qq_points))
-    return ScalingResult(
-        name=name, horizons=frame(cols, _HORIZON_LABELS), dropped=dropped, slope=fit.slope, slope_ci=fit.ci,
-        slope_se=fit.se, hurst=fit.hurst, chow_denning_stat=cd_stat, chow_denning_p=cd_p,
-        ljung_box=frame(lb, LJUNG_BOX_LABELS), acf=frame(ac, ACF_LABELS),
-        qq=frame({"theoretical": theo, "sample": samp}, _QQ_LABELS), drift=dr,
-        verdicts=verdicts, n_returns=n, alpha=alpha, annualization=a, notes=tuple(notes),
-        provenance=history.provenance(), family_false_alarm=family_false_alarm(n, alpha),
-    )
+    return _Statistics(r, n, dropped, tuple(notes), cols, fit, cd_stat, cd_p, lb, ac, dr, verdicts)
 
 
 def horizon_vol(result: ScalingResult, days: float) -> float | None:

@@ -32,7 +32,7 @@ from pathlib import Path
 from volbench.errors import VolbenchError
 from volbench.survey.paths import expand_paths
 from volbench.survey.record import SurveyRecord, failed
-from volbench.survey.series import survey_paths
+from volbench.survey.series import survey_files, survey_paths
 from volbench.survey.settings import SurveySettings
 
 Progress = Callable[[int, int, str], None]
@@ -246,12 +246,15 @@ def _task_failed(files: Sequence[str], idx: Sequence[int], exc: BaseException, e
 
 
 def _run_serial(files, settings, slots, progress, cancel) -> None:
-    for i, f in enumerate(files):
-        if cancel is not None and cancel():
-            raise SurveyCancelled(_partial(files, slots), i, len(files))
-        slots[i] = survey_paths([f], settings)[0]
-        if progress is not None:
-            progress(i + 1, len(files), Path(f).name)
+    from threadpoolctl import threadpool_limits
+
+    with threadpool_limits(limits=1):  # as survey_paths does per task; set once for the whole run
+        for i, f in enumerate(files):
+            if cancel is not None and cancel():
+                raise SurveyCancelled(_partial(files, slots), i, len(files))
+            slots[i] = survey_files([f], settings)[0]
+            if progress is not None:
+                progress(i + 1, len(files), Path(f).name)
 
 
 def _run_processes(files, settings, workers, slots, progress, cancel, mp_context) -> None:

@@ -16,8 +16,8 @@ from volbench.data import load_prices
 from volbench.data.history import PriceHistory
 from volbench.errors import EstimatorUnavailable, VolbenchError
 from volbench.estimators import estimate_all, rolling_vol
-from volbench.pricing.cone import vol_cone
-from volbench.scaling import scaling_check
+from volbench.pricing.cone import place_in_cone
+from volbench.scaling import scaling_verdicts
 from volbench.survey.record import SEVERITIES, SurveyRecord, failed
 from volbench.survey.settings import SurveySettings
 
@@ -47,8 +47,10 @@ def survey_history(history: PriceHistory, settings: SurveySettings, *, pricing_v
     Each figure is the one a single-series command prints for the same settings:
     estimates = ``volbench estimate --window W`` (:func:`~volbench.estimators.estimate_all`);
     cone and placement = ``volbench cone`` / ``volbench compare`` (:func:`~volbench.pricing.cone.vol_cone`,
-    :meth:`~volbench.pricing.cone.Cone.place`, Burghardt & Lane 1990); verdicts =
-    ``volbench scaling`` (:func:`~volbench.scaling.scaling_check`); forward vol = ``volbench garch``
+    :meth:`~volbench.pricing.cone.Cone.place`, Burghardt & Lane 1990; computed by
+    :func:`~volbench.pricing.cone.place_in_cone`, the same code without the percentile table); verdicts =
+    ``volbench scaling`` (:func:`~volbench.scaling.scaling_check`, by
+    :func:`~volbench.scaling.scaling_verdicts`, the same code without the tables); forward vol = ``volbench garch``
     (:func:`~volbench.models.fit_models`, preferred model by BIC, EWMA fallback).
     """
     source = str(history.source) if history.source else None
@@ -79,32 +81,27 @@ def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> Su
                       unavailable=unavailable, series=h.name)
 
     current = cone_pct = pv_pct = None
-    cone = None
-    try:
-        cone = vol_cone(h, s.cone_estimator, s.cone_windows, annualization=a)
-    except VolbenchError as exc:
-        unavailable["cone"] = str(exc)
     try:  # the cone's own definition of "today's" vol: the last value of the rolling series
         values = rolling_vol(h, s.cone_estimator, days, annualization=a).values
-        if values.index[-1].to_datetime64() == h.dates[-1]:
-            current = float(values.iloc[-1])
+        if values.index.values[-1] == h.dates[-1]:
+            current = float(values.to_numpy()[-1])
         else:
             unavailable["current_vol"] = (f"{s.cone_estimator} over the last {days} bars is undefined: bars in it "
                                           "have high below low or prices outside their range; exclude flagged rows")
     except EstimatorUnavailable as exc:
         unavailable["current_vol"] = f"{exc.key} over {days} bars: {exc.reason}"
-    if cone is not None and current is not None:
-        cone_pct = cone.place(current, days).percentile
-    if pricing_vol is None:
-        if s.pricing_vols:  # asked per series, and this one is not listed
-            unavailable["pricing_vol"] = f"the pricing-vol file lists no {h.name!r}"
-    elif cone is not None:
-        pv_pct = cone.place(pricing_vol, days).percentile
+    try:  # vol_cone(...).place(vol, days) for both vols, without the cone's percentile table
+        placed = place_in_cone(h, (current, pricing_vol), days, s.cone_estimator, s.cone_windows, annualization=a)
+        cone_pct, pv_pct = (None if p is None else p.percentile for p in placed)
+    except VolbenchError as exc:
+        unavailable["cone"] = str(exc)
+    if pricing_vol is None and s.pricing_vols:  # asked per series, and this one is not listed
+        unavailable["pricing_vol"] = f"the pricing-vol file lists no {h.name!r}"
 
     verdicts: dict[str, str] = {}
     try:
-        check = scaling_check(h, s.horizons, alpha=s.alpha, annualization=a)
-        verdicts = {v.property: v.status for v in check.verdicts}
+        verdicts = {v.property: v.status  # scaling_check's verdicts, without its tables
+                    for v in scaling_verdicts(h, s.horizons, alpha=s.alpha, annualization=a)}
     except VolbenchError as exc:
         unavailable["verdicts"] = str(exc)
 
@@ -167,4 +164,10 @@ def survey_paths(paths: Sequence[str], settings: SurveySettings) -> list[list[Su
     not oversubscribe its cores (each worker is one process doing one series at a time).
     """
     with threadpool_limits(limits=1):
-        return [survey_file(p, settings) for p in paths]
+        return survey_files(paths, settings)
+
+
+def survey_files(paths: Sequence[str], settings: SurveySettings) -> list[list[SurveyRecord]]:
+    """:func:`survey_paths` without setting the BLAS thread limit (the caller has set it once
+    around many calls: finding the BLAS libraries to limit costs milliseconds each time)."""
+    return [survey_file(p, settings) for p in paths]
