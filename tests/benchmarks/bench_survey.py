@@ -6,8 +6,12 @@ Reports, in one run (ratios against baselines measured in the same run; no timed
 - ``run_survey`` of 500 seeded OHLC files x 2,520 daily bars (estimates + cone + scaling, no GARCH)
   on 2 worker processes, against a bare pandas baseline that reads every file
   (``pandas.read_csv``) and computes a 20-bar rolling std of log returns, in this one process
-  (target: survey <= 3x baseline). Also the same survey in this process (per-series cost) and
-  with workers started by ``forkserver`` (what the window gets: it cannot fork safely).
+  (target: survey <= 3x baseline), median of three alternating runs. Also the CPU seconds of
+  both (workers included) and how many cores the two workers actually kept busy: on a machine
+  shared with other work the wall-clock ratio measures the contention as much as the code, so
+  the ratio with both cores free is printed too. Also the same survey in this process
+  (per-series cost) and with workers started by ``forkserver`` (what the window gets: it cannot
+  fork safely).
 - Where a series' time goes: load, estimates, cone, scaling, per series, and the functions with
   the most own time under cProfile.
 - Dask: ``LocalCluster`` start-up, the per-task overhead (many trivial tasks on 2 worker
