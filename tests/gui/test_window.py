@@ -61,7 +61,7 @@ def test_estimates_shown_equal_the_core_for_the_same_settings(make_window, kestr
     for key, est in report.estimates.items():
         assert raw.loc[key, "vol"] == est.vol
         assert raw.loc[key, "ci_low"] == est.ci_low and raw.loc[key, "ci_high"] == est.ci_high
-        assert shown_vol(w, REGISTRY[key].label) == f"{100 * est.vol:.2f} %"
+        assert shown_vol(w, REGISTRY[key].label) == f"{100 * est.vol:.2f}%"
     # the comparison dock agrees with volbench.pricing.compare for the same option
     comp = compare(h, 0.25, 30, option=OptionSpec(), annualization=252.0)  # candidates over the option's life
     shown = w.findChild(FrameTable, "comparison_table").raw_frame().set_index("key")
@@ -83,7 +83,7 @@ def test_changing_the_window_spin_updates_estimates_table_and_rolling_plot(make_
     assert w.state.window == 60
     # source: volbench.estimators (same core call as the CLI), agreement check
     expected = estimate_all(h, 60).estimates["close_to_close"].vol
-    assert shown_vol(w, "Close-to-close") == f"{100 * expected:.2f} %" != before_vol
+    assert shown_vol(w, "Close-to-close") == f"{100 * expected:.2f}%" != before_vol
     assert table(w, "estimates_table")["n"].iloc[0] == 60
     plotted = line(w, "rolling_plot", "Close-to-close")
     core = rolling_vol(h, "close_to_close", 60).values

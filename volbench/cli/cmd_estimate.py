@@ -13,13 +13,13 @@ from volbench.cli.common import (
     add_format,
     adjustments_line,
     load_from_args,
-    pct,
     print_json,
     render_table,
     window_or_all,
     with_import,
 )
 from volbench.estimators import REGISTRY, estimate_all
+from volbench.format import pct
 from volbench.types import check_window
 
 

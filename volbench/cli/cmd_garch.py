@@ -13,11 +13,11 @@ from volbench.cli.common import (
     add_format,
     load_from_args,
     parse_int_list,
-    pct,
     print_json,
     render_table,
     with_import,
 )
+from volbench.format import number, pct
 from volbench.models import (
     DEFAULT_SEED,
     DEFAULT_SIMULATIONS,
@@ -103,12 +103,6 @@ def run_garch(args: argparse.Namespace) -> int:
     return 0
 
 
-def _num(x: float, digits: int = 4) -> str:
-    if x is None or not math.isfinite(x):
-        return "n/a"
-    return f"{x:.{digits}f}" if abs(x) >= 0.01 or x == 0 else f"{x:.3e}"
-
-
 def _status(f: GarchFit, preferred: str | None) -> str:
     if f.fallback:
         return f"{f.candidate_label.split(' → ')[-1]}*"
@@ -127,7 +121,7 @@ def _print_comparison(r: GarchComparison, settings: dict) -> None:
     for f in r.fits:
         dbic = f.bic - best if math.isfinite(f.bic) else float("nan")
         hl = "n/a" if not math.isfinite(f.half_life) else f"{f.half_life:.1f}"
-        rows.append([f.label, _num(f.loglik, 1), _num(f.bic, 1), _num(dbic, 1), _num(f.persistence),
+        rows.append([f.label, number(f.loglik, 1), number(f.bic, 1), number(dbic, 1), number(f.persistence),
                      hl, pct(f.long_run_vol), pct(f.next_bar_vol), _status(f, r.preferred)])
     print(render_table(["model", "loglik", "BIC", "dBIC", "persistence", "half-life (bars)", "long-run vol",
                         "next-bar vol", "status"], rows, "lrrrrrrrl"))
@@ -139,7 +133,7 @@ def _print_comparison(r: GarchComparison, settings: dict) -> None:
     if fitted:
         print("\nparameters in decimal units (mu, omega per bar), robust standard errors in brackets:")
         for f in fitted:
-            items = "  ".join(f"{k} {_num(v)} ({_num(f.std_errors.get(k, float('nan')))})" for k, v in f.params.items())
+            items = "  ".join(f"{k} {number(v)} ({number(f.std_errors.get(k, float('nan')))})" for k, v in f.params.items())
             print(f"  {f.label}: {items}")
     print(f"\n{r.message[0].upper()}{r.message[1:]}.")
     for title, attr in (("warnings", "warnings"), ("notes", "notes")):

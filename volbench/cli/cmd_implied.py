@@ -6,9 +6,10 @@ import argparse
 import math
 import sys
 
-from volbench.cli.common import pct, print_json, render_table
+from volbench.cli.common import print_json, render_table
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY
+from volbench.format import number, pct
 from volbench.models import DISTS, MODEL_LABELS
 from volbench.pricing.bsm import check_rate
 from volbench.pricing.daycount import DAY_BASES, DEFAULT_DAY_BASIS, option_life, read_holidays
@@ -87,12 +88,6 @@ def _number(text, what: str) -> float:
     return x
 
 
-def _f(x, digits: int = 4) -> str:
-    if x is None or not math.isfinite(x):
-        return "n/a"
-    return f"{x:.{digits}f}"
-
-
 def _holidays(args):
     return None if args.holidays is None else read_holidays(args.holidays)
 
@@ -151,8 +146,8 @@ def _run_single(args, rate: float, q: float) -> int:
               f"{life.trading_days} trading days")
         for note in life.notes:
             print(f"note: {note}")
-    rows = [["implied vol", pct(res.implied_vol, 4)], ["price check", _f(res.price_check, 6)],
-            ["vega (per 1.00 vol)", _f(res.vega)], ["vega (per vol point)", _f(res.vega / 100)],
+    rows = [["implied vol", pct(res.implied_vol, 4)], ["price check", number(res.price_check, 6)],
+            ["vega (per 1.00 vol)", number(res.vega, 4)], ["vega (per vol point)", number(res.vega / 100, 4)],
             ["status", res.status], ["no-arbitrage bounds", f"{res.lower_bound:.6g} < {res.kind} < {res.upper_bound:.6g}"]]
     print(render_table(["", ""], rows, "lr"))
     return 0

@@ -15,7 +15,6 @@ from volbench.cli.common import (
     end_text,
     load_from_args,
     parse_int_list,
-    pct,
     print_json,
     render_table,
     start_text,
@@ -23,6 +22,7 @@ from volbench.cli.common import (
 )
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY
+from volbench.format import number, pct
 from volbench.pricing.bsm import bsm_greeks, check_rate
 from volbench.pricing.compare import OptionSpec, compare
 from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, PERCENTILES, vol_cone
@@ -110,20 +110,6 @@ def _number(text: str, what: str) -> float:
     if not math.isfinite(x):
         raise VolbenchError(f"{what} must be a finite number, got {text!r}")
     return x
-
-
-def _f(x: float, sign: str = "") -> str:
-    """Four decimals; tiny non-zero values in scientific form so they never print as 0.0000."""
-    if x is None or not math.isfinite(x):
-        return "n/a"
-    x = x + 0.0  # no "-0.0000"
-    if x != 0 and abs(x) < 5e-5:
-        return f"{x:{sign}.2e}"
-    return f"{x:{sign}.4f}"
-
-
-def _signed(x: float) -> str:
-    return _f(x, "+")
 
 
 def _findings_hint(h) -> str:
@@ -240,9 +226,10 @@ def run_compare(args: argparse.Namespace) -> int:
     rows = []
     for r in comp.table.itertuples(index=False):
         is_p = r.source == "pricing"
-        rows.append([r.label, pct(r.vol), "" if is_p else f"{r.gap_points:+.2f}", _f(r.price),
-                     "" if is_p else _signed(r.price_diff), "" if is_p else _signed(r.vega_approx_diff),
-                     _f(r.vega_point), r.note])
+        rows.append([r.label, pct(r.vol), "" if is_p else f"{r.gap_points:+.2f}", number(r.price),
+                     "" if is_p else number(r.price_diff, signed=True),
+                     "" if is_p else number(r.vega_approx_diff, signed=True),
+                     number(r.vega_point), r.note])
     print(render_table(["vol source", "vol", "gap (pts)", "price", "price diff", "vega approx", "vega/pt", "note"],
                        rows, "lrrrrrrl"))
     print(f"estimators over the last {comp.window} bars; gap = candidate - pricing vol; price diff = exact "
@@ -295,6 +282,6 @@ def run_price(args: argparse.Namespace) -> int:
     names = [("price", "price"), ("delta", "delta"), ("gamma", "gamma"), ("vega", "vega (per 1.00 vol)"),
              ("vega_point", "vega (per vol point)"), ("theta", "theta (per year)"),
              ("theta_day", "theta (per calendar day)"), ("rho", "rho (per 1.00 rate)")]
-    rows = [[label, _f(getattr(out["call"], k)), _f(getattr(out["put"], k))] for k, label in names]
+    rows = [[label, number(getattr(out["call"], k)), number(getattr(out["put"], k))] for k, label in names]
     print(render_table(["", "call", "put"], rows, "lrr"))
     return 0

@@ -14,10 +14,10 @@ from volbench.cli.common import (
     add_annualization,
     add_file_options,
     import_options,
-    pct,
     render_table,
 )
 from volbench.errors import VolbenchError
+from volbench.format import pct
 
 CAUTION = "Estimates are statistical and carry model risk; they are not advice."
 VERDICT_MARKS = {"consistent": "+", "doubtful": "?", "rejected": "x"}

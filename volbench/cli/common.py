@@ -14,7 +14,6 @@ from volbench.data.history import PriceHistory
 from volbench.data.options import DECIMALS, DELIMITER_NAMES, THOUSANDS, ImportOptions
 from volbench.data.quality import QualitySettings
 from volbench.errors import VolbenchError
-from volbench.formatting import pct as _pct
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
 
 
@@ -151,8 +150,3 @@ def render_table(headers: Sequence[str], rows: Sequence[Sequence], align: str | 
     lines = [fmt(headers), "  ".join("-" * w for w in widths)]
     lines += [fmt(r) for r in cells]
     return "\n".join(lines)
-
-
-def pct(x: float | None, digits: int = 2) -> str:
-    """0.2345 -> '23.45%'; None/NaN -> 'n/a'; never more than about 6 significant digits."""
-    return _pct(x, digits, space=False)

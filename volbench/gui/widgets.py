@@ -1,5 +1,5 @@
-"""Small widgets every pane uses: a table that copies itself, a plot that saves itself, a
-card that can say "not available", and number formatting for display."""
+"""Small widgets every pane uses: a table that copies itself, a plot that saves itself, and a
+card that shows a one-line message when its pane has nothing to show."""
 
 from __future__ import annotations
 
@@ -25,14 +25,8 @@ from PySide6.QtWidgets import (
 )
 
 from volbench.errors import VolbenchError
-from volbench.formatting import pct as _pct
 from volbench.gui import palette
 from volbench.gui.compute import table_tsv
-
-
-def pct(x, digits: int = 2) -> str:
-    """0.2345 -> '23.45 %'; None/NaN -> 'n/a'; never more than about 6 significant digits."""
-    return _pct(x, digits)
 
 
 def log_ticks(lo: float, hi: float) -> list[tuple[float, str]]:
@@ -46,16 +40,6 @@ def log_ticks(lo: float, hi: float) -> list[tuple[float, str]]:
             if lo <= v <= hi:
                 out.append((math.log10(v), f"{v:.6g}"))
     return out
-
-
-def num(x, digits: int = 4) -> str:
-    if x is None or isinstance(x, str):
-        return "" if x is None else x
-    try:
-        xf = float(x)
-    except (TypeError, ValueError):
-        return str(x)
-    return "n/a" if not math.isfinite(xf) else f"{xf:.{digits}g}"
 
 
 # ---------------------------------------------------------------------- tables

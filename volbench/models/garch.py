@@ -23,7 +23,7 @@ from volbench import validate
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY, point_estimate
-from volbench.formatting import pct as fmt_pct
+from volbench.format import pct
 from volbench.models import term
 from volbench.models.checks import (
     BOUND_TOL,
@@ -399,7 +399,7 @@ def fit_garch(
     }
     lr = fit_info["long_run_vol"]
     if math.isfinite(lr) and lr > validate.ABSURD_VOL:
-        warn.append(f"long-run vol {fmt_pct(lr)} is above 500 %: the fit is absurd for a volatility")
+        warn.append(f"long-run vol {pct(lr)} is above 500 %: the fit is absurd for a volatility")
     if warn:
         return _fallback(history, base, warn, notes, fit_info)
     horizon = max(252, max(s["horizons"]))
@@ -414,7 +414,7 @@ def fit_garch(
         return _fallback(history, base, warn, notes, fit_info)
     top = math.sqrt(float(np.max(path)) * a)
     if top > validate.ABSURD_VOL:
-        warn.append(f"the forecast reaches a vol of {fmt_pct(top)}, above 500 %: the fit is absurd for a volatility")
+        warn.append(f"the forecast reaches a vol of {pct(top)}, above 500 %: the fit is absurd for a volatility")
         return _fallback(history, base, warn, notes, fit_info)
     path.setflags(write=False)
     source = f"{MODEL_LABELS[model]} {method} forecast" + (f" ({sims} paths, seed {seed_used})" if sims else "")
@@ -499,7 +499,7 @@ def _fallback(history: PriceHistory, base: dict, warn: list[str], notes: list[st
         "conditional_vol": pd.Series([], index=pd.DatetimeIndex([], name="date"), dtype=float,
                                      name=base["model"]),
     }
-    warn = [*warn, f"forward vol falls back to {name}: {fmt_pct(vol)} annualized, flat over every horizon"]
+    warn = [*warn, f"forward vol falls back to {name}: {pct(vol)} annualized, flat over every horizon"]
     source = f"{name}, because: {', '.join(causes)}"
     return GarchFit(**base, **info, term_structure=term.flat_term_structure(vol, base["horizons"]),
                     variance_path=None, forecast_method=method, warnings=tuple(warn), notes=tuple(notes),

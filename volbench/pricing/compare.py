@@ -17,7 +17,7 @@ import pandas as pd
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY, estimate_all, get_spec
-from volbench.formatting import pct
+from volbench.format import money, ordinal, pct, points
 from volbench.pricing.bsm import bsm_greeks, check_kind, check_pricing_vol, check_rate
 from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, Cone, ConePlacement, _check_days, vol_cone
 from volbench.types import (
@@ -361,27 +361,6 @@ def compare(
 
 
 # ---------------------------------------------------------------------------- plain reading
-def _pct1(x: float) -> str:
-    """A vol as a percentage with one decimal, never more than about 6 significant digits."""
-    return pct(float(x), 1, space=False)
-
-
-def _points(x: float) -> str:
-    return f"{x:.4g}" if abs(x) >= 1e4 else f"{x:.1f}"
-
-
-def ordinal(n: int) -> str:
-    """1 -> '1st', 22 -> '22nd', 13 -> '13th'."""
-    suffix = "th" if 10 <= n % 100 <= 20 else {1: "st", 2: "nd", 3: "rd"}.get(n % 10, "th")
-    return f"{n}{suffix}"
-
-
-def _money(x: float) -> str:
-    """Absolute amount to the cent; small non-zero amounts with two significant figures."""
-    x = abs(x)
-    return f"{x:.2g}" if 0 < x < 0.005 else f"{x:.2f}"
-
-
 def _cone_line(c: Comparison) -> list[str]:
     if c.cone is None:
         return []
@@ -392,26 +371,26 @@ def _cone_line(c: Comparison) -> list[str]:
         where = "below every value in the history of"
     else:
         where = f"at the {ordinal(round(p))} percentile of"
-    return [f"pricing vol {_pct1(c.pricing_vol)} sits {where} {c.cone.note}"]
+    return [f"pricing vol {pct(c.pricing_vol, 1)} sits {where} {c.cone.note}"]
 
 
 def _reference_lines(c: Comparison, cand: pd.DataFrame) -> list[str]:
     """Gap to the reference estimator and what it is worth on the option."""
     ref = next((cand[cand["key"] == k].iloc[0] for k in REFERENCE_ESTIMATORS if (cand["key"] == k).any()),
                cand.iloc[0])
-    name, rv = ref["label"], _pct1(ref["vol"])
+    name, rv = ref["label"], pct(ref["vol"], 1)
     gap = -float(ref["gap_points"])
     if abs(gap) < 0.05:
         return [f"the pricing vol matches {name} ({rv}) within 0.1 vol point"]
     span = f" over the last {c.window} bars" if ref["source"] == "estimator" else ""
-    lines = [f"the pricing vol is {_points(abs(gap))} vol points {'above' if gap > 0 else 'below'} {name} ({rv}{span})"]
+    lines = [f"the pricing vol is {points(abs(gap))} vol points {'above' if gap > 0 else 'below'} {name} ({rv}{span})"]
     if float(c.table["price"].max()) < 0.005:
         lines.append(f"the {c.kind} is worth under 0.01 at every vol here, so the choice of vol barely moves its price")
     else:
         diff = float(ref["price_diff"])
         more = "more" if diff > 0 else "less"
-        lines.append(f"the {c.kind} is worth {_money(diff)} {more} at {name}'s vol ({c.price:.2f} at the pricing "
-                     f"vol; the vega approximation says {_money(float(ref['vega_approx_diff']))} {more})")
+        lines.append(f"the {c.kind} is worth {money(diff)} {more} at {name}'s vol ({c.price:.2f} at the pricing "
+                     f"vol; the vega approximation says {money(float(ref['vega_approx_diff']))} {more})")
     return lines
 
 
@@ -424,8 +403,8 @@ def _range_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
         pos = f"the pricing vol is below all {len(cand)} of them"
     else:
         pos = f"the pricing vol is above {n_below} of {len(cand)}"
-    return [(f"candidate vols run from {_pct1(lo['vol'])} ({lo['label']}) to "
-            f"{_pct1(hi['vol'])} ({hi['label']}); {pos}")]
+    return [(f"candidate vols run from {pct(lo['vol'], 1)} ({lo['label']}) to "
+            f"{pct(hi['vol'], 1)} ({hi['label']}); {pos}")]
 
 
 def _garch_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
@@ -437,12 +416,12 @@ def _garch_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
     usable = gar[~gar["label"].str.contains(" → ", regex=False)]
     row = pref.iloc[0] if len(pref) else (usable.iloc[0] if len(usable) else gar.iloc[0])
     side = "below" if row["gap_points"] < 0 else "above"
-    gap = f"{_points(abs(row['gap_points']))} vol points {side} the pricing vol"
+    gap = f"{points(abs(row['gap_points']))} vol points {side} the pricing vol"
     if " → " not in row["label"]:
-        return [f"{row['label']} forward vol over {c.days} bars is {_pct1(row['vol'])}, {gap}"]
+        return [f"{row['label']} forward vol over {c.days} bars is {pct(row['vol'], 1)}, {gap}"]
     source = str(row["note"]).split("forward vol from ", 1)[-1]
     return [(f"no GARCH-family fit gave a usable forecast, so the forward vol over {c.days} bars is a fallback's: "
-             f"{_pct1(row['vol'])} from {source}; {gap}")]
+             f"{pct(row['vol'], 1)} from {source}; {gap}")]
 
 
 def _moneyness_line(c: Comparison) -> list[str]:

@@ -3,27 +3,18 @@ price at that vol, and the plain reading."""
 
 from __future__ import annotations
 
-import math
-
 import pandas as pd
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QLabel, QSplitter, QVBoxLayout, QWidget
 
+from volbench.format import number, pct
 from volbench.gui import palette
 from volbench.gui.controller import Results
-from volbench.gui.widgets import Card, FrameTable, pct
+from volbench.gui.widgets import Card, FrameTable
 
 COMPARE_COLUMNS = ["candidate", "window (bars)", "vol", "gap (vol points)", "option price", "price difference",
                    "vega estimate", "note"]
 PENDING_WORDS = {"garch": "GARCH forward vol", "scaling": "scaling-check horizon vol"}
-
-
-def _money(x) -> str:
-    return "n/a" if x is None or not math.isfinite(float(x)) else f"{float(x):,.4f}"
-
-
-def _signed(x, digits: int = 2) -> str:
-    return "n/a" if x is None or not math.isfinite(float(x)) else f"{float(x):+.{digits}f}"
 
 
 def candidate_colour(key: str) -> str | None:
@@ -81,10 +72,10 @@ class ComparisonPane(QWidget):
         for i, rec in enumerate(c.table.to_dict(orient="records")):
             win = rec["window"]
             rows.append([rec["label"], "" if win is None or pd.isna(win) else int(win), pct(rec["vol"]),
-                         "" if rec["source"] == "pricing" else _signed(rec["gap_points"]),
-                         _money(rec["price"]),
-                         "" if rec["source"] == "pricing" else _signed(rec["price_diff"], 4),
-                         "" if rec["source"] == "pricing" else _signed(rec["vega_approx_diff"], 4),
+                         "" if rec["source"] == "pricing" else number(rec["gap_points"], 2, signed=True),
+                         number(rec["price"], grouping=True),
+                         "" if rec["source"] == "pricing" else number(rec["price_diff"], signed=True),
+                         "" if rec["source"] == "pricing" else number(rec["vega_approx_diff"], signed=True),
                          rec["note"] or ""])
             colour = candidate_colour(str(rec["key"]))
             if colour:

@@ -11,11 +11,12 @@ from PySide6.QtWidgets import QComboBox, QHBoxLayout, QLabel, QSplitter, QVBoxLa
 
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY
+from volbench.format import pct
 from volbench.gui import palette
 from volbench.gui.binding import Binding
 from volbench.gui.controller import Results
 from volbench.gui.state import WorkbenchState
-from volbench.gui.widgets import Card, FrameTable, Plot, pct
+from volbench.gui.widgets import Card, FrameTable, Plot
 
 CONE_COLUMNS = ["window (bars)", "min", "10th", "25th", "median", "75th", "90th", "max", "today",
                 "today's percentile", "windows", "independent"]

@@ -9,11 +9,12 @@ from PySide6.QtCore import Qt, Signal
 from PySide6.QtWidgets import QHBoxLayout, QLabel, QPushButton, QSplitter, QVBoxLayout, QWidget
 
 from volbench.errors import VolbenchError
+from volbench.format import pct, sig
 from volbench.gui import palette
 from volbench.gui.controller import Results
 from volbench.gui.panes.price_pane import epoch_seconds
 from volbench.gui.state import WorkbenchState
-from volbench.gui.widgets import Card, FrameTable, Plot, num, pct
+from volbench.gui.widgets import Card, FrameTable, Plot
 
 DASHES = {"solid": Qt.PenStyle.SolidLine, "dash": Qt.PenStyle.DashLine, "dashdot": Qt.PenStyle.DashDotLine}
 FIT_COLUMNS = ["model", "errors", "converged", "persistence", "long-run vol", "half-life (bars)", "AIC",
@@ -148,8 +149,8 @@ class ModelPane(QWidget):
             source = f"forward vol from {fit.forward_vol_source}" if fit.fallback else ""
             notes = "; ".join(x for x in (source, *fit.warnings, *fit.notes) if x)
             rows.append([fit.candidate_label + (" *" if fit.model == comp.preferred else ""), fit.dist,
-                         "yes" if fit.converged else "no", num(fit.persistence, 4), pct(fit.long_run_vol),
-                         num(fit.half_life, 3), num(fit.aic, 6), num(fit.bic, 6), pct(fwd), notes])
+                         "yes" if fit.converged else "no", sig(fit.persistence, 4), pct(fit.long_run_vol),
+                         sig(fit.half_life, 3), sig(fit.aic, 6), sig(fit.bic, 6), pct(fwd), notes])
             raw.append({"model": fit.model, "dist": fit.dist, "converged": fit.converged,
                         "persistence": fit.persistence, "long_run_vol": fit.long_run_vol,
                         "half_life": fit.half_life, "aic": fit.aic, "bic": fit.bic, "forward_vol": fwd,

@@ -9,11 +9,12 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QLabel, QSplitter, QVBoxLayout, QWidget
 
 from volbench.estimators import REGISTRY
+from volbench.format import pct
 from volbench.gui import palette
 from volbench.gui.controller import Results
 from volbench.gui.panes.price_pane import epoch_seconds
 from volbench.gui.state import WorkbenchState
-from volbench.gui.widgets import Card, FrameTable, Plot, pct
+from volbench.gui.widgets import Card, FrameTable, Plot
 
 ESTIMATE_COLUMNS = ["estimator", "vol", "95% interval", "n", "interval method / why not"]
 
@@ -42,7 +43,7 @@ class RollingPane(QWidget):
         self.legend.sigSampleClicked.connect(self._on_legend_click)
         self.pricing_line = pg.InfiniteLine(
             angle=0, movable=False, pen=pg.mkPen(palette.PRICING_VOL, width=1.6, style=Qt.PenStyle.DashLine),
-            label="pricing vol {value:.1f} %", labelOpts={"position": 0.03, "color": palette.PRICING_VOL,
+            label="pricing vol {value:.1f}%", labelOpts={"position": 0.03, "color": palette.PRICING_VOL,
                                                           "anchors": [(0, 1), (0, 1)]})
         self.plot.addItem(self.pricing_line, ignoreBounds=True)
         self.vline = pg.InfiniteLine(angle=90, movable=False, pen=pg.mkPen("#8A8F86", width=1))
@@ -218,7 +219,7 @@ class RollingPane(QWidget):
                 i -= 1
             date = date or pd.Timestamp(xs[i], unit="s").strftime("%Y-%m-%d")
             parts.append(f"<span style='color:{palette.estimator_colour(key)}'>&#9632;</span> "
-                         f"{REGISTRY[key].short or REGISTRY[key].label} {self._y[key][i]:.1f} %")
+                         f"{REGISTRY[key].short or REGISTRY[key].label} {self._y[key][i]:.1f}%")
         if date is None:
             return " "
         return f"<b>{date}</b> &nbsp; " + " &nbsp; ".join(parts)

@@ -14,9 +14,10 @@ import pyqtgraph as pg
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QHBoxLayout, QLabel, QSplitter, QTabWidget, QVBoxLayout, QWidget
 
+from volbench.format import pct, sig
 from volbench.gui import palette
 from volbench.gui.controller import Results
-from volbench.gui.widgets import Card, FrameTable, Plot, log_ticks, num, pct
+from volbench.gui.widgets import Card, FrameTable, Plot, log_ticks
 
 PROPERTY_WORDS = {
     "variance_proportional_to_horizon": "Variance grows in proportion to horizon",
@@ -166,9 +167,9 @@ class ScalingPane(QWidget):
 
         rows = []
         for rec in hz.to_dict(orient="records"):
-            rows.append([int(rec["h"]), num(rec["variance_ratio"], 4), num(rec["z"], 3), num(rec["z_robust"], 3),
-                         num(rec["p_value_robust"], 3), pct(rec["annualized_vol"]), pct(rec["sqrt_time_vol"]),
-                         num(rec["vol_ratio"], 4), int(rec["n_nonoverlap"])])
+            rows.append([int(rec["h"]), sig(rec["variance_ratio"], 4), sig(rec["z"], 3), sig(rec["z_robust"], 3),
+                         sig(rec["p_value_robust"], 3), pct(rec["annualized_vol"]), pct(rec["sqrt_time_vol"]),
+                         sig(rec["vol_ratio"], 4), int(rec["n_nonoverlap"])])
         self.vr_table.set_frame(pd.DataFrame(rows, columns=VR_COLUMNS), hz, right=VR_COLUMNS)
 
         rows, fg, raw = [], {}, []
