@@ -119,8 +119,9 @@ def test_session_save_and_reopen_restores_files_selection_and_choices(make_windo
     assert [h.name for h in other.state.histories] == ["kestrel_orchards", "quillon_textiles"]
     assert other.state.selected == "quillon_textiles"
     assert other.state.choices == w.state.choices
-    assert other.findChild(type(other.controls.window), "window_spin").value() == 45
-    assert other.controls.kind.currentData() == "put"
+    controls = other.panes["controls"]
+    assert other.findChild(type(controls.window), "window_spin").value() == 45
+    assert controls.kind.currentData() == "put"
     report = other.results.get("estimates")
     assert report.window == 45 and report.history.exclude_flagged and report.as_of == "2023-12-29"
 
@@ -250,17 +251,6 @@ def test_export_xlsx_reads_back_equal_with_openpyxl(make_window, kestrel, tmp_pa
     shown = w.findChild(FrameTable, "estimates_table").raw_frame().set_index("estimator")
     # openpyxl reads back the stored double exactly (reference library: openpyxl)
     assert got == {k: shown.loc[k, "vol"] for k in shown.index}
-
-
-def test_export_without_the_export_module_says_not_available(make_window, kestrel, tmp_path, monkeypatch,
-                                                             message_boxes):
-    import sys
-
-    w = make_window()
-    w.open_files([kestrel])
-    monkeypatch.setitem(sys.modules, "volbench.export", None)
-    w.export_to(tmp_path / "sheet.json")
-    assert message_boxes == [("volbench: export", "Export is not available in this build.")]
 
 
 def test_recent_files_menu_lists_and_reopens_files(make_window, kestrel, sample_dir):

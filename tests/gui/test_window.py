@@ -135,13 +135,13 @@ def test_leaving_out_flagged_rows_changes_the_numbers_like_the_core(make_window,
 def test_pricing_vol_change_recomputes_comparison_but_not_garch(make_window, kestrel, qtbot, monkeypatch):
     w = make_window()
     w.open_files([kestrel])
-    from volbench.gui import compute
+    from volbench import analysis
 
     calls = []
-    monkeypatch.setattr(compute, "garch", lambda *a, **k: calls.append(a))
+    monkeypatch.setattr(analysis, "garch_for", lambda *a, **k: calls.append(a))
     with qtbot.waitSignal(w.controller.computed, timeout=5000) as blocker:
         w.findChild(QComboBox, "kind_combo").setCurrentIndex(1)
-    assert blocker.args[0] == frozenset({"comparison"})
+    assert blocker.args[0] == frozenset({"comparison", "bands"})
     assert calls == []
     assert w.results.get("comparison").kind == "put"
 
@@ -188,18 +188,6 @@ def test_dropping_files_on_the_window_loads_them(make_window, kestrel):
     w.dropEvent(event)
     assert [h.name for h in w.state.histories] == ["kestrel_orchards"]
     assert w.settings.recent_files()[0] == str(kestrel)
-
-
-def test_missing_core_module_shows_not_available_instead_of_crashing(make_window, kestrel, monkeypatch):
-    import sys
-
-    monkeypatch.setitem(sys.modules, "volbench.models", None)  # import now raises ImportError
-    w = make_window()
-    w.open_files([kestrel])
-    card = w.findChild(Card, "garch_card")
-    assert card.currentIndex() == 1
-    assert card.message == "GARCH models is not available in this build."
-    assert w.findChild(Card, "comparison_card").currentIndex() == 0
 
 
 def test_crosshair_readout_names_the_date_and_each_visible_value(make_window, kestrel):

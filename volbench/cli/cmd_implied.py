@@ -10,7 +10,7 @@ from volbench.cli.common import print_json, render_table
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY
 from volbench.format import number, pct
-from volbench.models import DISTS, MODEL_LABELS
+from volbench.models import DIST_REGISTRY, MODEL_REGISTRY
 from volbench.pricing.bsm import check_rate
 from volbench.pricing.daycount import DAY_BASES, DEFAULT_DAY_BASIS, option_life, read_holidays
 from volbench.pricing.implied import solve_implied_vol
@@ -64,9 +64,9 @@ def register(sub) -> None:
     many.add_argument("--series", metavar="NAME", default=None, help="series in --prices when it holds several")
     many.add_argument("--date-format", metavar="FMT", default=None,
                       help="strftime format of the quotes' expiry column when it is not ISO")
-    many.add_argument("--model", choices=list(MODEL_LABELS), default="garch",
+    many.add_argument("--model", choices=list(MODEL_REGISTRY), default="garch",
                       help="GARCH-family model for the forward vol (default garch)")
-    many.add_argument("--dist", choices=list(DISTS), default="normal",
+    many.add_argument("--dist", choices=list(DIST_REGISTRY), default="normal",
                       help="innovation distribution of the model (default normal)")
     many.add_argument("--cone-estimator", default="close_to_close", metavar="KEY",
                       help="estimator of the cone the implied vol is placed in (default close_to_close)")

@@ -4,20 +4,17 @@ from __future__ import annotations
 
 import argparse
 
-from volbench import validate
 from volbench.cli.common import (
-    add_annualization,
     add_file_options,
     add_format,
     load_from_args,
-    parse_int_list,
     print_json,
     render_table,
     with_import,
 )
+from volbench.cli.options import add_estimation, add_scaling, settings_from_args
 from volbench.format import number, p_value, pct
-from volbench.scaling import DEFAULT_HORIZONS, ScalingResult, scaling_check
-from volbench.scaling.check import check_alpha
+from volbench.scaling import ScalingResult, scaling_check
 
 _LABELS = {
     "variance_proportional_to_horizon": "variance proportional to horizon",
@@ -43,20 +40,17 @@ def register(sub) -> None:
                "one non-consistent verdict by chance. Statistical evidence, not advice.",
     )
     add_file_options(p)
-    p.add_argument("--horizons", default=",".join(str(h) for h in DEFAULT_HORIZONS), metavar="H,H,...",
-                   help="horizons in bars (default %(default)s; 1 is always included as the base)")
-    p.add_argument("--alpha", type=validate.significance, default=0.05, metavar="P",
-                   help="significance level of the verdicts, between 0 and 0.5 (default %(default)s)")
-    add_annualization(p)
+    add_scaling(p, full=True)
+    add_estimation(p)
     add_format(p)
     p.set_defaults(func=run_scaling)
 
 
 def run_scaling(args: argparse.Namespace) -> int:
-    horizons = parse_int_list(args.horizons, "horizons")
-    alpha = check_alpha(args.alpha)
-    histories = load_from_args(args)
-    results = [scaling_check(h, horizons, alpha=alpha, annualization=args.annualization) for h in histories]
+    settings = settings_from_args(args)
+    s = settings.scaling
+    histories = load_from_args(args, settings)
+    results = [scaling_check(h, s.horizons, alpha=s.alpha, annualization=settings.annualization) for h in histories]
     if args.format == "json":
         print_json({"series": [with_import(r.as_dict(), h) for h, r in zip(histories, results)]})
         return 0

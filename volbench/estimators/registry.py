@@ -13,18 +13,13 @@ import numpy as np
 import pandas as pd
 
 from volbench import validate
+from volbench.candidates import Candidate, CandidateSet
 from volbench.data.history import PriceHistory, _iso
 from volbench.errors import EstimatorUnavailable, VolbenchError
 from volbench.estimators import intervals
 from volbench.estimators.base import Estimate, EstimatorSpec, RollingVol
-from volbench.estimators.close_based import CLOSE_TO_CLOSE, EWMA, EWMA_LAMBDA
-from volbench.estimators.range_based import (
-    GARMAN_KLASS,
-    PARKINSON,
-    ROGERS_SATCHELL,
-    YANG_ZHANG,
-    yang_zhang_parts,
-)
+from volbench.estimators.close_based import CLOSE_TO_CLOSE, EWMA
+from volbench.estimators.range_based import GARMAN_KLASS, PARKINSON, ROGERS_SATCHELL, YANG_ZHANG
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_window
 
 REGISTRY: dict[str, EstimatorSpec] = {
@@ -58,7 +53,7 @@ def _uninformative(spec: EstimatorSpec, history: PriceHistory, window: int) -> n
         moved = np.log(history.high) - np.log(history.low) > 0
         return ~(_rolling_count(moved, window) > 0)
     r = history.log_returns()
-    if spec.key == "ewma":
+    if spec.memory == "all":
         seen = np.concatenate(([0], np.cumsum(r != 0)))
         return seen == 0
     return ~(np.concatenate(([np.nan], _rolling_count(r != 0, window))) > 0)
@@ -70,15 +65,12 @@ def _why_uninformative(spec: EstimatorSpec) -> str:
 
 def dof_series(spec: EstimatorSpec, history: PriceHistory, window: int, variance: np.ndarray,
                options: dict) -> np.ndarray | float:
-    """Degrees of freedom of each bar's interval (an array for Yang-Zhang, whose overnight share
-    is read from each window, else a number); see :mod:`volbench.estimators.intervals`."""
-    if spec.key == "yang_zhang":
-        v_o = yang_zhang_parts(history, window)[0]
-        with np.errstate(invalid="ignore", divide="ignore"):
-            share = np.where(variance > 0, v_o / variance, 0.0)
-        return intervals.yang_zhang_dof(window, np.nan_to_num(share))
-    lam = options.get("lam") or EWMA_LAMBDA
-    return intervals.effective_dof(spec.key, window, zero_mean=bool(options.get("zero_mean")), lam=lam)
+    """Degrees of freedom of each bar's interval, by the spec's ``dof`` (an array for Yang-Zhang,
+    whose overnight share is read from each window, else a number); see
+    :mod:`volbench.estimators.intervals`."""
+    if spec.dof is None:
+        return window * intervals.BAR_EFFICIENCY[spec.key]
+    return spec.dof(history, window, variance, options)
 
 
 def availability(history: PriceHistory, key: str, window: int | None) -> str | None:
@@ -213,18 +205,11 @@ def point_estimate(
     s = np.sqrt(var)
     dof = dof_series(spec, h, w_eff, all_var, options)
     dof = float(dof[-1]) if np.ndim(dof) else float(dof)
-    if spec.key == "ewma":
-        n = h.n - 1
-        method = f"approximate: chi-square with effective n {dof:.1f}"
+    n = h.n - 1 if spec.memory == "all" else w_eff
+    if spec.ci_exact:
+        method = intervals.EXACT_TEXT
     else:
-        n = w_eff
-        if spec.ci_exact:
-            method = "chi-square (exact under i.i.d. normal returns)"
-        elif spec.key == "yang_zhang":
-            method = (f"approximate: chi-square with effective n {dof:.0f} for {n} bars (depends on the window "
-                      "and the overnight share)")
-        else:
-            method = f"approximate: chi-square with effective n {dof:.0f} = {n} bars x {dof / n:.3g}"
+        method = (spec.interval_text or intervals.efficiency_text)(dof, n)
     ann = np.sqrt(a)
     lo, hi = intervals.chi2_interval(s * ann, dof, confidence)
     return Estimate(
@@ -236,7 +221,11 @@ def point_estimate(
 
 @dataclass(frozen=True)
 class EstimateReport:
-    """Every requested estimator for one history: estimates and, for the rest, why not."""
+    """Every requested estimator for one history: estimates and, for the rest, why not.
+
+    ``options`` are the estimator options used (``zero_mean``, ``lam``). :meth:`candidates` offers
+    the estimates to a comparison (:class:`volbench.candidates.CandidateSource`).
+    """
 
     history: PriceHistory
     window: int | None
@@ -244,6 +233,19 @@ class EstimateReport:
     annualization: float
     estimates: dict[str, Estimate]
     unavailable: dict[str, str] = field(default_factory=dict)
+    options: dict = field(default_factory=dict)
+
+    def candidates(self, days: int) -> CandidateSet:
+        """Each estimate as a candidate vol (with its interval), in registry order."""
+        items = []
+        for key, spec in REGISTRY.items():
+            e = self.estimates.get(key)
+            if e is None:
+                continue
+            note = spec.candidate_note(self.options) if spec.candidate_note is not None else ""
+            items.append(Candidate("estimator", key, spec.label, e.vol, window=e.window, ci_low=e.ci_low,
+                                   ci_high=e.ci_high, note=note))
+        return CandidateSet("estimator", tuple(items), dict(self.unavailable), title="estimator", what="vol")
 
     def as_dict(self) -> dict:
         h = self.history
@@ -286,4 +288,4 @@ def estimate_all(
             est[k] = point_estimate(h, k, w, annualization=a, confidence=confidence, **options)
         except EstimatorUnavailable as exc:
             unavailable[k] = exc.reason
-    return EstimateReport(h, w, h.last_date, a, est, unavailable)
+    return EstimateReport(h, w, h.last_date, a, est, unavailable, dict(options))

@@ -25,8 +25,8 @@ from PySide6.QtWidgets import (
 )
 
 from volbench.errors import VolbenchError
+from volbench.export import table_to_tsv
 from volbench.gui import palette
-from volbench.gui.compute import table_tsv
 
 
 def log_ticks(lo: float, hi: float) -> list[tuple[float, str]]:
@@ -172,7 +172,7 @@ class FrameTable(QTableView):
         return self._raw
 
     def to_tsv(self) -> str:
-        return table_tsv(self._raw)
+        return table_to_tsv(self._raw)
 
     def copy_to_clipboard(self) -> str:
         text = self.to_tsv()

@@ -16,9 +16,13 @@ import pandas as pd
 from volbench.data.history import PriceHistory, _iso
 from volbench.errors import EstimatorUnavailable, VolbenchError
 from volbench.estimators import get_spec, rolling_vol
-from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_positive, check_window
+from volbench.types import (
+    DEFAULT_ANNUALIZATION,
+    DEFAULT_CONE_WINDOWS,
+    check_annualization,
+    check_positive,
+)
 
-DEFAULT_CONE_WINDOWS: tuple[int, ...] = (10, 20, 40, 60, 120, 250)
 PERCENTILES: dict[str, float] = {"min": 0, "p10": 10, "p25": 25, "p50": 50, "p75": 75, "p90": 90, "max": 100}
 """Cone columns and the percentile each one is (numpy.percentile, linear interpolation)."""
 
@@ -233,15 +237,9 @@ def _check_days(days) -> int:
 
 
 def _check_windows(windows: Sequence[int]) -> tuple[int, ...]:
-    if isinstance(windows, (int, str)) or not len(windows):
-        raise VolbenchError(f"windows must be a non-empty list of bar counts, e.g. 10,20,60; got {windows!r}")
-    ws = [check_window(w, minimum=2) for w in windows]
-    if any(w is None for w in ws):
-        raise VolbenchError("cone windows must be bar counts, not 'all'")
-    seen = {w for w in ws if ws.count(w) > 1}
-    if seen:
-        raise VolbenchError(f"cone windows must not repeat; {', '.join(map(str, sorted(seen)))} given twice")
-    return tuple(sorted(ws))
+    from volbench import validate
+
+    return validate.cone_windows(windows)
 
 
 def _date(value, what: str) -> pd.Timestamp | None:

@@ -12,6 +12,7 @@ from volbench.estimators import REGISTRY
 from volbench.format import pct
 from volbench.gui import palette
 from volbench.gui.controller import Results
+from volbench.gui.panes.base import Pane
 from volbench.gui.panes.price_pane import epoch_seconds
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, FrameTable, Plot
@@ -19,13 +20,13 @@ from volbench.gui.widgets import Card, FrameTable, Plot
 ESTIMATE_COLUMNS = ["estimator", "vol", "95% interval", "n", "interval method / why not"]
 
 
-class RollingPane(QWidget):
+class RollingPane(Pane):
     """Lines per estimator (legend entries toggle them), crosshair readout, estimates table."""
 
+    key, title = "rolling", "Rolling volatility"
+
     def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.setObjectName("rolling_pane")
-        self.state, self.results = state, results
+        super().__init__(state, results, parent)
         self.plot = Plot("rolling_plot", left="Annualized volatility (%)", bottom="Date", date_axis=True)
         self.legend = self.plot.legend(offset=(10, 10), colCount=3)
         self.lines: dict[str, pg.PlotDataItem] = {}

@@ -17,6 +17,8 @@ from PySide6.QtWidgets import QHBoxLayout, QLabel, QSplitter, QTabWidget, QVBoxL
 from volbench.format import pct, sig
 from volbench.gui import palette
 from volbench.gui.controller import Results
+from volbench.gui.panes.base import Pane
+from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, FrameTable, Plot, log_ticks
 
 PROPERTY_WORDS = {
@@ -31,11 +33,11 @@ VERDICT_COLUMNS = ["property", "status", "p-value", "what it means"]
 DASH = Qt.PenStyle.DashLine
 
 
-class ScalingPane(QWidget):
-    def __init__(self, results: Results, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.setObjectName("scaling_pane")
-        self.results = results
+class ScalingPane(Pane):
+    key, title = "scaling", "Scaling check"
+
+    def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
+        super().__init__(state, results, parent)
         c = palette.estimator_colour("close_to_close")
         self.var_plot = Plot("scaling_variance_plot", title="Variance against horizon",
                              left="Variance of h-bar log returns", bottom="Horizon h (bars)")
@@ -180,7 +182,7 @@ class ScalingPane(QWidget):
             fg[(i, 1)] = palette.STATUS_COLOURS.get(v.status, palette.FOREGROUND)
             raw.append(v.as_dict())
         self.verdict_table.set_frame(pd.DataFrame(rows, columns=VERDICT_COLUMNS), pd.DataFrame(raw), fg=fg)
-        fa = getattr(r, "family_false_alarm", None) or {}
+        fa = r.family_false_alarm or {}
         self.false_alarm.setText(
             (fa["sentence"] + " Each status comes from its test at this level; effect sizes are in the "
              "sentences.") if fa else "")
