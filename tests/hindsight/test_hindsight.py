@@ -188,8 +188,8 @@ def test_json_shape():
 
 
 @pytest.mark.parametrize("kwargs, match", [
-    ({"days": 0}, "days must be at least 1"),
-    ({"days": 2.5}, "days must be a whole number, got 2.5"),
+    ({"days": 0}, "days must be a whole number of bars >= 1, got 0"),  # the one rule of volbench.validate
+    ({"days": 2.5}, "days must be a whole number of bars >= 1, got 2.5"),
     ({"days": 21, "step": 0}, "step must be at least 1"),
     ({"days": 21, "windows": ()}, "windows must list at least one window"),
     ({"days": 21, "windows": (1,)}, "window must be >= 2 bars, got 1"),

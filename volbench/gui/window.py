@@ -21,6 +21,7 @@ from PySide6.QtWidgets import (
 
 from volbench.data.load import Loaded
 from volbench.errors import VolbenchError
+from volbench.gui import panes as pane_registry
 from volbench.gui.controller import Controller, Results
 from volbench.gui.dialogs import (
     HelpDialog,
@@ -32,7 +33,7 @@ from volbench.gui.dialogs import (
 )
 from volbench.gui.import_dialog import ImportDialog
 from volbench.gui.jobs import BatchRequest, ExportRequest, LoadRequest
-from volbench.gui.panes import PANES, Pane
+from volbench.gui.panes import Pane
 from volbench.gui.session import Session, read_session, write_session
 from volbench.gui.settings import Settings
 from volbench.gui.state import IMPORT_FIELDS, Choices, WorkbenchState
@@ -89,7 +90,7 @@ class MainWindow(QMainWindow):
         self.setCentralWidget(self.tabs)
         self.panes: dict[str, Pane] = {}
         self.docks: dict[str, QDockWidget] = {}
-        for cls in PANES:
+        for cls in pane_registry.PANES:
             pane = cls(self.state, self.results)
             self.panes[cls.key] = pane
             if cls.place == "tab":

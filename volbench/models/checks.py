@@ -122,6 +122,7 @@ def diagnose(
     convergence_flag: int,
     optimizer_message: str,
     omega_lower: float = 0.0,
+    dist: str | None = None,
 ) -> tuple[float, float, list[str], list[str]]:
     """Checks on a fit: ``(persistence, persistence_se, warnings, notes)``.
 
@@ -171,7 +172,7 @@ def diagnose(
     if not spec.log_variance and params["omega"] <= 10 * omega_lower:
         warn.append(f"omega = {params['omega']:.3g} (percent scale) is on its lower bound: the long-run "
                     "variance is pinned near zero")
-    for name, (lower, upper) in _shape_bounds(params).items():
+    for name, (lower, upper) in _shape_bounds(params, dist).items():
         value = params[name]
         if value <= lower + tol:
             warn.append(f"{name} = {value:.4g} is on its lower bound {lower}: the innovation variance is "
@@ -195,11 +196,13 @@ def diagnose(
     return p, p_se, warn, notes
 
 
-def _shape_bounds(params: Mapping[str, float]) -> dict[str, tuple[float, float]]:
-    """Bounds of the innovation distribution's shape parameters present in ``params``."""
+def _shape_bounds(params: Mapping[str, float], dist: str | None) -> dict[str, tuple[float, float]]:
+    """Bounds of the innovation distribution's shape parameters present in ``params`` (those of
+    ``dist`` when given, else of the first registered distribution that has the parameter)."""
+    specs = [DIST_REGISTRY[dist]] if dist is not None else list(DIST_REGISTRY.values())
     out: dict[str, tuple[float, float]] = {}
-    for dist in DIST_REGISTRY.values():
-        for name, bounds in dist.shape_bounds.items():
+    for spec in specs:
+        for name, bounds in spec.shape_bounds.items():
             if name in params:
                 out.setdefault(name, bounds)
     return out

@@ -347,7 +347,7 @@ def fit_garch(
     omega_lower = -np.inf if spec.log_variance else am.volatility.bounds(res.resid)[0][0]
     p, p_se, warn, notes = diagnose(spec, params_y.to_dict(), cov, convergence_flag=int(res.convergence_flag),
                                     optimizer_message=str(res.optimization_result.message),
-                                    omega_lower=float(omega_lower))
+                                    omega_lower=float(omega_lower), dist=s.dist)
     notes = data_notes + notes
     params, se = to_decimal(spec, params_y, cov)
     shift = n * math.log(SCALE)  # Jacobian of y = 100 r

@@ -82,7 +82,7 @@ class SurveySettings:
             set_(self, "window", w)
         set_(self, "annualization", check_annualization(self.annualization))
         if self.pricing_vol is not None:
-            set_(self, "pricing_vol", check_pricing_vol(self.pricing_vol, "--pricing-vol"))
+            set_(self, "pricing_vol", check_pricing_vol(self.pricing_vol))
         vols = {str(k): check_pricing_vol(v, f"pricing vol of {k!r}") for k, v in dict(self.pricing_vols).items()}
         set_(self, "pricing_vols", MappingProxyType(vols))
         set_(self, "with_garch", bool(self.with_garch))
