@@ -164,7 +164,7 @@ def build_bundle(
                       else sec.not_requested("add --with-garch"))
     step(4, "garch")
     if settings.option is not None:
-        parts = {name: built[name] for name in analysis.CANDIDATE_PARTS}
+        parts = {name: built[name] for name in analysis.CANDIDATE_PARTS if name in built}  # the rest: computed
         built["comparison"] = sec.comparison_section(cut, settings, parts, given.get("comparison"))
     else:
         built["comparison"] = sec.not_requested("give --pricing-vol and --days")
