@@ -13,9 +13,9 @@ from volbench.cli.common import (
     _clean,
     add_annualization,
     add_file_options,
-    import_options,
     render_table,
 )
+from volbench.cli.options import settings_from_args
 from volbench.errors import VolbenchError
 from volbench.format import pct
 
@@ -74,11 +74,12 @@ def register(sub) -> None:
 def _settings(args: argparse.Namespace):
     from volbench.survey import DEFAULT_DAYS, SurveySettings, read_pricing_vols
 
+    base = settings_from_args(args)  # the groups every data command shares, validated as everywhere
     per_series = read_pricing_vols(args.pricing_vols) if args.pricing_vols else {}
     return SurveySettings(
         window=args.window, days=DEFAULT_DAYS if args.days is None else args.days,
-        annualization=args.annualization, pricing_vol=args.pricing_vol, pricing_vols=per_series,
-        with_garch=args.with_garch, garch_models=args.garch_model, import_options=import_options(args),
+        annualization=base.annualization, pricing_vol=args.pricing_vol, pricing_vols=per_series,
+        with_garch=args.with_garch, garch_models=args.garch_model, import_options=base.import_options,
     )
 
 
