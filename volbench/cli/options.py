@@ -280,10 +280,13 @@ GROUPS: dict[str, OptionGroup] = {
 
 
 def add_every(p: argparse.ArgumentParser) -> None:
-    """The groups every data command takes (called by ``add_file_options``)."""
+    """The groups every data command takes (called by ``add_file_options``), registered for
+    :func:`settings_from_args` whether or not their ``add`` helper registers itself."""
     for group in GROUPS.values():
         if group.every:
             group.add(p)
+            if group.field not in (p.get_default(_GROUPS_ATTR) or {}):
+                _register(p, group.field)
 
 
 def settings_from_args(args: argparse.Namespace) -> Settings:
