@@ -40,8 +40,7 @@ class EstimatorSpec:
         NaN where fewer than ``window + extra_bars`` rows are available.
     efficiency
         Per-bar efficiency relative to close-to-close under Brownian motion, rounded, for help texts;
-        the intervals use :func:`volbench.estimators.intervals.effective_dof` (n-dependent for
-        Yang-Zhang).
+        the intervals use ``dof`` below (n-dependent for Yang-Zhang).
     ci_exact
         True when the confidence interval is exact under i.i.d. normal returns (close-to-close).
     whole_sample_window

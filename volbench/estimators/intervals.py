@@ -70,20 +70,9 @@ def ewma_dof(lam: float) -> float:
     return (1.0 + lam) / (1.0 - lam)
 
 
-def effective_dof(key: str, n: int, *, zero_mean: bool = False, overnight_share=0.0, lam: float = 0.94):
-    """Degrees of freedom nu of the chi-square approximation for estimator ``key`` over ``n`` bars."""
-    if key == "close_to_close":
-        return float(n if zero_mean else n - 1)
-    if key == "ewma":
-        return ewma_dof(lam)
-    if key == "yang_zhang":
-        return yang_zhang_dof(n, overnight_share)
-    return n * BAR_EFFICIENCY[key]
-
-
 def close_to_close_dof(history, window: int, variance, options) -> float:
     """n - 1 returns (n about zero with ``zero_mean``): exact under i.i.d. normal returns."""
-    return effective_dof("close_to_close", window, zero_mean=bool(options.get("zero_mean")))
+    return float(window if options.get("zero_mean") else window - 1)
 
 
 def ewma_interval_dof(history, window: int, variance, options) -> float:

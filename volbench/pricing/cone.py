@@ -379,9 +379,10 @@ def vol_cone(
                             f"{', '.join(ws_)}: {r}" for r, ws_ in by_reason.items())
         raise VolbenchError(f"{h.name}: no cone window fits the {h.n} rows from {h.first_date} to "
                             f"{h.last_date} ({reasons}); use shorter windows or a longer range")
-    if spec.key == "ewma":
-        notes.append("EWMA weighs every past return (half-life about 11 bars); its window only sets the "
-                     "seed, so its columns differ little")
+    if spec.memory == "all":
+        note = spec.candidate_note({}) if spec.candidate_note is not None else "every past return counts"
+        notes.append(f"{spec.short or spec.label} weighs {note.replace('all past returns', 'every past return')}; "
+                     "its window only sets the seed, so its columns differ little")
     first = next(iter(rows.values()))
     table = pd.DataFrame({k: [r[k] for r in rows.values()] for k in first},
                          index=pd.Index(list(rows), name="window", dtype="int64"))
