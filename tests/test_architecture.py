@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import ast
+import functools
 import os
 import pkgutil
 import subprocess
@@ -16,8 +17,13 @@ ROOT = PKG.parent
 QT_MODULES = ("PySide6", "pyqtgraph", "PyQt5", "PyQt6", "shiboken6")
 
 
+@functools.cache
+def _tree(path: Path) -> ast.Module:
+    return ast.parse(path.read_text(encoding="utf-8"), filename=str(path))
+
+
 def _imported_roots(path: Path) -> set[str]:
-    tree = ast.parse(path.read_text(encoding="utf-8"), filename=str(path))
+    tree = _tree(path)
     roots: set[str] = set()
     for node in ast.walk(tree):
         if isinstance(node, ast.Import):
@@ -81,7 +87,7 @@ def test_core_modules_import_without_loading_qt():
 
 def _plain_import_offences(path: Path) -> list[str]:
     """Imports of volbench's own modules guarded by ``except ImportError``, or made through importlib."""
-    tree = ast.parse(path.read_text(encoding="utf-8"), filename=str(path))
+    tree = _tree(path)
     out = []
 
     def own(node) -> bool:

@@ -8,6 +8,7 @@ import pytest
 
 from volbench.cli import main
 from volbench.errors import VolbenchError
+from volbench.gui.state import Choices, WorkbenchState
 
 # setting -> (bad value, the window's field (None: no control), argv prefixes of the commands that take it)
 K = "{kestrel}"
@@ -53,7 +54,7 @@ def _window_value(field: str, text: str):
 
 
 @pytest.mark.parametrize("setting", list(SETTINGS))
-def test_the_same_bad_value_gets_the_same_message_everywhere(setting, capsys, tmp_path, kestrel, make_window):
+def test_the_same_bad_value_gets_the_same_message_everywhere(setting, capsys, tmp_path, kestrel, qtbot):
     value, field, commands = SETTINGS[setting]
     messages = set()
     for argv in commands:
@@ -67,9 +68,10 @@ def test_the_same_bad_value_gets_the_same_message_everywhere(setting, capsys, tm
     message = messages.pop()
     assert "--" not in message  # the setting, not one command's option
     assert not (tmp_path / "x.json").exists()
-    w = make_window()
-    before = w.state.choices
+    state = WorkbenchState(Choices())  # the window's state model: every control writes through set()
+    changed = []
+    state.changed.connect(changed.append)
     with pytest.raises(VolbenchError) as refused:
-        w.state.set(field, _window_value(field, value))
+        state.set(field, _window_value(field, value))
     assert str(refused.value) == message
-    assert w.state.choices == before  # nothing changed
+    assert state.choices == Choices() and changed == []  # nothing changed, nothing announced

@@ -125,6 +125,7 @@ class Controller(QObject):
         self._view_key: tuple | None = None
         self._view = None
         self._queue: list[str] = []  # jobs still to run in the current recompute
+        self._deferred: set[str] | None = None  # kinds to announce when the recompute under way ends
         state.changed.connect(self.on_state_changed)
         dispatcher.result.connect(self._on_background_result)
         dispatcher.error.connect(self._on_background_error)
@@ -149,9 +150,13 @@ class Controller(QObject):
             self._fail_all(kinds, NO_DATA)
             return
         self._queue = list(kinds)
-        while self._queue:
-            self._start(self._queue.pop(0), view)
-        self.results.announce(kinds)
+        self._deferred = set()
+        try:
+            while self._queue:
+                self._start(self._queue.pop(0), view)
+        finally:
+            announced, self._deferred = set(kinds) | self._deferred, None
+        self.results.announce(announced)  # once: panes render each result once per change
         self.computed.emit(frozenset(kinds))
 
     def run(self, kind: str, request=None) -> None:
@@ -236,7 +241,10 @@ class Controller(QObject):
                     continue
                 self._start(dep, view)
                 kinds.append(dep)
-        self.results.announce(kinds)
+        if self._deferred is not None:  # a result that arrived during a recompute (synchronous runs)
+            self._deferred.update(kinds)
+        else:
+            self.results.announce(kinds)
 
     def _on_background_result(self, kind: str, payload) -> None:
         job = self.jobs.get(kind)
