@@ -18,14 +18,14 @@ QT_MODULES = ("PySide6", "pyqtgraph", "PyQt5", "PyQt6", "shiboken6")
 
 
 @functools.cache
-def _tree(path: Path) -> ast.Module:
-    return ast.parse(path.read_text(encoding="utf-8"), filename=str(path))
+def _nodes(path: Path) -> tuple[ast.AST, ...]:
+    """Every node of a module, parsed and walked once for all the scans below."""
+    return tuple(ast.walk(ast.parse(path.read_text(encoding="utf-8"), filename=str(path))))
 
 
 def _imported_roots(path: Path) -> set[str]:
-    tree = _tree(path)
     roots: set[str] = set()
-    for node in ast.walk(tree):
+    for node in _nodes(path):
         if isinstance(node, ast.Import):
             roots.update(a.name.split(".")[0] for a in node.names)
         elif isinstance(node, ast.ImportFrom) and node.module and node.level == 0:
@@ -87,7 +87,6 @@ def test_core_modules_import_without_loading_qt():
 
 def _plain_import_offences(path: Path) -> list[str]:
     """Imports of volbench's own modules guarded by ``except ImportError``, or made through importlib."""
-    tree = _tree(path)
     out = []
 
     def own(node) -> bool:
@@ -95,7 +94,7 @@ def _plain_import_offences(path: Path) -> list[str]:
             return node.level > 0 or (node.module or "").split(".")[0] == "volbench"
         return isinstance(node, ast.Import) and any(a.name.split(".")[0] == "volbench" for a in node.names)
 
-    for node in ast.walk(tree):
+    for node in _nodes(path):
         if isinstance(node, ast.Try):
             caught = {getattr(h.type, "id", None) for h in node.handlers}
             caught |= {getattr(e, "id", None) for h in node.handlers if isinstance(h.type, ast.Tuple) for e in h.type.elts}

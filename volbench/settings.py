@@ -16,6 +16,8 @@ is one frozen class here, one field of :class:`Settings`, and one parser helper 
 
 from __future__ import annotations
 
+import functools
+import typing
 from dataclasses import dataclass, field, fields, replace
 from datetime import datetime
 from typing import Any, ClassVar
@@ -286,12 +288,8 @@ class Settings:
     option: OptionSettings | None = None
     created: datetime | None = None
 
-    GROUPS: ClassVar[dict[str, type]] = {"import_options": ImportOptions, "estimation": EstimationSettings, "cone": ConeSettings,
-              "scaling": ScalingSettings, "garch": GarchSettings, "option": OptionSettings}
-    """Group name -> the class each field holds (the registration of a settings group)."""
-
     def __post_init__(self) -> None:
-        for name, cls in self.GROUPS.items():
+        for name, cls in group_types().items():
             value = getattr(self, name)
             if value is None and name in ("import_options", "estimation"):
                 raise VolbenchError(f"{name} settings are required")
@@ -309,7 +307,26 @@ class Settings:
     def as_dict(self) -> dict:
         """JSON-ready record of every setting (the provenance of an export)."""
         out = {"schema": SCHEMA, **self.estimation.as_dict(), "import": self.import_options.as_dict()}
-        for name, key in (("cone", "cone"), ("scaling", "scaling"), ("garch", "garch"), ("option", "pricing")):
+        for name in group_types():
+            if name in ("import_options", "estimation"):
+                continue
             group = getattr(self, name)
-            out[key] = None if group is None else group.as_dict()
+            out[RECORD_NAMES.get(name, name)] = None if group is None else group.as_dict()
         return out
+
+
+RECORD_NAMES = {"option": "pricing"}
+"""Groups recorded under another name in :meth:`Settings.as_dict` (the export's provenance)."""
+
+
+@functools.cache
+def group_types() -> dict[str, type]:
+    """Every group field of :class:`Settings` and the class it holds, read from the annotations
+    (so a new group is one class and one field)."""
+    hints = typing.get_type_hints(Settings)
+    out = {}
+    for f in fields(Settings):
+        kinds = [a for a in (typing.get_args(hints[f.name]) or (hints[f.name],)) if a is not type(None)]
+        if len(kinds) == 1 and hasattr(kinds[0], "as_dict"):
+            out[f.name] = kinds[0]
+    return out

@@ -78,8 +78,13 @@ def test_a_registered_model_variant_is_offered_by_the_controls(monkeypatch, make
 
 
 # ------------------------------------------------------------------------ Cancel, job by job
-def _context(kind: str, sample_dir: Path, tmp_path: Path) -> Context:
-    h = load_prices(sample_dir / "kestrel_orchards.csv")[0]
+@pytest.fixture(scope="module")
+def kestrel_history():
+    path = Path(__file__).resolve().parents[2] / "sample_prices" / "kestrel_orchards.csv"
+    return load_prices(path)[0]  # a frozen history: safe to share between the tests of this module
+
+
+def _context(kind: str, h, sample_dir: Path, tmp_path: Path) -> Context:
     requests = {
         "load": LoadRequest((str(sample_dir / "kestrel_orchards.csv"),), Settings().import_options),
         "export": ExportRequest(tmp_path / "x.json", (h,)),
@@ -91,15 +96,16 @@ def _context(kind: str, sample_dir: Path, tmp_path: Path) -> Context:
 
 
 @pytest.mark.parametrize("kind", [k for k, j in JOBS.items() if j.background])
-def test_every_background_job_stops_when_cancel_is_asked(kind, sample_dir, tmp_path):
+def test_every_background_job_stops_when_cancel_is_asked(kind, kestrel_history, sample_dir, tmp_path):
     told = []
     with pytest.raises(Cancelled):
-        JOBS[kind].run(_context(kind, sample_dir, tmp_path), lambda *a: told.append(a), lambda: True)
+        JOBS[kind].run(_context(kind, kestrel_history, sample_dir, tmp_path), lambda *a: told.append(a),
+                       lambda: True)
     assert not (tmp_path / "x.json").exists()
 
 
-def test_the_garch_job_stops_between_two_fits(sample_dir, tmp_path):
-    ctx = _context("garch", sample_dir, tmp_path)
+def test_the_garch_job_stops_between_two_fits(kestrel_history, sample_dir, tmp_path):
+    ctx = _context("garch", kestrel_history, sample_dir, tmp_path)
     started = []
     with pytest.raises(Cancelled, match="cancelled after 1 of 3 models"):
         JOBS["garch"].run(ctx, lambda done, total, text: started.append(text), lambda: len(started) >= 1)

@@ -30,6 +30,7 @@ from volbench.settings import (
     OptionSettings,
     ScalingSettings,
     Settings,
+    group_types,
 )
 from volbench.types import (
     DEFAULT_ANNUALIZATION,
@@ -293,7 +294,7 @@ def settings_from_args(args: argparse.Namespace) -> Settings:
     """One :class:`Settings` holding every group the command registered; the others are off
     (``None``), except the import options and the estimation settings, which always exist."""
     registered = getattr(args, _GROUPS_ATTR, None) or {}
-    built = {name: None for name in ("cone", "scaling", "garch", "option")}
+    built: dict[str, object] = {name: None for name in group_types() if name != "import_options"}
     built["estimation"] = EstimationSettings(annualization=getattr(args, "annualization", DEFAULT_ANNUALIZATION))
     for name, config in registered.items():  # in the order the command added them
         built[name] = GROUPS[name].build(args, **config)
