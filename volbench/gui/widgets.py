@@ -293,7 +293,7 @@ class Plot(pg.PlotWidget):
 
 # ---------------------------------------------------------------------- cards
 class Card(QStackedWidget):
-    """Content or a one-line message ("not available in this build", "load a file", an error)."""
+    """Content or a one-line message ("load a file", why a result is missing, an error)."""
 
     def __init__(self, content: QWidget, object_name: str, parent: QWidget | None = None) -> None:
         super().__init__(parent)
