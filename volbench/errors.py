@@ -12,6 +12,10 @@ class VolbenchError(Exception):
     """Bad input or an impossible request, with a message the user can act on."""
 
 
+class Cancelled(Exception):
+    """Long work stopped because its ``cancel()`` callable returned True (not an error)."""
+
+
 class EstimatorUnavailable(VolbenchError):
     """An estimator cannot be computed on this history (missing columns, too few bars, ...).
 

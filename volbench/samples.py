@@ -170,6 +170,15 @@ def write_samples(out: str | Path) -> list[Path]:
     return paths
 
 
+def sample_files() -> list[str]:
+    """The bundled sample files: ./sample_prices, else the folder beside the package (empty when neither exists)."""
+    for folder in (Path.cwd() / "sample_prices", Path(__file__).resolve().parents[1] / "sample_prices"):
+        files = sorted(folder.glob("*.csv"))
+        if files:
+            return [str(f) for f in files]
+    return []
+
+
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(prog="python -m volbench.samples", description=__doc__.splitlines()[0])
     ap.add_argument("--out", default="sample_prices", help="folder to write into (default: sample_prices)")

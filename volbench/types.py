@@ -12,6 +12,16 @@ OptionType = Literal["call", "put"]
 
 DEFAULT_ANNUALIZATION = 252.0
 """Bars per year used to annualize per-bar variance (common practice for exchange-traded daily data)."""
+EWMA_LAMBDA = 0.94
+"""RiskMetrics decay for daily data (J.P. Morgan/Reuters RiskMetrics Technical Document, 1996)."""
+DEFAULT_CONE_WINDOWS: tuple[int, ...] = (10, 20, 40, 60, 120, 250)
+"""Window lengths of the volatility cone, in bars."""
+DEFAULT_TERM_HORIZONS: tuple[int, ...] = (5, 10, 21, 42, 63, 126, 252)
+"""Default option lives in bars: a week, two weeks, one, two, three, six and twelve months."""
+DEFAULT_SEED = 20_240_917
+"""Seed of simulated forecasts (EGARCH) unless the user gives one."""
+DEFAULT_SIMULATIONS = 2000
+"""Paths of a simulated forecast unless the user gives a number."""
 
 
 def check_annualization(annualization: float) -> float:

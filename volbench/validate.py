@@ -185,22 +185,121 @@ def estimator(value) -> str:
     return value
 
 
-MODEL_NAMES: tuple[str, ...] = ("garch", "gjr", "egarch")
+def _model_keys() -> tuple[str, ...]:
+    # the registry: a variant added there is accepted here
+    from volbench.models.family import MODEL_REGISTRY
+
+    return tuple(MODEL_REGISTRY)
 
 
 def model(value) -> str:
-    """A GARCH-family model name: garch, gjr or egarch."""
-    return choice(value, MODEL_NAMES, "model")
+    """A GARCH-type model key from the registry (garch, gjr, egarch, ...)."""
+    return choice(value, _model_keys(), "model")
 
 
 def models(value) -> tuple[str, ...]:
-    """``"all"``, one model name or several -> unique model names in the given order."""
+    """``"all"``, one model key or several -> unique model keys in the given order."""
+    keys = _model_keys()
     if isinstance(value, str):
-        value = MODEL_NAMES if value.strip().lower() == "all" else (value,)
+        value = keys if value.strip().lower() == "all" else (value,)
     out = tuple(dict.fromkeys(model(m) for m in value))
     if not out:
-        raise VolbenchError(f"models must name at least one of: {', '.join(MODEL_NAMES)}")
+        raise VolbenchError(f"models must name at least one of: {', '.join(keys)}")
     return out
+
+
+def distribution(value) -> str:
+    """An innovation distribution key from the registry (normal, t)."""
+    from volbench.models.family import DIST_REGISTRY
+
+    return choice(value, tuple(DIST_REGISTRY), "distribution")
+
+
+def mean(value) -> str:
+    """The mean model of a GARCH fit: constant (estimated) or zero."""
+    return choice(value, ("constant", "zero"), "mean")
+
+
+MAX_HORIZON = 2520
+"""Longest option life a forward-vol term structure accepts (ten years of daily bars)."""
+
+
+def term_horizons(value) -> tuple[int, ...]:
+    """Option lives in bars for a forward-vol term structure: sorted, unique, 1 to MAX_HORIZON."""
+    try:
+        raw = list(value)
+    except TypeError:
+        raise VolbenchError(f"horizons must be a list of whole numbers of bars, got {value!r}") from None
+    out = []
+    for h in raw:
+        if isinstance(h, bool) or not isinstance(h, (int, np.integer)):
+            if isinstance(h, (float, np.floating)) and float(h).is_integer():
+                h = int(h)
+            else:
+                raise VolbenchError(f"horizons must be whole numbers of bars, got {h!r}")
+        if not 1 <= int(h) <= MAX_HORIZON:
+            raise VolbenchError(f"horizons must be between 1 and {MAX_HORIZON} bars, got {int(h)}")
+        out.append(int(h))
+    if not out:
+        raise VolbenchError("horizons must list at least one horizon in bars, e.g. 5,21,63")
+    return tuple(sorted(set(out)))
+
+
+def cone_windows(value) -> tuple[int, ...]:
+    """Window lengths of a volatility cone: distinct bar counts >= 2, sorted."""
+    if isinstance(value, (int, str)) or not len(value):
+        raise VolbenchError(f"windows must be a non-empty list of bar counts, e.g. 10,20,60; got {value!r}")
+    ws = [window(w, minimum=2) for w in value]
+    if any(w is None for w in ws):
+        raise VolbenchError("cone windows must be bar counts, not 'all'")
+    seen = {w for w in ws if ws.count(w) > 1}
+    if seen:
+        raise VolbenchError(f"cone windows must not repeat; {', '.join(map(str, sorted(seen)))} given twice")
+    return tuple(sorted(ws))
+
+
+def seed(value) -> int:
+    """Seed of a simulation: a whole number >= 0."""
+    if not _is_int(value) or value < 0:
+        raise VolbenchError(f"seed must be a whole number >= 0, got {value!r}")
+    return int(value)
+
+
+def simulations(value) -> int:
+    """Paths of a simulated forecast: a whole number from 100 to 100000."""
+    if not _is_int(value) or not 100 <= value <= 100_000:
+        raise VolbenchError(f"simulations must be a whole number between 100 and 100000, got {value!r}")
+    return int(value)
+
+
+def max_iterations(value) -> int | None:
+    """Optimizer iteration cap: a whole number >= 1, or ``None`` for the library's default."""
+    if value is None:
+        return None
+    if not _is_int(value) or value < 1:
+        raise VolbenchError(f"max_iterations must be a whole number >= 1 or None, got {value!r}")
+    return int(value)
+
+
+def price(value, what: str = "price") -> float | None:
+    """A price given by a user (strike, spot): a finite number > 0; ``None`` stays ``None`` (default)."""
+    if value is None:
+        return None
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise VolbenchError(f"{what} must be a positive price, got {value!r}") from None
+    if isinstance(value, bool) or not (math.isfinite(v) and v > 0):
+        raise VolbenchError(f"{what} must be a positive price, got {v:g}")
+    return v
+
+
+def option_kind(value) -> str:
+    """``"call"`` or ``"put"`` (case-insensitive)."""
+    k = value.strip().lower() if isinstance(value, str) else value
+    if k not in ("call", "put"):
+        raise VolbenchError(f"option type must be 'call' or 'put', got {value!r}")
+    return k
 
 
 def rate(value, what: str = "rate") -> float:

@@ -27,8 +27,10 @@ from arch import arch_model
 from arch.univariate import StudentsT
 
 from volbench.models import fit_garch, fit_many
-from volbench.models.garch import DEFAULT_TERM_HORIZONS, _variance_forecast
+from volbench.models.garch import _variance_forecast
 from volbench.models.term import term_structure
+from volbench.settings import GarchSettings
+from volbench.types import DEFAULT_TERM_HORIZONS
 
 BARS = 5040
 REPEATS = 25
@@ -69,7 +71,7 @@ def test_bench_single_fit():
         return res.std_err
 
     def ours():
-        return fit_garch(h, "garch", "t")
+        return fit_garch(h, "garch", GarchSettings(models=("garch",), dist="t"))
 
     for fn in (bare, bare_se, ours):  # warm-up
         fn()
@@ -125,12 +127,13 @@ def _parallel_capacity() -> float:
 def test_bench_many_series():
     hs = [_history(SERIES_BARS, 100 + i, name=f"S{i:03d}") for i in range(SERIES)]
     kw = {"models": "garch", "dist": "t"}
-    t_serial = _timed(lambda: fit_many(hs, processes=1, **kw))
+    t_serial = _timed(lambda: fit_many(hs, GarchSettings(processes=1, **kw)))
     rows = [("serial (processes=1)", t_serial)]
     for method in ("fork", "forkserver"):
         if method in multiprocessing.get_all_start_methods():
             ctx = multiprocessing.get_context(method)
-            rows.append((f"2 processes, {method}", _timed(lambda c=ctx: fit_many(hs, processes=2, mp_context=c, **kw))))
+            rows.append((f"2 processes, {method}", _timed(lambda c=ctx: fit_many(hs, GarchSettings(processes=2, **kw),
+                                                                              mp_context=c))))
     capacity = _parallel_capacity()
     print(f"\nfit_many: {SERIES} series x {SERIES_BARS} bars, GARCH(1,1)-t, {os.cpu_count()} CPUs "
           f"(load average {os.getloadavg()[0]:.1f}; two spinning processes run {capacity:.2f}x one, "

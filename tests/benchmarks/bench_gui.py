@@ -59,7 +59,7 @@ def isolated_settings(tmp_path):
 def test_bench_window_change_to_redraw(qtbot, isolated_settings):
     from PySide6.QtWidgets import QApplication, QSpinBox
 
-    from volbench.gui import compute
+    from volbench import analysis
     from volbench.gui.state import Choices
     from volbench.gui.widgets import FrameTable, Plot
     from volbench.gui.window import MainWindow
@@ -93,12 +93,12 @@ def test_bench_window_change_to_redraw(qtbot, isolated_settings):
         change()
     gui = [change() for _ in range(REPEATS)]
 
-    c = w.state.choices
+    settings = w.state.choices.settings()
 
     def core() -> float:
         t0 = time.perf_counter()
-        compute.rolling_all(hist, 60, c.annualization)
-        compute.estimates(hist, 60, c.annualization)
+        analysis.rolling_for(hist, settings)
+        analysis.estimates_for(hist, settings)
         return time.perf_counter() - t0
 
     for _ in range(3):

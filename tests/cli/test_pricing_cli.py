@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import json
 import re
-import sys
 
 import numpy as np
 import pandas as pd
@@ -145,18 +144,7 @@ def test_compare_json_put_with_strike(capsys, sample_dir):
     assert d["unavailable"] == {"garch": "not requested", "scaling": "not requested"}
 
 
-def test_compare_optional_modules_missing(capsys, sample_dir, monkeypatch):
-    monkeypatch.setitem(sys.modules, "volbench.models", None)
-    monkeypatch.setitem(sys.modules, "volbench.scaling", None)
-    code, out, _ = run(capsys, "compare", str(sample_dir / "kestrel_orchards.csv"), "--pricing-vol", "0.25",
-                       "--days", "30", "--with-garch", "--with-scaling")
-    assert code == 0
-    assert ("not shown: GARCH (not available in this build), scaling check (not available in this build)"
-            in out)
-
-
-def test_compare_with_scaling_when_present(capsys, sample_dir):
-    pytest.importorskip("volbench.scaling")
+def test_compare_with_scaling(capsys, sample_dir):
     code, out, _ = run(capsys, "compare", str(sample_dir / "kestrel_orchards.csv"), "--pricing-vol", "0.25",
                        "--days", "20", "--with-scaling", "--format", "json")
     assert code == 0
@@ -171,7 +159,7 @@ def test_compare_with_scaling_when_present(capsys, sample_dir):
     (["--pricing-vol", "0.25", "--days", "2.5"], "days must be a whole number of bars >= 1, got 2.5"),
     (["--pricing-vol", "0.25", "--days", "30", "--window", "1"], "window must be >= 2 bars, got 1"),
     (["--pricing-vol", "0.25", "--days", "30", "--strike", "-2"], "strike must be a positive price, got -2"),
-    (["--pricing-vol", "0.25", "--days", "30", "--rate", "3"], "--rate must be a decimal between -1 and 1"),
+    (["--pricing-vol", "0.25", "--days", "30", "--rate", "3"], "volbench: rate must be a decimal between -1 and 1"),
     (["--pricing-vol", "0.25", "--days", "30", "--cone-estimator", "x"], "unknown estimator 'x'"),
     (["--pricing-vol", "0.25", "--days", "30", "--series", "NOPE"], "no series 'NOPE' in the file; it holds:"),
 ])

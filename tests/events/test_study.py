@@ -18,6 +18,7 @@ from volbench.events import (
     make_calendar,
 )
 from volbench.models import fit_garch
+from volbench.settings import GarchSettings
 
 A = 252.0
 
@@ -150,7 +151,7 @@ def test_garch_on_ex_event_returns_adds_the_events_back(event_series):
     cal = _calendar_for(h, bars, [(last + pd.offsets.BDay(3)).strftime("%Y-%m-%d")])
     rep = event_study(h, cal, days=21, garch="garch")
     g = rep.garch
-    direct = fit_garch(ex_event_history(h, bars), "garch", horizons=(21,))
+    direct = fit_garch(ex_event_history(h, bars), "garch", GarchSettings(horizons=(21,)))
     assert g.nobs == h.n - 1 - bars.size == direct.nobs
     assert g.ex_event_vol == pytest.approx(direct.forward_vol(21), rel=1e-12)
     assert g.event_aware_vol == pytest.approx(event_aware_vol(g.ex_event_vol, rep.event_move.variance, 1, 21))

@@ -8,6 +8,7 @@ import pytest
 
 from volbench.data import load_many
 from volbench.export import build_bundle
+from volbench.settings import EstimationSettings, Settings
 
 CREATED = datetime(2024, 10, 18, 7, 30, 5, tzinfo=UTC)
 
@@ -25,11 +26,15 @@ def sample_histories(sample_dir):
 
 @pytest.fixture
 def make_bundle(sample_histories):
-    """make_bundle(histories=None, **build_bundle kwargs) with a fixed creation time."""
+    """make_bundle(histories=None, given=None, **settings groups) with a fixed creation time.
 
-    def _make(histories=None, **kw):
-        kw.setdefault("window", 20)
-        kw.setdefault("created", CREATED)
-        return build_bundle(histories if histories is not None else sample_histories(), **kw)
+    Groups are :class:`volbench.settings.Settings` fields (``estimation=EstimationSettings(...)``,
+    ``option=OptionSettings(...)``, ``scaling=None``...); the estimation window defaults to 20 bars.
+    """
+
+    def _make(histories=None, *, given=None, **groups):
+        groups.setdefault("estimation", EstimationSettings(window=20))
+        settings = Settings(created=CREATED, **groups)
+        return build_bundle(histories if histories is not None else sample_histories(), settings, given=given)
 
     return _make

@@ -19,9 +19,8 @@ from volbench.export import (
     ESTIMATES_SCHEMA,
     SECTIONS,
     build_bundle,
-    write_export,
 )
-from volbench.export import sections as sec
+from volbench.settings import ConeSettings, EstimationSettings, GarchSettings, OptionSettings
 
 DOC = Path(__file__).resolve().parents[2] / "docs" / "EXPORT_SCHEMA.md"
 
@@ -40,7 +39,7 @@ def test_estimates_carry_the_core_numbers(make_bundle, sample_histories):
     # Common practice, no source: the export must show the same number the core computes for the
     # same settings (estimate_all is the one entry point every surface uses).
     hs = sample_histories()
-    est = make_bundle(hs, window=20, as_of="2024-06-28").table("estimates")
+    est = make_bundle(hs, estimation=EstimationSettings(window=20, as_of="2024-06-28")).table("estimates")
     for h in hs:
         rep = estimate_all(h, 20, as_of="2024-06-28")
         rows = est[est["series"] == h.name].set_index("estimator")
@@ -63,7 +62,7 @@ def test_unavailable_estimator_keeps_its_row_with_the_reason(make_bundle, sample
 
 def test_provenance_names_file_hash_version_settings_and_quality(make_bundle, sample_histories, sample_dir):
     hs = sample_histories("quillon_textiles.csv", exclude_flagged=True)
-    b = make_bundle(hs, window="all", annualization=365, estimator_options={"lam": 0.97})
+    b = make_bundle(hs, estimation=EstimationSettings(window="all", annualization=365, lam=0.97))
     est = b.table("estimates")
     row = est.iloc[0]
     # Reference library: hashlib.sha256 of the file's bytes
@@ -106,8 +105,8 @@ def test_sections_included_with_cone_and_scaling(make_bundle):
 
 
 def test_comparison_section_with_option(make_bundle, sample_histories):
-    b = make_bundle(sample_histories("quillon_textiles.csv"), pricing_vol=0.3, days=25,
-                    option={"strike": 40.0, "rate": 0.02, "kind": "put"})
+    b = make_bundle(sample_histories("quillon_textiles.csv"),
+                    option=OptionSettings(pricing_vol=0.3, days=25, strike=40.0, rate=0.02, kind="put"))
     assert b.sections["comparison"].status == "included"
     comp = b.table("comparison")
     assert comp.iloc[0]["source"] == "pricing" and comp.iloc[0]["vol"] == 0.3
@@ -122,8 +121,8 @@ def test_comparison_window_sets_the_candidate_window_and_is_recorded(make_bundle
     from volbench.estimators import point_estimate
 
     h = sample_histories("kestrel_orchards.csv")
-    default = make_bundle(h, pricing_vol=0.25, days=30, include_scaling=False)
-    chosen = make_bundle(h, pricing_vol=0.25, days=30, include_scaling=False, comparison_window=60)
+    default = make_bundle(h, option=OptionSettings(0.25, 30), scaling=None)
+    chosen = make_bundle(h, option=OptionSettings(0.25, 30, window=60), scaling=None)
     row = lambda b: b.table("comparison").set_index("key").loc["yang_zhang"]
     assert row(default)["candidate_window"] == 30 and row(chosen)["candidate_window"] == 60
     assert row(chosen)["vol"] == pytest.approx(point_estimate(h[0], "yang_zhang", 60).vol, rel=1e-12)
@@ -132,17 +131,17 @@ def test_comparison_window_sets_the_candidate_window_and_is_recorded(make_bundle
 
 
 def test_bad_pricing_inputs(make_bundle):
-    with pytest.raises(VolbenchError, match=r"a comparison needs both --pricing-vol and --days"):
-        make_bundle(pricing_vol=0.25)
+    with pytest.raises(VolbenchError, match=r"option must be OptionSettings, got dict"):
+        make_bundle(option={"pricing_vol": 0.25})
     with pytest.raises(VolbenchError, match=r"pricing vol must be a decimal below 5 \(0.25 means 25%\), got 25"):
-        make_bundle(pricing_vol=25, days=30)
+        OptionSettings(pricing_vol=25, days=30)
     with pytest.raises(VolbenchError, match=r"pricing vol must be a decimal below 5 \(0.25 means 25%\), got 7; "
                                             r"it looks like a percent: did you mean 0.07\?"):
-        make_bundle(pricing_vol=7, days=30)  # the same limit as 'volbench compare'
+        OptionSettings(pricing_vol=7, days=30)  # the same limit as 'volbench compare'
     with pytest.raises(VolbenchError, match=r"days must be a whole number of bars >= 1, got 0"):
-        make_bundle(pricing_vol=0.25, days=0)
+        OptionSettings(pricing_vol=0.25, days=0)
     with pytest.raises(VolbenchError, match=r"unknown estimator 'nope'; choose one of: close_to_close"):
-        make_bundle(cone_estimator="nope")
+        ConeSettings(estimator="nope")
 
 
 def test_no_histories():
@@ -150,30 +149,9 @@ def test_no_histories():
         build_bundle([])
 
 
-def test_missing_module_is_recorded_not_failed(make_bundle, monkeypatch, tmp_path):
-    real = sec.importlib.import_module
-
-    def without_scaling(name, *a, **k):
-        if name == "volbench.scaling":
-            raise ModuleNotFoundError(f"No module named {name!r}", name=name)
-        return real(name, *a, **k)
-
-    monkeypatch.setattr(sec.importlib, "import_module", without_scaling)
-    b = make_bundle()
-    assert b.sections["scaling"].text == "not available: module volbench.scaling is not installed in this volbench"
-    assert "scaling" not in b.tables and b.sections["cone"].status == "included"
-    with pytest.raises(VolbenchError, match=r"table 'scaling' is not in this export \(not available: module"):
-        b.table("scaling")
-    # the workbook still has the sheet, saying why
-    path = write_export(tmp_path / "x.xlsx", b)
-    sheet = pd.read_excel(path, sheet_name="scaling", engine="openpyxl")
-    assert sheet.to_dict("records") == [{"section": "scaling", "status": "not available",
-                                         "reason": "module volbench.scaling is not installed in this volbench"}]
-
-
 def test_one_series_failing_makes_the_section_partial(make_bundle, make_history, sample_histories):
     short = make_history(100 * np.exp(np.cumsum(np.full(25, 0.01) * (-1) ** np.arange(25))), name="short")
-    b = make_bundle([*sample_histories("quillon_textiles.csv"), short], window=5)
+    b = make_bundle([*sample_histories("quillon_textiles.csv"), short], estimation=EstimationSettings(window=5))
     st = b.sections["scaling"]
     assert st.status == "partial" and st.reason.startswith("short: short: only 24 returns")
     assert set(b.table("scaling")["series"]) == {"quillon_textiles"}
@@ -186,14 +164,14 @@ def test_ready_made_results_are_used(make_bundle, sample_histories):
 
     hs = sample_histories("quillon_textiles.csv")
     mine = vol_cone(hs[0], "parkinson", (5, 15))
-    b = make_bundle(hs, results={"cone": {"quillon_textiles": mine}})
+    b = make_bundle(hs, given={"cone": {"quillon_textiles": mine}})
     cone = b.table("cone")
     assert list(cone["window"]) == [5, 15] and set(cone["estimator"]) == {"parkinson"}
     assert cone["p50"].tolist() == mine.table["p50"].tolist()
 
 
 def test_nothing_optional_requested(make_bundle):
-    b = make_bundle(include_cone=False, include_scaling=False)
+    b = make_bundle(cone=None, scaling=None)
     assert {k for k, s in b.sections.items() if s.status == "included"} == {"estimates"}
     assert set(b.sections) == set(SECTIONS)
     assert list(b.names) == ["estimates", "notes", "findings", "inputs"]
@@ -203,13 +181,13 @@ def test_garch_section_rows_match_the_fits(make_bundle, simulate_ohlc):
     from volbench.models import fit_models
 
     h = simulate_ohlc(400, 0.25, seed=11, steps=20, name="sim")
-    b = make_bundle([h], include_scaling=False, include_garch=True, garch_models=("garch", "gjr"),
-                    pricing_vol=0.25, days=21)
+    b = make_bundle([h], scaling=None, garch=GarchSettings(models=("garch", "gjr")),
+                    option=OptionSettings(0.25, 21))
     assert b.sections["garch"].status == "included"
     g = b.table("garch").set_index("model")
     # Reference: the same fit_models call made directly (arch via volbench.models); the export
     # must carry its numbers unchanged.
-    comp = fit_models(h, ("garch", "gjr"))
+    comp = fit_models(h, GarchSettings(models=("garch", "gjr")))
     for f in comp.fits:
         assert g.at[f.model, "forward_vol"] == f.forward_vol(21)
         assert g.at[f.model, "persistence"] == f.persistence
@@ -225,7 +203,7 @@ def test_garch_section_rows_match_the_fits(make_bundle, simulate_ohlc):
 @pytest.mark.slow
 def test_garch_in_worker_processes_gives_the_same_numbers(make_bundle, simulate_ohlc):
     hs = [simulate_ohlc(300, 0.2, seed=s, steps=10, name=f"s{s}") for s in (1, 2)]
-    kw = {"include_scaling": False, "include_cone": False, "include_garch": True, "garch_models": ("garch",)}
-    serial = make_bundle(hs, garch_processes=1, **kw).table("garch")
-    pooled = make_bundle(hs, garch_processes=2, **kw).table("garch")
+    kw = {"scaling": None, "cone": None}
+    serial = make_bundle(hs, garch=GarchSettings(models=("garch",), processes=1), **kw).table("garch")
+    pooled = make_bundle(hs, garch=GarchSettings(models=("garch",), processes=2), **kw).table("garch")
     pd.testing.assert_frame_equal(serial, pooled)

@@ -20,6 +20,7 @@ from volbench.export import build_bundle, write_export
 from volbench.export.safety import escape_controls, neutralise
 from volbench.export.tsv import table_to_tsv
 from volbench.export.writers import csv_text
+from volbench.settings import Settings
 
 
 @pytest.mark.parametrize(("text", "safe"), [
@@ -78,7 +79,7 @@ def test_adjustments_travel_into_the_export_provenance(tmp_path, sample_dir):
     from volbench.data import load_prices
 
     (h,) = load_prices(sample_dir / "quillon_textiles.csv", adjust_splits=True, exclude_flagged=True)
-    b = build_bundle([h], include_scaling=False, include_cone=False)
+    b = build_bundle([h], Settings(scaling=None, cone=None))
     assert b.provenance["series"][0]["adjustments"] == [{"date": "2022-06-15", "ratio": 2.0, "line": 903,
                                                           "label": "2:1 split"}]
     inputs = b.table("inputs")

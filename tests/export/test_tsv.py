@@ -45,7 +45,7 @@ def test_text_with_tabs_and_line_breaks_stays_one_row():
 
 
 def test_real_export_table(make_bundle):
-    est = make_bundle(include_scaling=False).table("estimates")
+    est = make_bundle(scaling=None).table("estimates")
     back = _read(table_to_tsv(est), keep_default_na=False, na_values=[""])
     assert back.columns.tolist() == est.columns.tolist()
     assert np.array_equal(back["vol"].to_numpy(float), est["vol"].to_numpy(float), equal_nan=True)

@@ -18,6 +18,7 @@ import pytest
 
 from volbench.errors import VolbenchError
 from volbench.export import SCHEMA_VERSION, write_csv, write_export, write_json, write_xlsx
+from volbench.settings import OptionSettings
 
 
 def _same(read: pd.DataFrame, mem: pd.DataFrame) -> None:
@@ -39,7 +40,7 @@ def _same(read: pd.DataFrame, mem: pd.DataFrame) -> None:
 @pytest.fixture
 def full_bundle(make_bundle):
     def _make():
-        return make_bundle(pricing_vol=0.25, days=30, option={"strike": 50.0, "rate": 0.03})
+        return make_bundle(option=OptionSettings(0.25, 30, strike=50.0, rate=0.03))
     return _make
 
 
@@ -122,7 +123,7 @@ def test_unknown_suffix_names_the_allowed_ones(tmp_path, make_bundle):
 def test_every_format_refuses_to_overwrite(tmp_path, make_bundle, suffix):
     target = tmp_path / f"out{suffix}"
     target.write_bytes(b"keep me")
-    b = make_bundle(include_scaling=False)
+    b = make_bundle(scaling=None)
     with pytest.raises(VolbenchError, match=rf"out\{suffix} already exists; pass --force"):
         write_export(target, b)
     assert target.read_bytes() == b"keep me"
@@ -139,6 +140,6 @@ def test_xlsx_save_failing_keeps_old_workbook(tmp_path, make_bundle, monkeypatch
 
     monkeypatch.setattr(openpyxl.Workbook, "save", disk_full)
     with pytest.raises(VolbenchError, match=r"no space left on the device; .*the existing file is unchanged"):
-        write_export(target, make_bundle(include_scaling=False), overwrite=True)
+        write_export(target, make_bundle(scaling=None), overwrite=True)
     assert target.read_bytes() == b"old workbook"
     assert sorted(p.name for p in tmp_path.iterdir()) == ["out.xlsx"]

@@ -17,6 +17,7 @@ from volbench.gui.dialogs import CAUTIONS, HelpDialog, install_excepthook
 from volbench.gui.session import SESSION_VERSION
 from volbench.gui.state import Choices
 from volbench.gui.widgets import FrameTable, Plot
+from volbench.models import MODEL_REGISTRY
 
 
 @pytest.fixture
@@ -119,8 +120,9 @@ def test_session_save_and_reopen_restores_files_selection_and_choices(make_windo
     assert [h.name for h in other.state.histories] == ["kestrel_orchards", "quillon_textiles"]
     assert other.state.selected == "quillon_textiles"
     assert other.state.choices == w.state.choices
-    assert other.findChild(type(other.controls.window), "window_spin").value() == 45
-    assert other.controls.kind.currentData() == "put"
+    controls = other.panes["controls"]
+    assert other.findChild(type(controls.window), "window_spin").value() == 45
+    assert controls.kind.currentData() == "put"
     report = other.results.get("estimates")
     assert report.window == 45 and report.history.exclude_flagged and report.as_of == "2023-12-29"
 
@@ -184,6 +186,8 @@ def test_help_lists_the_cautions_and_what_each_estimator_assumes(qtbot):
         assert caution.split(":")[0] in text
     for spec in REGISTRY.values():
         assert spec.assumes in text and spec.label in text
+    for model in MODEL_REGISTRY.values():  # every registered GARCH-type model, from its spec
+        assert model.label in text and model.source in text
     assert "not advice" in text.lower() or "nothing here is advice" in text.lower()
 
 
@@ -250,17 +254,6 @@ def test_export_xlsx_reads_back_equal_with_openpyxl(make_window, kestrel, tmp_pa
     shown = w.findChild(FrameTable, "estimates_table").raw_frame().set_index("estimator")
     # openpyxl reads back the stored double exactly (reference library: openpyxl)
     assert got == {k: shown.loc[k, "vol"] for k in shown.index}
-
-
-def test_export_without_the_export_module_says_not_available(make_window, kestrel, tmp_path, monkeypatch,
-                                                             message_boxes):
-    import sys
-
-    w = make_window()
-    w.open_files([kestrel])
-    monkeypatch.setitem(sys.modules, "volbench.export", None)
-    w.export_to(tmp_path / "sheet.json")
-    assert message_boxes == [("volbench: export", "Export is not available in this build.")]
 
 
 def test_recent_files_menu_lists_and_reopens_files(make_window, kestrel, sample_dir):

@@ -7,7 +7,8 @@ import sys
 import pytest
 
 from volbench.cli import main
-from volbench.cli.cmd_gui import default_files, display_problem
+from volbench.cli.cmd_gui import display_problem
+from volbench.samples import sample_files
 
 
 @pytest.fixture
@@ -28,7 +29,7 @@ def test_gui_without_a_display_prints_one_line_and_exits_2(no_display, capsys):
 
 def test_gui_without_pyside6_prints_one_line_and_exits_2(monkeypatch, capsys):
     monkeypatch.setenv("QT_QPA_PLATFORM", "offscreen")
-    monkeypatch.setitem(sys.modules, "volbench.gui.app", None)  # the import now fails
+    monkeypatch.setitem(sys.modules, "PySide6.QtWidgets", None)  # the Qt binding now fails to import
     assert main(["gui", "x.csv"]) == 2
     out, err = capsys.readouterr()
     lines = (out + err).strip().splitlines()
@@ -74,10 +75,10 @@ def test_gui_opens_the_window_with_the_given_files(monkeypatch):
     assert main(["gui", "a.csv", "b.csv"]) == 0
     assert main(["gui"]) == 0
     assert opened[0] == ["a.csv", "b.csv"]
-    assert opened[1] == default_files()
+    assert opened[1] == sample_files()
 
 
 def test_default_files_are_the_bundled_samples(monkeypatch, sample_dir):
     monkeypatch.chdir(sample_dir.parent)
-    files = default_files()
+    files = sample_files()
     assert [f.rsplit("/", 1)[-1] for f in files] == sorted(p.name for p in sample_dir.glob("*.csv"))

@@ -9,8 +9,8 @@ import threading
 import pytest
 from PySide6.QtWidgets import QFileDialog, QLabel, QMessageBox
 
+from volbench.data import load as loading  # the core reader the window's load job calls
 from volbench.data.load import Cancelled as LoadCancelled
-from volbench.gui import loading
 from volbench.gui.import_dialog import ImportDialog
 from volbench.gui.session import read_session
 from volbench.gui.state import Choices
@@ -89,7 +89,7 @@ def test_import_dialog_returns_choices_and_refuses_a_contradiction(qtbot):
     d = ImportDialog(Choices(decimal=",", adjust_splits=True), files=2)
     qtbot.addWidget(d)
     assert d.values() == {"delimiter": None, "decimal": ",", "thousands": None, "date_format": None,
-                          "use_adjusted": False, "adjust_splits": True}
+                          "use_adjusted": False, "adjust_splits": True, "gap_days": 5}
     d.thousands.setCurrentIndex(d.thousands.findData(","))
     d.accept()
     assert d.result() != ImportDialog.DialogCode.Accepted

@@ -5,7 +5,7 @@ from __future__ import annotations
 import numpy as np
 from PySide6.QtGui import QImage
 
-from volbench.gui.window import TABS
+from volbench.gui.panes import PANES
 
 
 def distinct_colours(path) -> int:
@@ -21,7 +21,7 @@ def test_each_pane_screenshot_is_non_trivial(make_window, quillon, tmp_path, qtb
     qtbot.waitExposed(w)
     w.open_files([quillon])
     shots = {}
-    for key, _title in TABS:
+    for key in [cls.key for cls in PANES if cls.place == "tab"]:
         w.tabs.setCurrentWidget(w.panes[key])
         qtbot.wait(10)
         path = tmp_path / f"{key}.png"

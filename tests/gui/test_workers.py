@@ -8,7 +8,8 @@ import threading
 import pytest
 
 from volbench.errors import VolbenchError
-from volbench.gui.controller import DEPENDS, jobs_for
+from volbench.gui.controller import DEPENDS
+from volbench.gui.jobs import depends_on_view, jobs_for
 from volbench.gui.workers import Cancelled, Dispatcher
 
 
@@ -98,19 +99,22 @@ def test_synchronous_mode_runs_the_job_before_submit_returns(qtbot):
     assert got == [(1, 1, "done"), threading.get_ident()]
 
 
+EVERYTHING = ["rolling", "estimates", "cone", "placement", "scaling", "garch", "forward", "comparison", "bands"]
+
+
 @pytest.mark.parametrize(("changed", "expected"), [
     ({"window"}, ["rolling", "estimates"]),
-    ({"days"}, ["comparison"]),
-    ({"pricing_vol"}, ["comparison"]),
-    ({"garch_dist"}, ["garch", "comparison"]),
-    ({"annualization"}, ["rolling", "estimates", "cone", "scaling", "garch", "comparison"]),
-    ({"exclude_flagged"}, ["rolling", "estimates", "cone", "scaling", "garch", "comparison"]),
+    ({"days"}, ["placement", "forward", "comparison", "bands"]),
+    ({"pricing_vol"}, ["placement", "comparison", "bands"]),
+    ({"garch_dist"}, ["garch", "forward", "comparison", "bands"]),
+    ({"annualization"}, EVERYTHING),
+    ({"exclude_flagged"}, EVERYTHING),
     ({"estimators"}, []),
-    ({"cone_estimator"}, ["cone", "comparison"]),
+    ({"cone_estimator"}, ["cone", "placement", "comparison", "bands"]),
 ])
 def test_a_change_recomputes_only_what_depends_on_it(changed, expected):
     assert jobs_for(frozenset(changed)) == expected
 
 
 def test_every_result_depends_on_the_history():
-    assert all("view" in deps for deps in DEPENDS.values())
+    assert all(depends_on_view(kind) for kind in DEPENDS)

@@ -16,6 +16,7 @@ from volbench.hindsight import HindsightCancelled, hindsight, qlike
 from volbench.hindsight.forecasts import garch_forecast
 from volbench.models import fit_garch
 from volbench.pricing.bsm import bsm_price
+from volbench.settings import GarchSettings
 
 A = 252.0
 
@@ -153,7 +154,7 @@ def test_garch_path_matches_the_fit_at_refits_and_reuses_parameters_between(simu
     calls = []
     fc, notes = garch_forecast(h, 21, refits, A, np.full(h.n, 0.3), progress=lambda d, t, m: calls.append((d, t)))
     assert calls == [(1, 2), (2, 2)] and "refitted 2 times" in notes[0]
-    fit = fit_garch(h.take(np.arange(h.n) <= 400), "garch", horizons=(21,))
+    fit = fit_garch(h.take(np.arange(h.n) <= 400), "garch", GarchSettings(horizons=(21,)))
     assert fc.vol[400] == pytest.approx(fit.forward_vol(21), rel=1e-10)
     p = fit.params
     s2_next = fit.forward_vol(1) ** 2 / A  # variance of the return after bar 400
@@ -187,8 +188,8 @@ def test_json_shape():
 
 
 @pytest.mark.parametrize("kwargs, match", [
-    ({"days": 0}, "days must be at least 1"),
-    ({"days": 2.5}, "days must be a whole number, got 2.5"),
+    ({"days": 0}, "days must be a whole number of bars >= 1, got 0"),  # the one rule of volbench.validate
+    ({"days": 2.5}, "days must be a whole number of bars >= 1, got 2.5"),
     ({"days": 21, "step": 0}, "step must be at least 1"),
     ({"days": 21, "windows": ()}, "windows must list at least one window"),
     ({"days": 21, "windows": (1,)}, "window must be >= 2 bars, got 1"),

@@ -16,6 +16,7 @@ from volbench.models import fit_garch
 from volbench.pricing.bsm import bsm_greeks
 from volbench.pricing.cone import vol_cone
 from volbench.sample_quotes import QuoteParams, write_sample_quotes
+from volbench.settings import GarchSettings
 
 
 @pytest.fixture
@@ -84,7 +85,7 @@ def test_versus_history_uses_the_core_functions_on_each_expirys_trading_days(sam
     v = versus_history(surface, h)
     assert v.series == h.name and v.history_as_of == surface.as_of and v.notes == ()
     days = sorted(e.life.trading_days for e in surface.expiries)
-    fit = fit_garch(h, "garch", horizons=days)  # reference: the arch-based fit every command uses
+    fit = fit_garch(h, "garch", GarchSettings(horizons=days))  # reference: the arch-based fit every command uses
     cone = vol_cone(h, "close_to_close")
     for row, e in zip(v.rows, surface.expiries):
         n = e.life.trading_days

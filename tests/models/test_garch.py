@@ -15,6 +15,7 @@ from volbench.errors import VolbenchError
 from volbench.estimators import point_estimate
 from volbench.models import FALLBACK, MIN_RETURNS, fit_garch
 from volbench.models.checks import diagnose
+from volbench.settings import GarchSettings
 
 LN1E4 = math.log(1e4)
 
@@ -41,7 +42,7 @@ def test_parameter_recovery_on_arch_simulated_paths(arch_path, model, names, par
     # so each estimate lies within 4 reported standard errors of the truth (two-sided
     # probability of a miss about 6e-5 per parameter).
     h, _ = arch_path(model, params, 10_000, seed=2024, dist=dist)
-    fit = fit_garch(h, model, dist)
+    fit = fit_garch(h, model, GarchSettings(models=(model,), dist=dist))
     assert fit.converged and fit.fallback is None, fit.warnings
     truth = _decimal_truth(model, names, params)
     assert list(fit.params) == names
@@ -104,9 +105,9 @@ def test_multiplying_prices_by_a_constant_changes_nothing(arch_path, percent_his
 
 def test_egarch_uses_a_seeded_simulation_forecast(arch_path):
     h, _ = arch_path("egarch", [0.02, 0.02, 0.12, -0.05, 0.96], 2000, seed=3)
-    a = fit_garch(h, "egarch", seed=7, simulations=500)
-    b = fit_garch(h, "egarch", seed=7, simulations=500)
-    c = fit_garch(h, "egarch", seed=8, simulations=500)
+    a = fit_garch(h, "egarch", GarchSettings(seed=7, simulations=500))
+    b = fit_garch(h, "egarch", GarchSettings(seed=7, simulations=500))
+    c = fit_garch(h, "egarch", GarchSettings(seed=8, simulations=500))
     assert a.forecast_method == "simulation" and a.simulations == 500 and a.seed == 7
     np.testing.assert_array_equal(a.variance_path, b.variance_path)
     assert not np.array_equal(a.variance_path[1:], c.variance_path[1:])
@@ -128,7 +129,7 @@ def test_egarch_uses_a_seeded_simulation_forecast(arch_path):
 def test_information_criteria_follow_their_definitions(arch_path):
     # Akaike (1974): AIC = -2 loglik + 2k; Schwarz (1978): BIC = -2 loglik + k ln n.
     h, _ = arch_path("garch", [0.02, 0.05, 0.08, 0.88], 1500, seed=1)
-    fit = fit_garch(h, "garch", "t")
+    fit = fit_garch(h, "garch", GarchSettings(dist="t"))
     k = len(fit.params)
     assert fit.aic == pytest.approx(-2 * fit.loglik + 2 * k, rel=1e-12)
     assert fit.bic == pytest.approx(-2 * fit.loglik + k * math.log(fit.nobs), rel=1e-12)
@@ -153,7 +154,7 @@ def test_forward_vol_matches_the_term_structure_and_interpolates(arch_path):
 
 def test_as_dict_is_json_safe_with_the_issue_shape(arch_path, make_history):
     h, _ = arch_path("garch", [0.02, 0.05, 0.08, 0.88], 600, seed=13)
-    for fit in (fit_garch(h, "garch", horizons=(5, 21)), fit_garch(make_history(np.linspace(10, 11, 40)))):
+    for fit in (fit_garch(h, "garch", GarchSettings(horizons=(5, 21))), fit_garch(make_history(np.linspace(10, 11, 40)))):
         d = fit.as_dict()
         json.dumps(d, allow_nan=False)
         for key in ("model", "dist", "converged", "params", "std_errors", "loglik", "aic", "bic",
@@ -176,7 +177,7 @@ def test_thirty_bars_fall_back_to_ewma_and_say_how_many_are_needed(make_history)
     rng = np.random.default_rng(3)
     close = 100 * np.exp(np.cumsum(np.r_[0.0, rng.normal(0, 0.015, 29)]))
     h = make_history(close)
-    fit = fit_garch(h, "gjr", horizons=(5, 21, 63))
+    fit = fit_garch(h, "gjr", GarchSettings(horizons=(5, 21, 63)))
     assert fit.fallback == FALLBACK
     assert f"29 returns, at least {MIN_RETURNS} are needed" in fit.warnings[0]
     # RiskMetrics (1996) EWMA, lambda 0.94, seeded with the sample variance of the first 20
@@ -216,7 +217,7 @@ def test_integrated_paths_warn_and_fall_back_or_note_near_unit_persistence(arch_
 
 def test_non_convergence_is_reported_and_falls_back(arch_path):
     h, _ = arch_path("garch", [0.02, 0.05, 0.08, 0.88], 1000, seed=21)
-    fit = fit_garch(h, "garch", max_iterations=2)
+    fit = fit_garch(h, "garch", GarchSettings(max_iterations=2))
     assert fit.fitted and not fit.converged
     assert fit.fallback == FALLBACK
     assert any("the optimizer did not converge (arch flag 9: Iteration limit reached)" in w for w in fit.warnings)
@@ -263,8 +264,11 @@ def test_too_few_returns_for_any_volatility_raise(make_history):
     ({"max_iterations": 0}, "max_iterations must be a whole number >= 1 or None, got 0"),
 ])
 def test_bad_settings_are_rejected(make_history, kwargs, msg):
+    h = make_history(np.linspace(10, 12, 300))
+    model = kwargs.pop("model", "garch")
+    annualization = kwargs.pop("annualization", 252)
     with pytest.raises(VolbenchError, match=msg):
-        fit_garch(make_history(np.linspace(10, 12, 300)), **kwargs)
+        fit_garch(h, model, GarchSettings(models=("garch",), **kwargs), annualization=annualization)
 
 
 def test_an_unadjusted_split_gets_a_note_naming_its_date(arch_path, percent_history):
@@ -284,5 +288,8 @@ def test_an_unadjusted_split_gets_a_note_naming_its_date(arch_path, percent_hist
 def test_oversized_egarch_simulation_is_refused(make_history):
     h = make_history(np.linspace(10, 12, 300))
     with pytest.raises(VolbenchError, match=r"would simulate 100000 paths x 2520 bars, more than 20,000,000"):
-        fit_garch(h, "egarch", simulations=100_000, horizons=(2520,))
-    fit_garch(h, "garch", simulations=100_000, horizons=(2520,))  # nothing simulated: accepted
+        fit_garch(h, "egarch", GarchSettings(models=("garch",), simulations=100_000, horizons=(2520,)))
+    with pytest.raises(VolbenchError, match=r"the EGARCH forecast would simulate 100000 paths"):
+        GarchSettings(simulations=100_000, horizons=(2520,))  # every model, EGARCH among them
+    settings = GarchSettings(models=("garch",), simulations=100_000, horizons=(2520,))  # nothing simulated
+    fit_garch(h, "garch", settings)

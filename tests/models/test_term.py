@@ -8,6 +8,7 @@ from arch import arch_model
 
 from volbench.errors import VolbenchError
 from volbench.models import fit_garch, term
+from volbench.settings import GarchSettings
 
 HORIZONS = (1, 2, 5, 10, 21, 42, 63, 126, 252)
 
@@ -32,7 +33,7 @@ def test_closed_form_equals_average_of_arch_forecasts(arch_path, model, params, 
     # the per-bar path too (docs/METHODS.md, "GARCH and the vol over an option's life": h-step formula vs arch)
     np.testing.assert_allclose(term.garch_variance_path(fc[0], vl, p, 252), fc, rtol=1e-10)
     # and our fit reports the same term structure (same data, same optimizer), in decimals
-    fit = fit_garch(h, model, horizons=HORIZONS)
+    fit = fit_garch(h, model, GarchSettings(horizons=HORIZONS))
     assert fit.fallback is None
     np.testing.assert_allclose(fit.term_structure["vol"], np.sqrt(closed * 252) / 100, rtol=1e-8)
     np.testing.assert_allclose(fit.long_run_vol, np.sqrt(vl * 252) / 100, rtol=1e-8)
@@ -50,7 +51,7 @@ def test_hull_continuous_form_agrees_to_order_one_over_t(arch_path):
     cut = 1500 + int(np.argmin(rv[1500:])) + 20
     h = h.take(np.arange(h.n) <= cut)
     horizons = (5, 10, 21, 63, 252, 1000, 2000)
-    fit = fit_garch(h, "garch", horizons=horizons)
+    fit = fit_garch(h, "garch", GarchSettings(horizons=horizons))
     assert fit.fallback is None
     p = fit.persistence
     v0 = fit.variance_path[0]

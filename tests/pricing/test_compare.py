@@ -4,19 +4,17 @@ from __future__ import annotations
 
 import json
 import math
-import sys
-import types
-from types import SimpleNamespace
 
 import numpy as np
-import pandas as pd
 import pytest
 
+from volbench.candidates import Candidate, CandidateSet
 from volbench.errors import VolbenchError
 from volbench.estimators import point_estimate
 from volbench.pricing.bsm import bsm_greeks, bsm_price
 from volbench.pricing.compare import TABLE_COLUMNS, OptionSpec, compare, ordinal
 from volbench.pricing.cone import vol_cone
+from volbench.scaling import horizon_vol, scaling_check
 
 
 @pytest.fixture
@@ -31,7 +29,7 @@ def test_candidates_are_each_estimators_latest_vol_over_the_option_life(hist):
     for key, row in est.iterrows():
         assert row["vol"] == pytest.approx(point_estimate(hist, key, 30).vol, rel=1e-14)
         assert row["window"] == 30
-    assert c.window == 30 and c.unavailable == {"garch": "not requested", "scaling": "not requested"}
+    assert c.window == 30 and c.unavailable == {}  # no other source was given
     assert tuple(c.table.columns) == TABLE_COLUMNS
     assert c.table.iloc[0]["source"] == "pricing" and c.table.iloc[0]["vol"] == 0.25
     assert (c.candidates["source"] != "pricing").all() and len(c.candidates) == 6
@@ -131,66 +129,70 @@ def test_far_out_of_the_money_option_reading(hist):
     assert far.reading[0] == "strike 0.95 is 0.0826% of spot 1150; check that both are in the same units"
 
 
-def _fit(model, vol, **kw):
-    return SimpleNamespace(model=model, dist=kw.get("dist", "normal"), converged=kw.get("converged", True),
-                           fallback=kw.get("fallback"), persistence=kw.get("persistence", 0.95),
-                           forward_vol=kw.get("forward_vol", lambda days: vol))
+class Offers:
+    """A stand-in result that offers candidates through the protocol (what any source does)."""
+
+    def __init__(self, *candidates, missing=None, title="model fit", what="forecast"):
+        self.set = CandidateSet("model", tuple(candidates), missing or {}, title=title, what=what)
+        self.asked = []
+
+    def candidates(self, days):
+        self.asked.append(days)
+        return self.set
 
 
-def test_garch_comparison_stand_in(hist):
-    def broken(days):
-        raise VolbenchError("egarch: fit failed to converge")
-
-    garch = SimpleNamespace(fits=(_fit("garch", 0.21), _fit("gjr", 0.23, persistence=1.01),
-                                  _fit("egarch", None, forward_vol=broken),
-                                  _fit("figarch", None, forward_vol=lambda d: None)),
-                            preferred="gjr")
-    c = compare(hist, 0.25, 30, garch=garch)
-    g = c.table[c.table["source"] == "garch"].set_index("key")
-    assert list(g.index) == ["garch:garch", "garch:gjr"]
-    assert g.loc["garch:garch", "vol"] == 0.21 and g.loc["garch:garch", "label"] == "GARCH(1,1)"
-    assert g.loc["garch:gjr", "note"] == "forward vol over the option's life; preferred fit; persistence 1.010 >= 1"
-    assert g.loc["garch:gjr", "gap_points"] == pytest.approx(-2.0)
-    assert c.unavailable["garch:egarch"] == "egarch: fit failed to converge"
-    assert c.unavailable["garch:figarch"] == "no forward vol for 30 bars"
-    assert "garch" not in c.unavailable
-    assert "GJR-GARCH forward vol over 30 bars is 23.0%, 2.0 vol points below the pricing vol" in c.reading
+def test_sources_offer_candidates_through_the_protocol(hist):
+    src = Offers(Candidate("model", "model:a", "Model A", 0.21, window=30, note="forward vol"),
+                 Candidate("model", "model:b", "Model B", 0.23, window=30, headline=True, ci_low=0.2, ci_high=0.26),
+                 missing={"model:c": "fit failed to converge"})
+    c = compare(hist, 0.25, 30, sources=[src])
+    assert src.asked == [30]
+    g = c.table[c.table["source"] == "model"].set_index("key")
+    assert list(g.index) == ["model:a", "model:b"]
+    assert g.loc["model:a", "vol"] == 0.21 and g.loc["model:a", "note"] == "forward vol"
+    assert g.loc["model:b", "gap_points"] == pytest.approx(-2.0)
+    assert (g.loc["model:b", "ci_low"], g.loc["model:b", "ci_high"]) == (0.2, 0.26)
+    assert np.isnan(g.loc["model:a", "ci_low"])
+    assert c.unavailable["model:c"] == "fit failed to converge"
+    # the headline candidate is named in the reading, whatever produced it
+    assert "Model B forecast over 30 bars is 23.0%, 2.0 vol points below the pricing vol" in c.reading
 
 
-def test_single_garch_fit_stand_in(hist):
-    c = compare(hist, 0.25, 30, garch=_fit("gjr", 0.3, converged=False, fallback="EWMA", dist="t"))
-    row = c.table[c.table["source"] == "garch"].iloc[0]
-    # a fallback's number is never labelled with the bare model name
-    assert row["label"] == "GJR-GARCH (t) → EWMA fallback"
-    assert row["vol"] == 0.3 and row["note"] == "no usable forecast; forward vol from the fallback EWMA"
-    bad = compare(hist, 0.25, 30, garch=object())
-    assert bad.unavailable["garch"] == "object of type object has no GARCH fits or forward_vol"
+def test_a_fallback_headline_is_named_as_a_fallback(hist):
+    src = Offers(Candidate("model", "model:a", "Model A → EWMA fallback", 0.3, window=30, headline=True,
+                           fallback="EWMA (lambda 0.94), because: no convergence"), title="model fit")
+    c = compare(hist, 0.25, 30, sources=[src])
+    assert ("no model fit gave a usable forecast, so the forecast over 30 bars is a fallback's: 30.0% from "
+            "EWMA (lambda 0.94), because: no convergence; 5.0 vol points above the pricing vol") in c.reading
 
 
-def test_scaling_stand_in_through_module_horizon_vol(hist, monkeypatch):
-    fake = types.ModuleType("volbench.scaling")
-    fake.horizon_vol = lambda result, days: 0.2 if days <= 60 else None
-    monkeypatch.setitem(sys.modules, "volbench.scaling", fake)
-    result = SimpleNamespace(horizons=pd.DataFrame({"h": [1, 2, 5, 10, 20, 40, 60]}))
-    c = compare(hist, 0.25, 30, scaling=result)
+def test_a_missing_source_says_why_and_a_non_source_is_refused(hist):
+    c = compare(hist, 0.25, 30, sources=[CandidateSet.missing("scaling", "not requested")])
+    assert c.unavailable["scaling"] == "not requested"
+    with pytest.raises(VolbenchError, match="a comparison source must offer candidates\\(days\\), got object"):
+        compare(hist, 0.25, 30, sources=[object()])
+    with pytest.raises(VolbenchError, match="candidate 'x': vol must be a finite number > 0, got nan"):
+        Candidate("model", "x", "X", float("nan"))
+
+
+def test_real_scaling_result_offers_its_horizon_vol(hist):
+    result = scaling_check(hist)
+    c = compare(hist, 0.25, 20, sources=[result])
     row = c.table[c.table["source"] == "scaling"].iloc[0]
-    assert row["vol"] == 0.2 and row["label"] == "Scaling check horizon vol"
-    far = compare(hist, 0.25, 90, scaling=result)
-    assert far.unavailable["scaling"] == "option life of 90 bars is outside the scaling check's horizons (horizons 1 to 60 bars)"
+    assert row["vol"] == pytest.approx(horizon_vol(result, 20)) and row["label"] == "Scaling check horizon vol"
+    far = compare(hist, 0.25, 90, sources=[result])
+    kept = int(result.horizons["h"].max())  # horizons with too few periods are dropped
+    assert far.unavailable["scaling"] == ("option life of 90 bars is outside the scaling check's horizons "
+                                          f"(horizons 1 to {kept} bars)")
 
 
-def test_scaling_missing_module(hist, monkeypatch):
-    monkeypatch.setitem(sys.modules, "volbench.scaling", None)
-    c = compare(hist, 0.25, 30, scaling=SimpleNamespace())
-    assert c.unavailable["scaling"] == "scaling module not available in this build"
-
-
-def test_real_scaling_result_if_present(hist):
-    scaling = pytest.importorskip("volbench.scaling")
-    result = scaling.scaling_check(hist)
-    c = compare(hist, 0.25, 20, scaling=result)
-    row = c.table[c.table["source"] == "scaling"].iloc[0]
-    assert row["vol"] == pytest.approx(scaling.horizon_vol(result, 20))
+def test_the_ewma_note_follows_its_lambda(hist):
+    # half-life ln 0.5 / ln lambda (common practice, no source): 11.2 bars at 0.94, 22.8 at 0.97
+    c = compare(hist, 0.25, 30)
+    assert c.table.set_index("key").loc["ewma", "note"] == "all past returns, half-life 11.2 bars"
+    slow = compare(hist, 0.25, 30, estimator_options={"lam": 0.97})
+    assert slow.table.set_index("key").loc["ewma", "note"] == "all past returns, half-life 22.8 bars"
+    assert slow.table.set_index("key").loc["ewma", "vol"] != c.table.set_index("key").loc["ewma", "vol"]
 
 
 def test_missing_columns_and_short_history(make_history):
@@ -230,8 +232,8 @@ def test_validation(hist, kwargs, message):
 
 
 def test_as_dict_is_json_safe(hist):
-    garch = SimpleNamespace(fits=(_fit("garch", 0.21),), preferred="garch")
-    d = compare(hist, 0.25, 30, garch=garch).as_dict()
+    src = Offers(Candidate("model", "model:a", "Model A", 0.21, window=30, headline=True))
+    d = compare(hist, 0.25, 30, sources=[src]).as_dict()
     text = json.dumps(d, allow_nan=False)
     assert d["candidates"][0]["window"] is None and d["candidates"][1]["window"] == 30
     assert d["pricing"]["vega_point"] == pytest.approx(d["pricing"]["vega"] / 100)

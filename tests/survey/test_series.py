@@ -175,7 +175,7 @@ def test_settings_are_validated_once(tmp_path):
         SurveySettings(days=0)
     with pytest.raises(VolbenchError, match="window must be >= 2 bars, got 1"):
         SurveySettings(window=1)
-    with pytest.raises(VolbenchError, match="--pricing-vol must be a decimal below 5"):
+    with pytest.raises(VolbenchError, match="pricing vol must be a decimal below 5"):
         SurveySettings(pricing_vol=20)
     with pytest.raises(VolbenchError, match="unknown model 'arma'"):
         SurveySettings(garch_models=("arma",))

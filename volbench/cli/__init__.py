@@ -1,16 +1,16 @@
 """``volbench`` command line: a thin argparse front end over the core.
 
 Each sub-command lives in a module ``cmd_<name>.py`` in this package that defines
-``register(subparsers)``; :func:`main` discovers them, so adding a command touches no shared file.
-Exit codes: 0 success, 2 bad input (one line on stderr, no traceback), 1 internal error.
+``register(subparsers)``, and is listed once in :func:`command_modules` (a command = its file plus
+one registration line). Exit codes: 0 success, 2 bad input (one line on stderr, no traceback), 1
+internal error.
 """
 
 from __future__ import annotations
 
 import argparse
-import importlib
-import pkgutil
 import sys
+from types import ModuleType
 
 from volbench import __version__
 from volbench.errors import VolbenchError
@@ -25,6 +25,25 @@ class _Parser(argparse.ArgumentParser):
         raise SystemExit(f"{self.prog}: error: {message} (see '{self.prog} --help')")
 
 
+def command_modules() -> tuple[ModuleType, ...]:
+    """Every sub-command module, in help order (imported here, when the parser is built)."""
+    from volbench.cli import (
+        cmd_estimate,
+        cmd_export,
+        cmd_garch,
+        cmd_gui,
+        cmd_hindsight,
+        cmd_implied,
+        cmd_pricing,
+        cmd_realized,
+        cmd_scaling,
+        cmd_survey,
+    )
+
+    return (cmd_estimate, cmd_export, cmd_garch, cmd_gui, cmd_hindsight, cmd_implied, cmd_pricing, cmd_realized,
+            cmd_scaling, cmd_survey)
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(
         prog="volbench",
@@ -35,9 +54,8 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"volbench {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     sub.required = True
-    for info in sorted(pkgutil.iter_modules(__path__), key=lambda m: m.name):
-        if info.name.startswith("cmd_"):
-            importlib.import_module(f"{__name__}.{info.name}").register(sub)
+    for module in command_modules():
+        module.register(sub)
     return parser
 
 

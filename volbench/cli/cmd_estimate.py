@@ -7,20 +7,17 @@ import csv
 import sys
 
 from volbench.cli.common import (
-    add_annualization,
-    add_as_of,
     add_file_options,
     add_format,
     adjustments_line,
     load_from_args,
-    pct,
     print_json,
     render_table,
-    window_or_all,
     with_import,
 )
+from volbench.cli.options import add_estimation, settings_from_args
 from volbench.estimators import REGISTRY, estimate_all
-from volbench.types import check_window
+from volbench.format import pct
 
 
 def register(sub) -> None:
@@ -38,10 +35,7 @@ def register(sub) -> None:
                "(-3%% to -4%% at 500 trades); the intervals do not include this bias.",
     )
     add_file_options(p)
-    p.add_argument("--window", default="all", metavar="N|all", type=window_or_all,
-                   help="bars in the estimation window ending at the as-of date, or 'all' (default)")
-    add_annualization(p)
-    add_as_of(p, "last date of the window (default: last row of each file)")
+    add_estimation(p, window="all", as_of="last date of the window (default: last row of each file)")
     add_format(p, ("table", "json", "csv"))
     p.set_defaults(func=run_estimate)
 
@@ -59,9 +53,11 @@ def register(sub) -> None:
 
 
 def run_estimate(args: argparse.Namespace) -> int:
-    window = check_window(args.window, minimum=1)
-    histories = load_from_args(args)
-    reports = [estimate_all(h, window, as_of=args.as_of, annualization=args.annualization) for h in histories]
+    settings = settings_from_args(args)
+    e = settings.estimation
+    histories = load_from_args(args, settings)
+    reports = [estimate_all(h, e.window, as_of=e.as_of, annualization=e.annualization, confidence=e.confidence,
+                            **e.options) for h in histories]
     if args.format == "json":
         print_json({"series": [with_import(r.as_dict(), r.history) for r in reports]})
         return 0

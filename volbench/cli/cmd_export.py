@@ -5,19 +5,17 @@ from __future__ import annotations
 import argparse
 import sys
 
-from volbench import validate
-from volbench.cli.common import (
-    add_annualization,
-    add_as_of,
-    add_file_options,
-    import_options,
-    load_from_args,
-    window_or_all,
+from volbench.cli.common import add_file_options, load_from_args
+from volbench.cli.options import (
+    add_cone,
+    add_estimation,
+    add_garch,
+    add_option,
+    add_scaling,
+    settings_from_args,
 )
-from volbench.errors import VolbenchError
 from volbench.export import FORMATS, build_bundle, export_format, write_export
 from volbench.export.atomic import check_destination
-from volbench.types import check_window
 
 
 def register(sub) -> None:
@@ -34,61 +32,22 @@ def register(sub) -> None:
     add_file_options(p)
     p.add_argument("--to", required=True, metavar="PATH",
                    help=f"output file; its suffix picks the format ({', '.join(FORMATS)})")
-    p.add_argument("--window", default="all", metavar="N|all", type=window_or_all,
-                   help="bars in the estimation window ending at the as-of date, or 'all' (default)")
-    add_as_of(p, "last date used by every table (default: last row of each file)")
-    add_annualization(p)
-    g = p.add_argument_group("pricing vol comparison (needs both --pricing-vol and --days)")
-    g.add_argument("--pricing-vol", type=validate.pricing_vol, default=None, metavar="V",
-                   help="proposed annualized vol as a decimal below 5, e.g. 0.25")
-    g.add_argument("--days", type=validate.days, default=None, metavar="D", help="option life in bars")
-    g.add_argument("--strike", type=float, default=None, metavar="K", help="strike (default: at the money)")
-    g.add_argument("--spot", type=float, default=None, metavar="S", help="spot (default: last close)")
-    g.add_argument("--rate", type=float, default=0.0, metavar="R",
-                   help="continuously compounded rate as a decimal (default 0)")
-    g.add_argument("--dividend-yield", type=float, default=0.0, metavar="Q",
-                   help="continuous dividend yield as a decimal (default 0)")
-    g.add_argument("--type", dest="kind", choices=("call", "put"), default="call", help="option type (default call)")
+    add_estimation(p, window="all", as_of="last date used by every table (default: last row of each file)")
+    add_option(p, required=False, title="pricing vol comparison (needs both --pricing-vol and --days)")
     s = p.add_argument_group("sections")
-    s.add_argument("--cone-estimator", default="close_to_close", metavar="KEY", type=validate.estimator,
-                   help="estimator of the volatility cone (default close_to_close)")
-    s.add_argument("--with-garch", action="store_true",
-                   help="add GARCH, GJR and EGARCH fits (takes a few seconds per series)")
-    s.add_argument("--no-scaling", action="store_true", help="leave out the Brownian-scaling check")
+    add_cone(s)
+    add_garch(s, switch="--with-garch", help_switch="add GARCH, GJR and EGARCH fits (takes a few seconds per series)")
+    add_scaling(s, switch="--no-scaling")
     p.add_argument("--force", action="store_true", help="replace the output file if it exists")
     p.set_defaults(func=run_export)
-
-
-def _option_args(args: argparse.Namespace) -> dict | None:
-    given = {k: getattr(args, k) for k in ("strike", "spot") if getattr(args, k) is not None}
-    changed = [f"--{k.replace('_', '-')}" for k, d in (("rate", 0.0), ("dividend_yield", 0.0)) if getattr(args, k) != d]
-    if args.kind != "call":
-        changed.append("--type")
-    if args.pricing_vol is None and args.days is None:
-        extra = [f"--{k}" for k in given] + changed
-        if extra:
-            raise VolbenchError(f"{', '.join(extra)}: option settings apply only to a comparison; "
-                                "also give --pricing-vol and --days")
-        return None
-    if args.pricing_vol is None or args.days is None:
-        missing = "--days (the option's life in bars)" if args.days is None else "--pricing-vol (e.g. 0.25)"
-        raise VolbenchError(f"a comparison needs both --pricing-vol and --days; missing {missing}")
-    return {**given, "rate": args.rate, "dividend_yield": args.dividend_yield, "kind": args.kind}
 
 
 def run_export(args: argparse.Namespace) -> int:
     fmt = export_format(args.to)  # fail fast, before any work
     target = check_destination(args.to, overwrite=args.force)
-    window = check_window(args.window, minimum=1)
-    option = _option_args(args)
-    histories = load_from_args(args)
-    bundle = build_bundle(
-        histories, window=window, annualization=args.annualization, as_of=args.as_of,
-        pricing_vol=args.pricing_vol, days=args.days, option=option,
-        cone_estimator=args.cone_estimator, include_scaling=not args.no_scaling,
-        include_garch=args.with_garch,
-        import_settings=import_options(args).as_dict(),
-    )
+    settings = settings_from_args(args)
+    histories = load_from_args(args, settings)
+    bundle = build_bundle(histories, settings)
     path = write_export(target, bundle, overwrite=args.force)
     if fmt == ".csv":
         what = f"estimates table, {len(bundle.tables['estimates'])} rows"

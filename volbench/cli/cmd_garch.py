@@ -6,31 +6,17 @@ import argparse
 import math
 import sys
 
-from volbench import validate
 from volbench.cli.common import (
-    add_annualization,
     add_file_options,
     add_format,
     load_from_args,
-    parse_int_list,
-    pct,
     print_json,
     render_table,
     with_import,
 )
-from volbench.models import (
-    DEFAULT_SEED,
-    DEFAULT_SIMULATIONS,
-    DEFAULT_TERM_HORIZONS,
-    DISTS,
-    MEANS,
-    MODELS,
-    GarchComparison,
-    GarchFit,
-    fit_many,
-)
-from volbench.models.compare import check_models
-from volbench.models.garch import DIST_LABELS, check_settings
+from volbench.cli.options import add_estimation, add_garch, settings_from_args
+from volbench.format import number, pct
+from volbench.models import DIST_REGISTRY, GarchComparison, GarchFit, fit_many
 
 PARALLEL_FROM = 10
 """More series than this are fitted in worker processes unless --processes says otherwise."""
@@ -39,7 +25,8 @@ PARALLEL_FROM = 10
 def register(sub) -> None:
     p = sub.add_parser(
         "garch", help="GARCH-family fits and forward vols over an option's life",
-        description="Fit GARCH(1,1), GJR-GARCH(1,1,1) and/or EGARCH(1,1) to each series' close-to-close "
+        description="Fit GARCH(1,1), GJR-GARCH(1,1,1) and/or EGARCH(1,1) (the registered GARCH-type models) "
+                    "to each series' close-to-close "
                     "log returns (maximum likelihood, via the arch library), rank them by BIC, and show "
                     "the forward vol for each option life: the annualized square root of the average "
                     "expected variance over the next T bars. Fits that cannot be trusted (no convergence, "
@@ -48,19 +35,8 @@ def register(sub) -> None:
         epilog="Estimates are statistical and carry model risk; they are not advice.",
     )
     add_file_options(p)
-    p.add_argument("--model", type=validate.models, default="all", metavar="|".join([*MODELS, "all"]),
-                   help="model to fit, or all three ranked by BIC (default all)")
-    p.add_argument("--dist", choices=list(DISTS), default="normal",
-                   help="innovation distribution: normal or Student-t (default normal)")
-    p.add_argument("--mean", choices=list(MEANS), default="constant",
-                   help="mean return: constant (estimated) or zero (default constant)")
-    p.add_argument("--horizons", default=",".join(map(str, DEFAULT_TERM_HORIZONS)), metavar="LIST",
-                   help="option lives in bars for the forward vol, comma separated (default %(default)s)")
-    add_annualization(p)
-    p.add_argument("--seed", type=int, default=DEFAULT_SEED, metavar="N",
-                   help="seed of the EGARCH simulation forecast (default %(default)s)")
-    p.add_argument("--simulations", type=int, default=DEFAULT_SIMULATIONS, metavar="N",
-                   help="paths of the EGARCH simulation forecast (default %(default)s)")
+    add_garch(p, full=True)
+    add_estimation(p)
     p.add_argument("--processes", type=int, default=None, metavar="N",
                    help=f"worker processes (default: one per CPU when more than {PARALLEL_FROM} series, "
                         "else 1: starting workers costs a few seconds)")
@@ -69,22 +45,20 @@ def register(sub) -> None:
 
 
 def run_garch(args: argparse.Namespace) -> int:
-    horizons = parse_int_list(args.horizons, "horizons")
-    models = check_models(args.model)
-    settings = check_settings(dist=args.dist, mean=args.mean, horizons=horizons, annualization=args.annualization,
-                              seed=args.seed, simulations=args.simulations)
-    histories = load_from_args(args)
+    settings = settings_from_args(args)
+    histories = load_from_args(args, settings)
     processes = args.processes
     if processes is None:  # worker start-up (imports) costs seconds: only worth it for many series
         processes = None if len(histories) > PARALLEL_FROM else 1
+    garch = settings.garch.with_changes(processes=processes)
     show = len(histories) > 1 and sys.stderr.isatty()
 
     def progress(done: int, total: int, name: str) -> None:
         sys.stderr.write(f"\rfitted {done}/{total}: {name[:40]:<40}")
         sys.stderr.flush()
 
-    results = fit_many(histories, models=models, processes=processes, progress=progress if show else None,
-                       **settings)
+    results = fit_many(histories, garch, annualization=settings.annualization,
+                       progress=progress if show else None)
     if show:
         sys.stderr.write("\n")
     if args.format == "json":
@@ -94,19 +68,13 @@ def run_garch(args: argparse.Namespace) -> int:
         if i:
             print()
         print(f"{h.name}  ({h.source.name if h.source else ''}: {h.n} rows, {h.first_date} to {h.last_date})")
-        _print_comparison(r, settings)
+        _print_comparison(r, settings.annualization)
     print("\nForward vol: annualized sqrt of the average expected variance over bars 1..T after the last bar.")
     if any(f.fallback for r in results for f in r.fits):
         print("* fallback (EWMA, or the close-to-close vol when the fit finds no clustering), flat over every "
               "horizon; the warnings say why.")
     print("Estimates are statistical and carry model risk; they are not advice.")
     return 0
-
-
-def _num(x: float, digits: int = 4) -> str:
-    if x is None or not math.isfinite(x):
-        return "n/a"
-    return f"{x:.{digits}f}" if abs(x) >= 0.01 or x == 0 else f"{x:.3e}"
 
 
 def _status(f: GarchFit, preferred: str | None) -> str:
@@ -118,16 +86,16 @@ def _status(f: GarchFit, preferred: str | None) -> str:
     return tag
 
 
-def _print_comparison(r: GarchComparison, settings: dict) -> None:
+def _print_comparison(r: GarchComparison, annualization: float) -> None:
     first = r.fits[0]
-    print(f"{first.nobs} returns, {DIST_LABELS[first.dist]} innovations, {first.mean} mean, "
-          f"{settings['annualization']:g} bars/year, forecast from {first.as_of}")
+    print(f"{first.nobs} returns, {DIST_REGISTRY[first.dist].label} innovations, {first.mean} mean, "
+          f"{annualization:g} bars/year, forecast from {first.as_of}")
     best = min((f.bic for f in r.fits if math.isfinite(f.bic)), default=float("nan"))
     rows = []
     for f in r.fits:
         dbic = f.bic - best if math.isfinite(f.bic) else float("nan")
         hl = "n/a" if not math.isfinite(f.half_life) else f"{f.half_life:.1f}"
-        rows.append([f.label, _num(f.loglik, 1), _num(f.bic, 1), _num(dbic, 1), _num(f.persistence),
+        rows.append([f.label, number(f.loglik, 1), number(f.bic, 1), number(dbic, 1), number(f.persistence),
                      hl, pct(f.long_run_vol), pct(f.next_bar_vol), _status(f, r.preferred)])
     print(render_table(["model", "loglik", "BIC", "dBIC", "persistence", "half-life (bars)", "long-run vol",
                         "next-bar vol", "status"], rows, "lrrrrrrrl"))
@@ -139,7 +107,7 @@ def _print_comparison(r: GarchComparison, settings: dict) -> None:
     if fitted:
         print("\nparameters in decimal units (mu, omega per bar), robust standard errors in brackets:")
         for f in fitted:
-            items = "  ".join(f"{k} {_num(v)} ({_num(f.std_errors.get(k, float('nan')))})" for k, v in f.params.items())
+            items = "  ".join(f"{k} {number(v)} ({number(f.std_errors.get(k, float('nan')))})" for k, v in f.params.items())
             print(f"  {f.label}: {items}")
     print(f"\n{r.message[0].upper()}{r.message[1:]}.")
     for title, attr in (("warnings", "warnings"), ("notes", "notes")):

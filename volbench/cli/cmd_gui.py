@@ -7,9 +7,10 @@ import ctypes.util
 import os
 import sys
 from collections.abc import Callable
-from pathlib import Path
 
 from volbench.cli import EXIT_BAD_INPUT
+from volbench.gui import qt_problem
+from volbench.samples import sample_files
 
 HEADLESS_PLATFORMS = ("offscreen", "minimal")
 
@@ -64,25 +65,17 @@ def display_problem(environ=None, platform: str | None = None,
     return None
 
 
-def default_files() -> list[str]:
-    """The bundled sample files: ./sample_prices, else the one beside the package."""
-    for folder in (Path.cwd() / "sample_prices", Path(__file__).resolve().parents[2] / "sample_prices"):
-        files = sorted(folder.glob("*.csv"))
-        if files:
-            return [str(f) for f in files]
-    return []
-
-
 def run_gui(args: argparse.Namespace) -> int:
     problem = display_problem()
     if problem:
         print(f"volbench: {problem}, so the window cannot open; use the command line instead, "
               "e.g. 'volbench estimate FILE...'", file=sys.stderr)
         return EXIT_BAD_INPUT
-    try:
-        from volbench.gui.app import run
-    except ImportError as exc:
-        print(f"volbench: the window needs PySide6 and pyqtgraph, which cannot be imported ({exc}); "
+    qt = qt_problem()
+    if qt:
+        print(f"volbench: the window needs PySide6 and pyqtgraph, which cannot be imported ({qt}); "
               "use the command line instead, e.g. 'volbench estimate FILE...'", file=sys.stderr)
         return EXIT_BAD_INPUT
-    return run(args.files or default_files())
+    from volbench.gui.app import run  # Qt is imported only when the window opens
+
+    return run(args.files or sample_files())

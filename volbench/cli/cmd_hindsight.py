@@ -39,7 +39,7 @@ def register(sub) -> None:
                "model risk; they are not advice.",
     )
     add_file_options(p)
-    p.add_argument("--days", type=int, required=True, metavar="N", help="bars in each forecast period (the option's life)")
+    p.add_argument("--days", required=True, metavar="N", help="bars in each forecast period (the option's life)")
     g = p.add_mutually_exclusive_group()
     g.add_argument("--window", metavar="W", default=None, help="one estimator window in bars")
     g.add_argument("--windows", metavar="LIST", default=None,

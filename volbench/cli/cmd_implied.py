@@ -6,10 +6,11 @@ import argparse
 import math
 import sys
 
-from volbench.cli.common import pct, print_json, render_table
+from volbench.cli.common import print_json, render_table
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY
-from volbench.models import DISTS, MODEL_LABELS
+from volbench.format import number, pct
+from volbench.models import DIST_REGISTRY, MODEL_REGISTRY
 from volbench.pricing.bsm import check_rate
 from volbench.pricing.daycount import DAY_BASES, DEFAULT_DAY_BASIS, option_life, read_holidays
 from volbench.pricing.implied import solve_implied_vol
@@ -63,9 +64,9 @@ def register(sub) -> None:
     many.add_argument("--series", metavar="NAME", default=None, help="series in --prices when it holds several")
     many.add_argument("--date-format", metavar="FMT", default=None,
                       help="strftime format of the quotes' expiry column when it is not ISO")
-    many.add_argument("--model", choices=list(MODEL_LABELS), default="garch",
+    many.add_argument("--model", choices=list(MODEL_REGISTRY), default="garch",
                       help="GARCH-family model for the forward vol (default garch)")
-    many.add_argument("--dist", choices=list(DISTS), default="normal",
+    many.add_argument("--dist", choices=list(DIST_REGISTRY), default="normal",
                       help="innovation distribution of the model (default normal)")
     many.add_argument("--cone-estimator", default="close_to_close", metavar="KEY",
                       help="estimator of the cone the implied vol is placed in (default close_to_close)")
@@ -85,12 +86,6 @@ def _number(text, what: str) -> float:
     if not math.isfinite(x):
         raise VolbenchError(f"{what} must be a finite number, got {text!r}")
     return x
-
-
-def _f(x, digits: int = 4) -> str:
-    if x is None or not math.isfinite(x):
-        return "n/a"
-    return f"{x:.{digits}f}"
 
 
 def _holidays(args):
@@ -151,8 +146,8 @@ def _run_single(args, rate: float, q: float) -> int:
               f"{life.trading_days} trading days")
         for note in life.notes:
             print(f"note: {note}")
-    rows = [["implied vol", pct(res.implied_vol, 4)], ["price check", _f(res.price_check, 6)],
-            ["vega (per 1.00 vol)", _f(res.vega)], ["vega (per vol point)", _f(res.vega / 100)],
+    rows = [["implied vol", pct(res.implied_vol, 4)], ["price check", number(res.price_check, 6)],
+            ["vega (per 1.00 vol)", number(res.vega, 4)], ["vega (per vol point)", number(res.vega / 100, 4)],
             ["status", res.status], ["no-arbitrage bounds", f"{res.lower_bound:.6g} < {res.kind} < {res.upper_bound:.6g}"]]
     print(render_table(["", ""], rows, "lr"))
     return 0

@@ -3,36 +3,32 @@
 from __future__ import annotations
 
 import argparse
-import importlib
 import math
-from dataclasses import replace
 
-from volbench import validate
+from volbench import analysis, validate
 from volbench.cli.common import (
-    add_annualization,
     add_file_options,
     add_format,
-    end_text,
     load_from_args,
-    parse_int_list,
-    pct,
     print_json,
     render_table,
-    start_text,
     with_import,
+)
+from volbench.cli.options import (
+    add_cone,
+    add_estimation,
+    add_garch,
+    add_option,
+    add_scaling,
+    settings_from_args,
 )
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY
+from volbench.format import number, pct
 from volbench.pricing.bsm import bsm_greeks, check_rate
-from volbench.pricing.compare import OptionSpec, compare
-from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, PERCENTILES, vol_cone
-from volbench.pricing.promise import promises_for
+from volbench.pricing.cone import PERCENTILES
 
-PROMISE_KEYS = ("bands", "bands_by_candidate", "band_scores", "straddle", "straddle_by_candidate", "breakeven",
-                "breakeven_by_candidate")
-"""Price-promise fields placed at the top level of ``compare --format json``; the rest go under price_promise."""
 CAUTION = "Estimates are statistical and carry model risk; they are not advice."
-NOT_IN_BUILD = "not available in this build"
 
 
 def register(sub) -> None:
@@ -43,17 +39,8 @@ def register(sub) -> None:
                     "and how many overlapping and independent windows stand behind each column.",
     )
     add_file_options(c)
-    c.add_argument("--estimator", default="close_to_close", metavar="KEY", type=validate.estimator,
-                   help=f"estimator (default close_to_close; one of: {', '.join(REGISTRY)})")
-    c.add_argument("--windows", default=",".join(map(str, DEFAULT_CONE_WINDOWS)), metavar="W,W,...",
-                   help="window lengths in bars (default %(default)s)")
-    c.add_argument("--start", metavar="YYYY-MM-DD", default=None, type=start_text,
-                   help="first date of the range (default: first row)")
-    c.add_argument("--end", metavar="YYYY-MM-DD", default=None, type=end_text,
-                   help="last date of the range (default: last row); a date outside the file's range is refused")
-    c.add_argument("--hodges-tompkins", action="store_true",
-                   help="widen each column's spread for overlapping windows (Hodges & Tompkins 2002)")
-    add_annualization(c)
+    add_cone(c, flag="--estimator", windows=True, date_range=True, hodges_tompkins=True)
+    add_estimation(c)
     add_format(c)
     c.set_defaults(func=run_cone)
 
@@ -61,26 +48,17 @@ def register(sub) -> None:
         "compare", help="set a proposed pricing vol against the history and reprice the option",
         description="Places the pricing vol in the volatility cone at the option's life, lists every "
                     "estimator's latest vol over that many bars (plus GARCH and the scaling check on "
-                    "request) with the gap in vol points, and reprices the option at each vol with "
-                    "Black-Scholes-Merton.",
+                    "request) with the gap in vol points, reprices the option at each vol with "
+                    "Black-Scholes-Merton, and checks what each vol promises about the price (bands, "
+                    "straddle, breakeven) against the history's moves.",
     )
     add_file_options(m, many=False)
     m.add_argument("--series", metavar="NAME", default=None, help="series to use when FILE holds several")
-    m.add_argument("--pricing-vol", required=True, metavar="V", type=validate.pricing_vol,
-                   help="proposed vol as a decimal below 5, e.g. 0.25")
-    m.add_argument("--days", required=True, metavar="N", type=validate.days, help="bars to expiry, e.g. 30")
-    m.add_argument("--strike", type=float, default=None, metavar="K", help="strike (default: at the money)")
-    m.add_argument("--spot", type=float, default=None, metavar="S", help="spot (default: last close)")
-    m.add_argument("--rate", default="0", metavar="R", help="risk-free rate, continuous, decimal (default 0)")
-    m.add_argument("--dividend-yield", default="0", metavar="Q", help="dividend yield, continuous, decimal (default 0)")
-    m.add_argument("--type", dest="kind", choices=["call", "put"], default="call", help="option type (default call)")
-    m.add_argument("--window", default=None, metavar="N", type=lambda v: validate.window(v, minimum=2),
-                   help="estimator window in bars (default: --days)")
-    m.add_argument("--cone-estimator", default="close_to_close", metavar="KEY", type=validate.estimator,
-                   help="estimator of the cone the pricing vol is placed in (default close_to_close)")
-    m.add_argument("--with-garch", action="store_true", help="add GARCH-family forward vols for the option's life")
-    m.add_argument("--with-scaling", action="store_true", help="add the scaling check's horizon vol")
-    add_annualization(m)
+    add_option(m, required=True, window=True)
+    add_cone(m)
+    add_garch(m, switch="--with-garch")
+    add_scaling(m, switch="--with-scaling")
+    add_estimation(m)
     add_format(m)
     m.set_defaults(func=run_compare)
 
@@ -112,20 +90,6 @@ def _number(text: str, what: str) -> float:
     return x
 
 
-def _f(x: float, sign: str = "") -> str:
-    """Four decimals; tiny non-zero values in scientific form so they never print as 0.0000."""
-    if x is None or not math.isfinite(x):
-        return "n/a"
-    x = x + 0.0  # no "-0.0000"
-    if x != 0 and abs(x) < 5e-5:
-        return f"{x:{sign}.2e}"
-    return f"{x:{sign}.4f}"
-
-
-def _signed(x: float) -> str:
-    return _f(x, "+")
-
-
 def _findings_hint(h) -> str:
     n = sum(f.severity != "info" for f in h.findings)
     return f"; {n} data-quality finding{'s' if n != 1 else ''}: run 'volbench check'" if n else ""
@@ -133,11 +97,9 @@ def _findings_hint(h) -> str:
 
 # ---------------------------------------------------------------------------- cone
 def run_cone(args: argparse.Namespace) -> int:
-    windows = parse_int_list(args.windows, "--windows")
-    histories = load_from_args(args)
-    cones = [vol_cone(h, args.estimator, windows, start=args.start, end=args.end,
-                      annualization=args.annualization, hodges_tompkins=args.hodges_tompkins)
-             for h in histories]
+    settings = settings_from_args(args)
+    histories = load_from_args(args, settings)
+    cones = [analysis.cone_for(h, settings) for h in histories]
     if args.format == "json":
         print_json({"series": [with_import(c.as_dict(), h) for h, c in zip(histories, cones)]})
         return 0
@@ -184,65 +146,28 @@ def _pick_series(histories, name):
     raise VolbenchError(f"no series {name!r} in the file; it holds: {', '.join(h.name for h in histories)}")
 
 
-def _optional_results(args, history):
-    """GARCH and scaling results on request, with the reason when they cannot be had."""
-    results: dict[str, object] = {}
-    reasons: dict[str, str] = {}
-    wanted = (("garch", args.with_garch, "volbench.models", "fit_models"),
-              ("scaling", args.with_scaling, "volbench.scaling", "scaling_check"))
-    for key, asked, module, function in wanted:
-        if not asked:
-            continue
-        try:
-            run = getattr(importlib.import_module(module), function)
-        except ImportError:
-            reasons[key] = NOT_IN_BUILD
-            continue
-        try:
-            results[key] = run(history, annualization=args.annualization)
-        except VolbenchError as exc:
-            reasons[key] = str(exc)
-    return results.get("garch"), results.get("scaling"), reasons
-
-
 def run_compare(args: argparse.Namespace) -> int:
-    pv, days, window = args.pricing_vol, args.days, args.window
-    option = OptionSpec(strike=args.strike, rate=check_rate(_number(args.rate, "--rate"), "--rate"),
-                        dividend_yield=check_rate(_number(args.dividend_yield, "--dividend-yield"),
-                                                  "--dividend-yield"),
-                        kind=args.kind, spot=args.spot)
-    history = _pick_series(load_from_args(args), args.series)
-    garch, scaling, reasons = _optional_results(args, history)
-    comp = compare(history, pv, days, option=option, annualization=args.annualization, window=window,
-                   garch=garch, scaling=scaling, cone_estimator=args.cone_estimator)
-    try:
-        promises = promises_for(comp, history)
-    except VolbenchError as exc:
-        promises, reasons = None, {**reasons, "bands": str(exc)}
-    if reasons:
-        comp = replace(comp, unavailable={**comp.unavailable, **reasons})
+    settings = settings_from_args(args)
+    history = _pick_series(load_from_args(args, settings), args.series)
+    comp = analysis.comparison_for(history, settings)
     if args.format == "json":
-        out = with_import(comp.as_dict(), history)
-        if promises is not None:
-            p = promises.as_dict()
-            out.update({k: p.pop(k) for k in PROMISE_KEYS})
-            out["price_promise"] = p
-        print_json(out)
+        print_json(with_import(comp.as_dict(), history))
         return 0
     h = history
     atm = " (at the money)" if math.isclose(comp.strike, comp.spot) else ""
     print(f"{h.name}  as of {comp.as_of}  ({h.source.name if h.source else ''}: {h.n} rows"
           f", flagged rows {'excluded' if h.exclude_flagged else 'kept'}{_findings_hint(h)})")
     print(f"{comp.kind} {comp.days} bars = {comp.years:.4f} years at {comp.annualization:g} bars/year; "
-          f"spot {comp.spot:g}{' (last close)' if args.spot is None else ''}, strike {comp.strike:g}{atm}, "
+          f"spot {comp.spot:g}{' (last close)' if settings.option.spot is None else ''}, strike {comp.strike:g}{atm}, "
           f"rate {pct(comp.rate)}, dividend yield {pct(comp.dividend_yield)}")
     print()
     rows = []
     for r in comp.table.itertuples(index=False):
         is_p = r.source == "pricing"
-        rows.append([r.label, pct(r.vol), "" if is_p else f"{r.gap_points:+.2f}", _f(r.price),
-                     "" if is_p else _signed(r.price_diff), "" if is_p else _signed(r.vega_approx_diff),
-                     _f(r.vega_point), r.note])
+        rows.append([r.label, pct(r.vol), "" if is_p else f"{r.gap_points:+.2f}", number(r.price),
+                     "" if is_p else number(r.price_diff, signed=True),
+                     "" if is_p else number(r.vega_approx_diff, signed=True),
+                     number(r.vega_point), r.note])
     print(render_table(["vol source", "vol", "gap (pts)", "price", "price diff", "vega approx", "vega/pt", "note"],
                        rows, "lrrrrrrl"))
     print(f"estimators over the last {comp.window} bars; gap = candidate - pricing vol; price diff = exact "
@@ -263,9 +188,9 @@ def run_compare(args: argparse.Namespace) -> int:
     print()
     if "cone" in missing:
         print(f"cone: not available ({missing['cone']})")
-    for line in comp.reading + (() if promises is None else promises.reading):
+    for line in comp.full_reading:
         print(f"- {line}")
-    for line in () if promises is None else promises.warnings:
+    for line in comp.caveats:
         print(f"note: {line}")
     print(f"\n{CAUTION}")
     return 0
@@ -295,6 +220,6 @@ def run_price(args: argparse.Namespace) -> int:
     names = [("price", "price"), ("delta", "delta"), ("gamma", "gamma"), ("vega", "vega (per 1.00 vol)"),
              ("vega_point", "vega (per vol point)"), ("theta", "theta (per year)"),
              ("theta_day", "theta (per calendar day)"), ("rho", "rho (per 1.00 rate)")]
-    rows = [[label, _f(getattr(out["call"], k)), _f(getattr(out["put"], k))] for k, label in names]
+    rows = [[label, number(getattr(out["call"], k)), number(getattr(out["put"], k))] for k, label in names]
     print(render_table(["", "call", "put"], rows, "lrr"))
     return 0

@@ -11,10 +11,10 @@ from volbench.cli.common import (
     add_format,
     load_from_args,
     parse_int_list,
-    pct,
     print_json,
     render_table,
 )
+from volbench.format import number, p_value, pct
 from volbench.intraday.jumps import JUMP_ALPHA
 from volbench.intraday.report import RealizedReport, realized_report
 from volbench.intraday.sessions import format_interval
@@ -68,16 +68,6 @@ def run_realized(args: argparse.Namespace) -> int:
     return 0
 
 
-def _f(x, digits: int = 2) -> str:
-    return "n/a" if x is None or not math.isfinite(x) else f"{x:.{digits}f}"
-
-
-def _p(x) -> str:
-    if x is None or not math.isfinite(x):
-        return "n/a"
-    return "<0.001" if x < 0.001 else f"{x:.3f}"
-
-
 def render_report(r: RealizedReport) -> str:
     """Plain-text report of one series."""
     h, lay = r.history, r.layout
@@ -122,7 +112,7 @@ def render_report(r: RealizedReport) -> str:
         out.append(f"Continuity check: {c.label}, jump days at the {c.alpha:.0%} level")
         jd = c.jump_days
         if len(jd):
-            out.append(render_table(["date", "z", "p"], [[d.strftime("%Y-%m-%d"), _f(z), _p(p)] for d, z, p in
+            out.append(render_table(["date", "z", "p"], [[d.strftime("%Y-%m-%d"), number(z, 2), p_value(p)] for d, z, p in
                                                          zip(jd["date"], jd["z"], jd["p_value"])], "lrr"))
         else:
             out.append("no jump days")
@@ -130,7 +120,7 @@ def render_report(r: RealizedReport) -> str:
                    f"at least one {c.family_false_alarm_rate:.0%}; jumps carry {c.jump_share:.1%} of total variance")
         out += [f"note: {n}" for n in c.notes]
         v = c.verdict
-        out.append(f"  continuous paths: {v.status.upper()}  (statistic {_f(v.statistic)}, p {_p(v.p_value)})")
+        out.append(f"  continuous paths: {v.status.upper()}  (statistic {number(v.statistic, 2)}, p {p_value(v.p_value)})")
         out.append(f"    {v.message}")
     if r.har is not None:
         hf = r.har

@@ -3,22 +3,18 @@
 from __future__ import annotations
 
 import argparse
-import math
 
-from volbench import validate
 from volbench.cli.common import (
-    add_annualization,
     add_file_options,
     add_format,
     load_from_args,
-    parse_int_list,
-    pct,
     print_json,
     render_table,
     with_import,
 )
-from volbench.scaling import DEFAULT_HORIZONS, ScalingResult, scaling_check
-from volbench.scaling.check import check_alpha
+from volbench.cli.options import add_estimation, add_scaling, settings_from_args
+from volbench.format import number, p_value, pct
+from volbench.scaling import ScalingResult, scaling_check
 
 _LABELS = {
     "variance_proportional_to_horizon": "variance proportional to horizon",
@@ -44,20 +40,17 @@ def register(sub) -> None:
                "one non-consistent verdict by chance. Statistical evidence, not advice.",
     )
     add_file_options(p)
-    p.add_argument("--horizons", default=",".join(str(h) for h in DEFAULT_HORIZONS), metavar="H,H,...",
-                   help="horizons in bars (default %(default)s; 1 is always included as the base)")
-    p.add_argument("--alpha", type=validate.significance, default=0.05, metavar="P",
-                   help="significance level of the verdicts, between 0 and 0.5 (default %(default)s)")
-    add_annualization(p)
+    add_scaling(p, full=True)
+    add_estimation(p)
     add_format(p)
     p.set_defaults(func=run_scaling)
 
 
 def run_scaling(args: argparse.Namespace) -> int:
-    horizons = parse_int_list(args.horizons, "horizons")
-    alpha = check_alpha(args.alpha)
-    histories = load_from_args(args)
-    results = [scaling_check(h, horizons, alpha=alpha, annualization=args.annualization) for h in histories]
+    settings = settings_from_args(args)
+    s = settings.scaling
+    histories = load_from_args(args, settings)
+    results = [scaling_check(h, s.horizons, alpha=s.alpha, annualization=settings.annualization) for h in histories]
     if args.format == "json":
         print_json({"series": [with_import(r.as_dict(), h) for h, r in zip(histories, results)]})
         return 0
@@ -67,16 +60,6 @@ def run_scaling(args: argparse.Namespace) -> int:
         print(render_result(r))
     print("\nStatistical evidence under stated assumptions, not advice.")
     return 0
-
-
-def _f(x: float, digits: int = 2) -> str:
-    return "n/a" if x is None or not math.isfinite(x) else f"{x:.{digits}f}"
-
-
-def _p(x: float) -> str:
-    if x is None or not math.isfinite(x):
-        return "n/a"
-    return "<0.001" if x < 0.001 else f"{x:.3f}"
 
 
 def render_result(r: ScalingResult) -> str:
@@ -91,31 +74,32 @@ def render_result(r: ScalingResult) -> str:
     out.append("")
     rows = []
     for t in r.horizons.itertuples(index=False):
-        rows.append([t.h, pct(t.annualized_vol), pct(t.sqrt_time_vol), _f(t.vol_ratio, 3), _f(t.variance_ratio, 3),
-                     _f(t.z), _f(t.z_robust), _p(t.p_value_robust), t.n_nonoverlap, _f(t.skew), _f(t.excess_kurtosis),
-                     _p(t.jarque_bera_p)])
+        rows.append([t.h, pct(t.annualized_vol), pct(t.sqrt_time_vol), number(t.vol_ratio, 3),
+                     number(t.variance_ratio, 3), number(t.z, 2), number(t.z_robust, 2),
+                     p_value(t.p_value_robust), t.n_nonoverlap, number(t.skew, 2),
+                     number(t.excess_kurtosis, 2), p_value(t.jarque_bera_p)])
     out.append("Horizon vol and variance ratio (z* robust to changing vol; skew/kurtosis on non-overlapping periods)")
     out.append(render_table(["h", "h-bar vol", "sqrt-time", "vol ratio", "VR", "z", "z*", "p(z*)", "indep. periods",
                              "skew", "ex.kurt", "JB p"], rows, "r" * 12))
     for h, why in r.dropped.items():
         out.append(f"horizon {h} left out: {why}")
-    out.append(f"log-log slope {_f(r.slope, 3)} ({1 - r.alpha:.0%} interval {_f(r.slope_ci[0], 3)} to "
-               f"{_f(r.slope_ci[1], 3)}), Hurst {_f(r.hurst, 3)} (Brownian: slope 1, Hurst 0.5); "
-               f"Chow-Denning joint test max|z*| {_f(r.chow_denning_stat)}, p {_p(r.chow_denning_p)}")
+    out.append(f"log-log slope {number(r.slope, 3)} ({1 - r.alpha:.0%} interval {number(r.slope_ci[0], 3)} to "
+               f"{number(r.slope_ci[1], 3)}), Hurst {number(r.hurst, 3)} (Brownian: slope 1, Hurst 0.5); "
+               f"Chow-Denning joint test max|z*| {number(r.chow_denning_stat, 2)}, p {p_value(r.chow_denning_p)}")
     out.append("")
     out.append("Ljung-Box (autocorrelation up to each lag)")
     out.append(render_table(["lag", "Q returns", "p", "Q squared", "p"],
-                            [[t.lag, _f(t.q_returns), _p(t.p_returns), _f(t.q_squared), _p(t.p_squared)]
+                            [[t.lag, number(t.q_returns, 2), p_value(t.p_returns), number(t.q_squared, 2), p_value(t.p_squared)]
                              for t in r.ljung_box.itertuples(index=False)], "rrrrr"))
     d = r.drift
     out.append("")
-    out.append(f"drift: mean {pct(d['mean_annualized'])} a year, t = {_f(d['t_stat'])}, p {_p(d['p_value'])}; "
+    out.append(f"drift: mean {pct(d['mean_annualized'])} a year, t = {number(d['t_stat'], 2)}, p {p_value(d['p_value'])}; "
                f"vol {pct(d['vol_annualized'])} a year")
     out.append("")
     out.append("Verdicts")
     for v in r.verdicts:
         out.append(f"  {_LABELS.get(v.property, v.property)}: {v.status.upper()}  "
-                   f"(statistic {_f(v.statistic)}, p {_p(v.p_value)})")
+                   f"(statistic {number(v.statistic, 2)}, p {p_value(v.p_value)})")
         out.append(f"    {v.message}")
     fa = r.family_false_alarm
     if fa:

@@ -13,11 +13,11 @@ from volbench.cli.common import (
     _clean,
     add_annualization,
     add_file_options,
-    import_options,
-    pct,
     render_table,
 )
+from volbench.cli.options import settings_from_args
 from volbench.errors import VolbenchError
+from volbench.format import pct
 
 CAUTION = "Estimates are statistical and carry model risk; they are not advice."
 VERDICT_MARKS = {"consistent": "+", "doubtful": "?", "rejected": "x"}
@@ -43,20 +43,21 @@ def register(sub) -> None:
             action.metavar = "PATH"
             action.help = ("price files, folders (their *.csv and *.tsv files) or glob patterns such as "
                            "'data/**/*.csv'; a file with a symbol column holds several series")
-    p.add_argument("--window", type=int, default=None, metavar="N",
+    p.add_argument("--window", default=None, metavar="N",
                    help="bars in the estimation window (default: --days, the option's life)")
-    p.add_argument("--days", type=int, default=None, metavar="N",
+    p.add_argument("--days", default=None, metavar="N",
                    help="option life in bars: the cone column and GARCH horizon (default 21)")
     add_annualization(p)
     vols = p.add_mutually_exclusive_group()
-    vols.add_argument("--pricing-vol", type=float, default=None, metavar="V",
+    vols.add_argument("--pricing-vol", default=None, metavar="V",
                       help="one proposed pricing vol for every series, decimal (0.25 = 25%%)")
     vols.add_argument("--pricing-vols", default=None, metavar="FILE",
                       help="CSV of symbol,pricing_vol lines (a header line is allowed): a pricing vol per series")
     p.add_argument("--with-garch", action="store_true",
                    help="fit GARCH and report its forward vol over --days bars (slower: a fit per series)")
-    p.add_argument("--garch-model", choices=["garch", "gjr", "egarch", "all"], default="garch",
-                   help="model(s) fitted with --with-garch; 'all' ranks the three by BIC (default garch)")
+    p.add_argument("--garch-model", default="garch", metavar="MODEL|all",
+                   help="model fitted with --with-garch (a registered GARCH-type model: garch, gjr, egarch, ...); "
+                        "'all' ranks them all by BIC (default garch)")
     p.add_argument("--jobs", type=int, default=None, metavar="N",
                    help="worker processes on this machine (default: one per CPU; 1 runs in this process)")
     p.add_argument("--scheduler", default=None, metavar="ADDRESS",
@@ -73,12 +74,12 @@ def register(sub) -> None:
 def _settings(args: argparse.Namespace):
     from volbench.survey import DEFAULT_DAYS, SurveySettings, read_pricing_vols
 
+    base = settings_from_args(args)  # the groups every data command shares, validated as everywhere
     per_series = read_pricing_vols(args.pricing_vols) if args.pricing_vols else {}
-    models = ("garch", "gjr", "egarch") if args.garch_model == "all" else (args.garch_model,)
     return SurveySettings(
         window=args.window, days=DEFAULT_DAYS if args.days is None else args.days,
-        annualization=args.annualization, pricing_vol=args.pricing_vol, pricing_vols=per_series,
-        with_garch=args.with_garch, garch_models=models, import_options=import_options(args),
+        annualization=base.annualization, pricing_vol=args.pricing_vol, pricing_vols=per_series,
+        with_garch=args.with_garch, garch_models=args.garch_model, import_options=base.import_options,
     )
 
 

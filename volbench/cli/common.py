@@ -8,50 +8,30 @@ import math
 import sys
 from collections.abc import Sequence
 
-from volbench import validate
+from volbench.cli.options import (
+    add_estimation,
+    add_every,
+    import_from_args,
+    int_list,
+    settings_from_args,
+)
 from volbench.data import load_many
 from volbench.data.history import PriceHistory
-from volbench.data.options import DECIMALS, DELIMITER_NAMES, THOUSANDS, ImportOptions
-from volbench.data.quality import QualitySettings
-from volbench.errors import VolbenchError
-from volbench.formatting import pct as _pct
-from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
+from volbench.data.options import ImportOptions
+from volbench.settings import Settings
 
 
 def add_file_options(p: argparse.ArgumentParser, *, many: bool = True) -> None:
-    """FILE arguments and the import options every data command shares."""
+    """FILE arguments and the settings groups every data command shares (the import options)."""
     p.add_argument("files", nargs="+" if many else 1, metavar="FILE",
                    help="price CSV file(s): a date column and a close column at least; "
                         "open/high/low enable the range estimators; a symbol column holds several series")
-    g = p.add_argument_group("reading the files (docs/METHODS.md, Import)")
-    g.add_argument("--date-format", metavar="FMT", default=None,
-                   help="strftime format of the date column when it is not ISO, e.g. %%d/%%m/%%Y; "
-                        "'excel' for spreadsheet serial day numbers")
-    g.add_argument("--delimiter", metavar="D", default=None,
-                   choices=[*DELIMITER_NAMES, "tab"],
-                   help="field separator: ',', ';', tab or '|' (default: inferred from the header line)")
-    g.add_argument("--decimal", choices=list(DECIMALS), default=None,
-                   help="decimal mark (default: inferred from every number; refused when the file does not say)")
-    g.add_argument("--thousands", choices=list(THOUSANDS), default=None,
-                   help="thousands separator, or none (default: inferred from every number)")
-    g.add_argument("--adjusted", action="store_true",
-                   help="use the adjusted close (open/high/low scaled to match) when the file has one")
-    g.add_argument("--adjust-splits", action="store_true",
-                   help="back-adjust every detected unadjusted split (earlier prices divided by the ratio, "
-                        "volume multiplied by it); each adjustment is reported")
-    g.add_argument("--exclude-flagged", action="store_true",
-                   help="leave out rows flagged by data-quality warnings (kept by default; the choice is reported)")
-    g.add_argument("--gap-days", type=int, default=QualitySettings.gap_days, metavar="D",
-                   help="report calendar gaps longer than D days (default %(default)s)")
+    add_every(p)
 
 
 def import_options(args: argparse.Namespace) -> ImportOptions:
     """The one :class:`ImportOptions` built from the command line's import flags."""
-    return ImportOptions(
-        delimiter=args.delimiter, decimal=args.decimal, thousands=args.thousands,
-        date_format=args.date_format, use_adjusted=args.adjusted, adjust_splits=args.adjust_splits,
-        exclude_flagged=args.exclude_flagged, quality=QualitySettings(gap_days=args.gap_days),
-    )
+    return import_from_args(args)
 
 
 def with_import(d: dict, history: PriceHistory) -> dict:
@@ -68,35 +48,8 @@ def adjustments_line(history: PriceHistory) -> str | None:
 
 
 def add_annualization(p: argparse.ArgumentParser) -> None:
-    p.add_argument("--annualization", type=validate.annualization, default=DEFAULT_ANNUALIZATION, metavar="A",
-                   help="bars per year used to annualize (default %(default)g; 365 for markets open every day)")
-
-
-def as_of_text(value: str) -> str:
-    """``--as-of``: ISO YYYY-MM-DD or 'last' (checked against each file's range when it is read)."""
-    validate.as_of(value)
-    return value.strip()
-
-
-def end_text(value: str) -> str:
-    """``--end``: ISO YYYY-MM-DD (checked against each file's range when it is read)."""
-    validate.date(value, "end date")
-    return value.strip()
-
-
-def start_text(value: str) -> str:
-    """``--start``: ISO YYYY-MM-DD."""
-    validate.date(value, "start date")
-    return value.strip()
-
-
-def add_as_of(p: argparse.ArgumentParser, help_text: str) -> None:
-    p.add_argument("--as-of", metavar="YYYY-MM-DD|last", type=as_of_text, default=None,
-                   help=help_text + "; a date outside a file's range is refused")
-
-
-def window_or_all(value: str) -> int | None:
-    return validate.window(value, minimum=1)
+    """``--annualization`` (the estimation group with no window and no as-of date)."""
+    add_estimation(p)
 
 
 def add_format(p: argparse.ArgumentParser, choices: Sequence[str] = ("table", "json")) -> None:
@@ -104,22 +57,15 @@ def add_format(p: argparse.ArgumentParser, choices: Sequence[str] = ("table", "j
                    help="output format (default table)")
 
 
-def load_from_args(args: argparse.Namespace) -> list[PriceHistory]:
-    """Load every FILE with the shared import options."""
-    if getattr(args, "annualization", None) is not None:
-        check_annualization(args.annualization)
-    return load_many(args.files, import_options(args))
+def load_from_args(args: argparse.Namespace, settings: Settings | None = None) -> list[PriceHistory]:
+    """Load every FILE with the import options, after every setting of the command was validated."""
+    settings = settings if settings is not None else settings_from_args(args)
+    return load_many(args.files, settings.import_options)
 
 
 def parse_int_list(text: str, what: str) -> list[int]:
     """``"1,2,5"`` -> ``[1, 2, 5]`` with a clear error naming ``what``."""
-    try:
-        values = [int(x) for x in text.replace(" ", "").split(",") if x]
-    except ValueError:
-        raise VolbenchError(f"{what} must be whole numbers separated by commas, e.g. 5,21,63; got {text!r}") from None
-    if not values or any(v < 1 for v in values):
-        raise VolbenchError(f"{what} must be positive whole numbers separated by commas; got {text!r}")
-    return values
+    return int_list(text, what)
 
 
 def _clean(obj):
@@ -151,8 +97,3 @@ def render_table(headers: Sequence[str], rows: Sequence[Sequence], align: str | 
     lines = [fmt(headers), "  ".join("-" * w for w in widths)]
     lines += [fmt(r) for r in cells]
     return "\n".join(lines)
-
-
-def pct(x: float | None, digits: int = 2) -> str:
-    """0.2345 -> '23.45%'; None/NaN -> 'n/a'; never more than about 6 significant digits."""
-    return _pct(x, digits, space=False)

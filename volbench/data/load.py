@@ -7,12 +7,13 @@ left out (see :func:`accounting`); docs/METHODS.md, Import, describes each rule.
 from __future__ import annotations
 
 from collections.abc import Callable, Iterable
-from dataclasses import replace
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
 
+from volbench import errors
 from volbench.data.dates import parse_dates
 from volbench.data.history import Adjustment, Finding, PriceHistory, _finding_order, _iso
 from volbench.data.numbers import decide_separators, to_numbers
@@ -25,7 +26,7 @@ _PRICE_COLS = ("open", "high", "low", "close")
 Progress = Callable[[int, int, str], None]
 
 
-class Cancelled(Exception):
+class Cancelled(errors.Cancelled):
     """Raised by :func:`load_prices` when its ``cancel`` callable returns True."""
 
 
@@ -156,6 +157,54 @@ def load_many(paths: Iterable[str | Path], options: ImportOptions | None = None,
             seen.add(h.name)
             out.append(h)
     return out
+
+
+@dataclass(frozen=True)
+class Loaded:
+    """What :func:`load_each` read: the histories, the files they came from, and one message per
+    file that could not be read."""
+
+    histories: tuple[PriceHistory, ...]
+    files: tuple[str, ...]
+    errors: tuple[str, ...]
+
+
+def load_each(paths: Iterable[str | Path], options: ImportOptions | None = None, *, taken: Iterable[str] = (),
+              progress: Progress | None = None, cancel: Callable[[], bool] | None = None) -> Loaded:
+    """:func:`load_prices` per file, going on past a file that cannot be read (its message is kept).
+
+    Series names are made unique by file stem as :func:`load_many` does, also against the names in
+    ``taken`` (series already loaded). ``progress(done, total, text)`` counts every file's stages;
+    :class:`Cancelled` propagates when ``cancel()`` turns true. This is what a window that loads
+    several files at once needs; :func:`load_many` stops at the first bad file instead.
+    """
+    opts = options or ImportOptions()
+    histories: list[PriceHistory] = []
+    files: list[str] = []
+    errors: list[str] = []
+    seen: set[str] = set(taken)
+    unique = list(dict.fromkeys(str(p) for p in paths))
+    n = len(unique)
+    for i, p in enumerate(unique):
+        def step(done: int, total: int, text: str, i=i) -> None:
+            if progress is not None:
+                progress(i * total + done, n * total, text)
+
+        try:
+            loaded = load_prices(p, opts, progress=step, cancel=cancel)
+        except VolbenchError as exc:
+            errors.append(str(exc))
+            continue
+        except OSError as exc:
+            errors.append(f"{p}: cannot be read ({exc.strerror or exc}); check the path and permissions")
+            continue
+        files.append(p)
+        for h in loaded:
+            if h.name in seen:
+                h = replace(h, name=f"{h.name} ({Path(p).stem})")
+            seen.add(h.name)
+            histories.append(h)
+    return Loaded(tuple(histories), tuple(files), tuple(errors))
 
 
 def accounting(histories: Iterable[PriceHistory]) -> tuple[frozenset[int], frozenset[int]]:

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass, field
+from typing import Any, Literal
 
 import numpy as np
 import pandas as pd
@@ -39,8 +40,7 @@ class EstimatorSpec:
         NaN where fewer than ``window + extra_bars`` rows are available.
     efficiency
         Per-bar efficiency relative to close-to-close under Brownian motion, rounded, for help texts;
-        the intervals use :func:`volbench.estimators.intervals.effective_dof` (n-dependent for
-        Yang-Zhang).
+        the intervals use ``dof`` below (n-dependent for Yang-Zhang).
     ci_exact
         True when the confidence interval is exact under i.i.d. normal returns (close-to-close).
     whole_sample_window
@@ -65,6 +65,18 @@ class EstimatorSpec:
     """Keyword options ``variance`` accepts (e.g. ``lam`` for EWMA); others passed are ignored."""
     short: str = ""
     """Short legend tag."""
+    memory: Literal["window", "all"] = "window"
+    """``"all"``: the estimate weighs every past return (EWMA; the window only seeds it), so its
+    observation count is every return and a window of flat prices does not make it uninformative."""
+    dof: Callable[..., Any] | None = None
+    """``dof(history, window, variance, options)``: degrees of freedom of each bar's chi-square
+    interval (an array, or one number); ``None``: ``window x intervals.BAR_EFFICIENCY[key]``."""
+    interval_text: Callable[[float, int], str] | None = None
+    """``interval_text(dof, n)``: how an approximate interval was computed, shown beside it;
+    ``None``: ``"effective n {dof} = {n} bars x {efficiency}"``."""
+    candidate_note: Callable[[dict], str] | None = None
+    """``candidate_note(options)``: the note beside this estimator's vol in a comparison (e.g.
+    EWMA's half-life, derived from its lambda); ``None``: no note."""
 
     def bars_needed(self, window: int) -> int:
         return window + self.extra_bars

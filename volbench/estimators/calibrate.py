@@ -83,11 +83,11 @@ def coverage(key: str, n: int, rng: np.random.Generator, *, windows: int = COVER
     """
     v = 1e-4
     spec = REGISTRY[key]
-    lead = 60 if key == "ewma" else spec.extra_bars
+    lead = 60 if spec.memory == "all" else spec.extra_bars
     bars = brownian_bars(rng, lead + windows * n, substeps=substeps, trades=trades,
                          overnight_share=overnight_share, variance=v)
     h = history_of(bars)
-    w = 20 if key == "ewma" else n
+    w = spec.whole_sample_window if spec.memory == "all" else n
     var = spec.variance(h, w)
     end = lead - 1 + n * np.arange(1, windows + 1)
     dof = dof_series(spec, h, w, var, {})

@@ -7,11 +7,14 @@ from scipy.signal import lfilter
 
 from volbench import validate
 from volbench.data.history import PriceHistory
-from volbench.estimators.base import EstimatorSpec, rolling_mean, sample_variance
+from volbench.estimators import intervals
+from volbench.estimators.base import (
+    EstimatorSpec,
+    rolling_mean,
+    sample_variance,
+)
 from volbench.estimators.sums import SumForm, Terms, centred, form_variance
-
-EWMA_LAMBDA = 0.94
-"""RiskMetrics decay for daily data (J.P. Morgan/Reuters RiskMetrics Technical Document, 1996)."""
+from volbench.types import EWMA_LAMBDA
 
 
 def _close_to_close_rows(t: Terms, window: int):
@@ -87,6 +90,20 @@ def ewma_effective_n(lam: float = EWMA_LAMBDA) -> float:
     return (1.0 + lam) / (1.0 - lam)
 
 
+def ewma_half_life(lam: float = EWMA_LAMBDA) -> float:
+    """Bars after which a return's weight in the EWMA has halved: ln 0.5 / ln lambda (common practice)."""
+    return float(np.log(0.5) / np.log(validate.lam(lam)))
+
+
+def ewma_note(options: dict) -> str:
+    """The comparison note of the EWMA vol: every past return counts, with this lambda's half-life."""
+    return f"all past returns, half-life {ewma_half_life(options.get('lam') or EWMA_LAMBDA):.1f} bars"
+
+
+def _ewma_interval_text(dof: float, n: int) -> str:
+    return f"approximate: chi-square with effective n {dof:.1f}"
+
+
 CLOSE_TO_CLOSE = EstimatorSpec(
     key="close_to_close",
     label="Close-to-close",
@@ -96,6 +113,7 @@ CLOSE_TO_CLOSE = EstimatorSpec(
     variance=close_to_close_variance,
     efficiency=1.0,
     ci_exact=True,
+    dof=intervals.close_to_close_dof,
     options=frozenset({"zero_mean"}),
     source="Common practice; e.g. Hull, Options, Futures and Other Derivatives",
     assumes="i.i.d. normal log returns; uses closes only, so intraday range information is ignored.",
@@ -111,6 +129,11 @@ EWMA = EstimatorSpec(
     efficiency=1.0,
     whole_sample_window=20,
     options=frozenset({"lam"}),
+    memory="all",
+    dof=intervals.ewma_interval_dof,
+    interval_text=_ewma_interval_text,
+    candidate_note=ewma_note,
     source="J.P. Morgan/Reuters RiskMetrics Technical Document (1996)",
-    assumes="Zero-mean returns whose variance drifts; recent returns weigh most (half-life about 11 bars).",
+    assumes=("Zero-mean returns whose variance drifts; recent returns weigh most (half-life about "
+             f"{ewma_half_life():.0f} bars)."),
 )

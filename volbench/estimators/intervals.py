@@ -16,6 +16,7 @@ from scipy import special
 from scipy.special import zeta
 
 from volbench.estimators import calibration as cal
+from volbench.types import EWMA_LAMBDA
 
 PARKINSON_BAR_VARIANCE = 9.0 * float(zeta(3.0)) / (16.0 * math.log(2.0) ** 2) - 1.0
 """Var((ln H/L)^2 / (4 ln 2)) / sigma^4 for one bar of Brownian motion, from E[(ln H/L)^2] =
@@ -69,15 +70,26 @@ def ewma_dof(lam: float) -> float:
     return (1.0 + lam) / (1.0 - lam)
 
 
-def effective_dof(key: str, n: int, *, zero_mean: bool = False, overnight_share=0.0, lam: float = 0.94):
-    """Degrees of freedom nu of the chi-square approximation for estimator ``key`` over ``n`` bars."""
-    if key == "close_to_close":
-        return float(n if zero_mean else n - 1)
-    if key == "ewma":
-        return ewma_dof(lam)
-    if key == "yang_zhang":
-        return yang_zhang_dof(n, overnight_share)
-    return n * BAR_EFFICIENCY[key]
+def close_to_close_dof(history, window: int, variance, options) -> float:
+    """n - 1 returns (n about zero with ``zero_mean``): exact under i.i.d. normal returns."""
+    return float(window if options.get("zero_mean") else window - 1)
+
+
+def ewma_interval_dof(history, window: int, variance, options) -> float:
+    """(1 + lambda) / (1 - lambda) for the EWMA's lambda, whatever the seed window."""
+    return ewma_dof(options.get("lam") or EWMA_LAMBDA)
+
+
+def efficiency_dof(history, window: int, variance, options, key: str) -> float:
+    """window x the estimator's per-bar efficiency (:data:`BAR_EFFICIENCY`)."""
+    return window * BAR_EFFICIENCY[key]
+
+
+def efficiency_text(dof: float, n: int) -> str:
+    return f"approximate: chi-square with effective n {dof:.0f} = {n} bars x {dof / n:.3g}"
+
+
+EXACT_TEXT = "chi-square (exact under i.i.d. normal returns)"
 
 
 def chi2_quantile(p, dof):

@@ -2,9 +2,12 @@
 
 from __future__ import annotations
 
+from functools import partial
+
 import numpy as np
 
 from volbench.data.history import PriceHistory
+from volbench.estimators import intervals
 from volbench.estimators.base import EstimatorSpec, rolling_mean, rolling_var
 from volbench.estimators.sums import SumForm, Terms, centred, finish_mean, form_variance
 
@@ -142,11 +145,25 @@ def yang_zhang_variance(h: PriceHistory, window: int) -> np.ndarray:
     return form_variance(h, window, YANG_ZHANG_FORM)
 
 
+def yang_zhang_interval_dof(h: PriceHistory, window: int, variance: np.ndarray, options) -> np.ndarray:
+    """Degrees of freedom at every bar, the overnight share read from each window (V_o / V_YZ)."""
+    v_o = yang_zhang_parts(h, window)[0]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = np.where(variance > 0, v_o / variance, 0.0)
+    return intervals.yang_zhang_dof(window, np.nan_to_num(share))
+
+
+def _yang_zhang_text(dof: float, n: int) -> str:
+    return (f"approximate: chi-square with effective n {dof:.0f} for {n} bars (depends on the window "
+            "and the overnight share)")
+
+
 _OHLC = frozenset({"open", "high", "low", "close"})
 
 PARKINSON = EstimatorSpec(
     key="parkinson", label="Parkinson", short="PK", needs=frozenset({"high", "low"}), extra_bars=0,
     variance=parkinson_variance, efficiency=4.91, min_window=1,
+    dof=partial(intervals.efficiency_dof, key="parkinson"),
     source="Parkinson (1980), Journal of Business 53(1)",
     assumes="Brownian motion with no drift, continuous trading, no overnight gaps; "
             "understates vol when opens gap.",
@@ -154,18 +171,21 @@ PARKINSON = EstimatorSpec(
 GARMAN_KLASS = EstimatorSpec(
     key="garman_klass", label="Garman-Klass", short="GK", needs=_OHLC, extra_bars=0,
     variance=garman_klass_variance, efficiency=7.45, min_window=1,
+    dof=partial(intervals.efficiency_dof, key="garman_klass"),
     source="Garman & Klass (1980), Journal of Business 53(1)",
     assumes="Brownian motion with no drift and no overnight gaps; understates vol when opens gap.",
 )
 ROGERS_SATCHELL = EstimatorSpec(
     key="rogers_satchell", label="Rogers-Satchell", short="RS", needs=_OHLC, extra_bars=0,
     variance=rogers_satchell_variance, efficiency=6.04, min_window=1,
+    dof=partial(intervals.efficiency_dof, key="rogers_satchell"),
     source="Rogers & Satchell (1991), Annals of Applied Probability 1(4)",
     assumes="Brownian motion with any drift; ignores overnight gaps.",
 )
 YANG_ZHANG = EstimatorSpec(
     key="yang_zhang", label="Yang-Zhang", short="YZ", needs=_OHLC, extra_bars=1,
     variance=yang_zhang_variance, efficiency=7.0, min_window=2,
+    dof=yang_zhang_interval_dof, interval_text=_yang_zhang_text,
     source="Yang & Zhang (2000), Journal of Business 73(3)",
     assumes="Brownian motion with any drift, plus overnight jumps between close and open.",
 )

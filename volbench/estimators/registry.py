@@ -13,6 +13,7 @@ import numpy as np
 import pandas as pd
 
 from volbench import validate
+from volbench.candidates import Candidate, CandidateSet
 from volbench.data.history import PriceHistory, _iso
 from volbench.errors import EstimatorUnavailable, VolbenchError
 from volbench.estimators import intervals
@@ -21,7 +22,6 @@ from volbench.estimators.close_based import (
     CLOSE_TO_CLOSE,
     CLOSE_TO_CLOSE_FORM,
     EWMA,
-    EWMA_LAMBDA,
     close_to_close_variance,
 )
 from volbench.estimators.range_based import (
@@ -36,7 +36,6 @@ from volbench.estimators.range_based import (
     garman_klass_variance,
     parkinson_variance,
     rogers_satchell_variance,
-    yang_zhang_parts,
     yang_zhang_variance,
 )
 from volbench.estimators.sums import SumForm, evaluate
@@ -85,7 +84,7 @@ def _empty_windows(spec: EstimatorSpec, history: PriceHistory, window: int) -> n
     if not logs.any_flat_return:
         return None
     r = logs.returns
-    if spec.key == "ewma":
+    if spec.memory == "all":
         seen = np.concatenate(([0], np.cumsum(r != 0)))
         return seen == 0
     return ~(np.concatenate(([np.nan], _rolling_count(r != 0, window))) > 0)
@@ -97,15 +96,12 @@ def _why_uninformative(spec: EstimatorSpec) -> str:
 
 def dof_series(spec: EstimatorSpec, history: PriceHistory, window: int, variance: np.ndarray,
                options: dict) -> np.ndarray | float:
-    """Degrees of freedom of each bar's interval (an array for Yang-Zhang, whose overnight share
-    is read from each window, else a number); see :mod:`volbench.estimators.intervals`."""
-    if spec.key == "yang_zhang":
-        v_o = yang_zhang_parts(history, window)[0]
-        with np.errstate(invalid="ignore", divide="ignore"):
-            share = np.where(variance > 0, v_o / variance, 0.0)
-        return intervals.yang_zhang_dof(window, np.nan_to_num(share))
-    lam = options.get("lam") or EWMA_LAMBDA
-    return intervals.effective_dof(spec.key, window, zero_mean=bool(options.get("zero_mean")), lam=lam)
+    """Degrees of freedom of each bar's interval, by the spec's ``dof`` (an array for Yang-Zhang,
+    whose overnight share is read from each window, else a number); see
+    :mod:`volbench.estimators.intervals`."""
+    if spec.dof is None:
+        return window * intervals.BAR_EFFICIENCY[spec.key]
+    return spec.dof(history, window, variance, options)
 
 
 def availability(history: PriceHistory, key: str, window: int | None) -> str | None:
@@ -402,18 +398,11 @@ def point_estimate(
     s = np.sqrt(var)
     dof = dof_series(spec, h, w_eff, all_var, options)
     dof = float(dof[-1]) if np.ndim(dof) else float(dof)
-    if spec.key in WHOLE_HISTORY:
-        n = h.n - 1
-        method = f"approximate: chi-square with effective n {dof:.1f}"
+    n = h.n - 1 if spec.memory == "all" else w_eff
+    if spec.ci_exact:
+        method = intervals.EXACT_TEXT
     else:
-        n = w_eff
-        if spec.ci_exact:
-            method = "chi-square (exact under i.i.d. normal returns)"
-        elif spec.key == "yang_zhang":
-            method = (f"approximate: chi-square with effective n {dof:.0f} for {n} bars (depends on the window "
-                      "and the overnight share)")
-        else:
-            method = f"approximate: chi-square with effective n {dof:.0f} = {n} bars x {dof / n:.3g}"
+        method = (spec.interval_text or intervals.efficiency_text)(dof, n)
     ann = np.sqrt(a)
     lo, hi = intervals.chi2_interval(s * ann, dof, confidence)
     return Estimate(
@@ -423,9 +412,6 @@ def point_estimate(
     )
 
 
-WHOLE_HISTORY = frozenset({"ewma"})
-"""Estimators whose value at a bar depends on every row before it (EWMA's recursion starts from
-the first window's variance), so a point estimate needs the whole history up to the as-of date."""
 
 
 def _estimation_rows(history: PriceHistory, spec: EstimatorSpec, window: int | None, end: int) -> PriceHistory:
@@ -437,7 +423,7 @@ def _estimation_rows(history: PriceHistory, spec: EstimatorSpec, window: int | N
     (``window`` None) and EWMA need every row up to ``end``. A history too short for the window
     is returned whole, so that availability reports its true length.
     """
-    if window is None or spec.key in WHOLE_HISTORY:
+    if window is None or spec.memory == "all":
         start = 0
     else:
         start = max(0, end - spec.bars_needed(window))
@@ -448,7 +434,11 @@ def _estimation_rows(history: PriceHistory, spec: EstimatorSpec, window: int | N
 
 @dataclass(frozen=True)
 class EstimateReport:
-    """Every requested estimator for one history: estimates and, for the rest, why not."""
+    """Every requested estimator for one history: estimates and, for the rest, why not.
+
+    ``options`` are the estimator options used (``zero_mean``, ``lam``). :meth:`candidates` offers
+    the estimates to a comparison (:class:`volbench.candidates.CandidateSource`).
+    """
 
     history: PriceHistory
     window: int | None
@@ -456,6 +446,19 @@ class EstimateReport:
     annualization: float
     estimates: dict[str, Estimate]
     unavailable: dict[str, str] = field(default_factory=dict)
+    options: dict = field(default_factory=dict)
+
+    def candidates(self, days: int) -> CandidateSet:
+        """Each estimate as a candidate vol (with its interval), in registry order."""
+        items = []
+        for key, spec in REGISTRY.items():
+            e = self.estimates.get(key)
+            if e is None:
+                continue
+            note = spec.candidate_note(self.options) if spec.candidate_note is not None else ""
+            items.append(Candidate("estimator", key, spec.label, e.vol, window=e.window, ci_low=e.ci_low,
+                                   ci_high=e.ci_high, note=note))
+        return CandidateSet("estimator", tuple(items), dict(self.unavailable), title="estimator", what="vol")
 
     def as_dict(self) -> dict:
         h = self.history
@@ -498,4 +501,4 @@ def estimate_all(
             est[k] = point_estimate(h, k, w, annualization=a, confidence=confidence, **options)
         except EstimatorUnavailable as exc:
             unavailable[k] = exc.reason
-    return EstimateReport(h, w, h.last_date, a, est, unavailable)
+    return EstimateReport(h, w, h.last_date, a, est, unavailable, dict(options))

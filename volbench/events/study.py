@@ -366,8 +366,9 @@ def event_study(
 def _event_garch(ex: PriceHistory, model: str, dist: str, days: int, a: float, move: EventMove | None,
                  m: int | None) -> EventGarch:
     from volbench.models import fit_garch  # GARCH only when asked (arch's import is not free)
+    from volbench.settings import GarchSettings
 
-    fit = fit_garch(ex, model, dist, horizons=(days,), annualization=a)
+    fit = fit_garch(ex, model, GarchSettings(models=(model,), dist=dist, horizons=(days,)), annualization=a)
     vol = fit.forward_vol(days)
     aware = None if move is None or m is None else event_aware_vol(vol, move.variance, m, days, a)
     return EventGarch(fit.model, fit.label, days, vol, aware, fit.nobs, fit.fallback, fit.warnings)

@@ -2,7 +2,9 @@
 
 Typical use::
 
-    bundle = build_bundle(histories, window=20, pricing_vol=0.25, days=30)
+    settings = Settings(estimation=EstimationSettings(window=20),
+                        option=OptionSettings(pricing_vol=0.25, days=30))
+    bundle = build_bundle(histories, settings)
     write_export("pricing.xlsx", bundle)            # refuses to replace an existing file
     text = table_to_tsv(bundle.table("estimates"))  # paste into a spreadsheet
 

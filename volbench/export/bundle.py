@@ -16,11 +16,9 @@ from typing import Any
 
 import pandas as pd
 
-from volbench import __version__, validate
+from volbench import __version__, analysis, validate
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
-from volbench.estimators import estimate_all
-from volbench.estimators.close_based import EWMA_LAMBDA
 from volbench.export import sections as sec
 from volbench.export.schema import (
     ESTIMATES_PERCENT,
@@ -29,7 +27,7 @@ from volbench.export.schema import (
     findings_summary,
 )
 from volbench.export.sections import SectionStatus
-from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_window
+from volbench.settings import Settings
 
 SECTIONS: tuple[str, ...] = ("estimates", "cone", "scaling", "garch", "comparison")
 """Sections in export order; each always has a sheet in an XLSX file."""
@@ -39,8 +37,6 @@ TABLE_ORDER: tuple[str, ...] = (
     "findings", "inputs",
 )
 """Every table a bundle can hold, in the order writers lay them out."""
-
-DEFAULT_GARCH_MODELS: tuple[str, ...] = ("garch", "gjr", "egarch")
 
 DISCLAIMER = ("Volatility estimates are statistical and carry model risk; they are not advice. "
               "Your firm's model-validation policy governs their use.")
@@ -88,28 +84,9 @@ class ExportBundle:
 
 def build_bundle(
     histories: Sequence[PriceHistory],
+    settings: Settings | None = None,
     *,
-    window: int | str | None = None,
-    annualization: float = DEFAULT_ANNUALIZATION,
-    as_of=None,
-    confidence: float = 0.95,
-    estimator_options: Mapping[str, Any] | None = None,
-    pricing_vol: float | None = None,
-    days: int | None = None,
-    option: Mapping[str, Any] | Any | None = None,
-    comparison_window: int | None = None,
-    include_cone: bool = True,
-    cone_estimator: str = "close_to_close",
-    cone_windows: Sequence[int] | None = None,
-    hodges_tompkins: bool = False,
-    include_scaling: bool = True,
-    include_garch: bool = False,
-    garch_models: Sequence[str] = DEFAULT_GARCH_MODELS,
-    garch_dist: str = "normal",
-    garch_processes: int | None = 1,
-    import_settings: Mapping[str, Any] | None = None,
-    results: Mapping[str, Mapping[str, Any]] | None = None,
-    created: datetime | None = None,
+    given: Mapping[str, Mapping[str, Any]] | None = None,
     progress: Callable[[int, int, str], None] | None = None,
 ) -> ExportBundle:
     """Collect estimates, cone, scaling check, GARCH, comparison and provenance for an export.
@@ -118,30 +95,16 @@ def build_bundle(
     ----------
     histories
         Price histories as loaded (quality policy already applied with ``select``).
-    window, annualization, as_of, confidence, estimator_options
-        Settings of the point estimates (:func:`volbench.estimators.estimate_all`); ``as_of`` also
-        cuts the history used by every other section. ``estimator_options``: ``zero_mean``, ``lam``.
-    pricing_vol, days, option
-        The proposed vol (decimal), the option's life in bars, and optionally the option
-        (``OptionSpec`` or a mapping of its fields: strike, rate, dividend_yield, kind, spot). The
-        comparison section is built only when both ``pricing_vol`` and ``days`` are given.
-    comparison_window
-        Bars behind each estimator's candidate vol in the comparison; ``None`` (default) uses the
-        option's life (``days``), as ``volbench compare`` does without ``--window``.
-    include_cone, cone_estimator, cone_windows, hodges_tompkins
-        Volatility cone section and its settings; the comparison places the pricing vol in a cone
-        with the same estimator and windows.
-    include_scaling, include_garch, garch_models, garch_dist, garch_processes
-        Scaling-check and GARCH sections (GARCH is off by default: fits take a moment).
-        ``garch_processes`` other than 1 fits several series in worker processes (``None``: one
-        per CPU, see :func:`volbench.models.fit_many`).
-    import_settings
-        How the files were read (date format, adjusted close, gap days...), recorded as provenance.
-    results
-        Results already computed elsewhere (e.g. by the GUI), ``{section: {series: result}}`` for
+    settings
+        Every setting of the run (:class:`~volbench.settings.Settings`): the estimation settings
+        give the point estimates and the as-of date that cuts the history of every section; a
+        group set to ``None`` (cone, scaling, GARCH, option) leaves its section out as "not
+        requested"; the comparison is built when ``settings.option`` is set. Default: the
+        estimates, cone and scaling check with their defaults. ``settings.created`` stamps the
+        export (default now, UTC).
+    given
+        Results already computed elsewhere (e.g. by the window), ``{section: {series: result}}`` for
         sections cone, scaling, garch, comparison; used instead of recomputing.
-    created
-        Creation time (default now, UTC).
     progress
         ``progress(done, total, section)`` after each section.
 
@@ -152,89 +115,57 @@ def build_bundle(
     Raises
     ------
     VolbenchError
-        No histories, or bad window / annualization / as-of / pricing-vol / days.
+        No histories, or an as-of date outside a series' range.
 
     Notes
     -----
-    A section whose analysis module is missing, that was not requested, or that fails for a
-    series (a :class:`VolbenchError` from that analysis) is recorded in ``sections`` with the
-    reason; the other sections are unaffected. Point estimates follow docs/METHODS.md, "Estimators".
+    A section that was not requested, or that fails for a series (a :class:`VolbenchError` from
+    that analysis), is recorded in ``sections`` with the reason; the other sections are
+    unaffected. Point estimates follow docs/METHODS.md, "Estimators".
     """
     histories = list(histories)
     if not histories:
         raise VolbenchError("nothing to export: give at least one price history")
-    w = check_window(window, minimum=1)
-    a = check_annualization(annualization)
-    confidence = validate.level(confidence)
-    cone_estimator = validate.estimator(cone_estimator)
+    settings = settings if settings is not None else Settings()
+    if not isinstance(settings, Settings):
+        raise VolbenchError(f"settings must be Settings, got {type(settings).__name__}")
+    e = settings.estimation
+    as_of = e.as_of
     if as_of is not None:  # inside every series' range (or "last"), one rule for every front end
         resolved = {validate.as_of_for(h, as_of) for h in histories}
         as_of = resolved.pop()
-    pricing_vol, days = _check_pricing(pricing_vol, days)
-    opts = {k: v for k, v in dict(estimator_options or {}).items() if v is not None}
-    option_dict = _option_dict(option)
-    stamp = (created or datetime.now(UTC)).astimezone(UTC)
+        settings = settings.with_groups(estimation=e.with_changes(as_of=as_of))
+    stamp = (settings.created or datetime.now(UTC)).astimezone(UTC)
     created_iso = stamp.isoformat(timespec="seconds").replace("+00:00", "Z")
-    given = {k: dict(v) for k, v in dict(results or {}).items()}
-
-    settings = {
-        "window": "all" if w is None else w, "annualization": a, "as_of": as_of, "confidence": confidence,
-        "estimator_options": {"zero_mean": bool(opts.get("zero_mean", False)),
-                              "ewma_lambda": float(opts.get("lam", EWMA_LAMBDA))},
-        "import": dict(import_settings or {}),
-    }
-    if include_cone:
-        settings["cone"] = {"estimator": cone_estimator, "windows": list(cone_windows) if cone_windows else "default",
-                            "hodges_tompkins": bool(hodges_tompkins)}
-    settings["scaling"] = bool(include_scaling)
-    if include_garch:
-        settings["garch"] = {"models": list(garch_models), "dist": garch_dist}
-    if pricing_vol is not None:
-        settings["pricing"] = {"pricing_vol": pricing_vol, "days": days, "option": option_dict,
-                               "estimator_window": ("days (the option's life)" if comparison_window is None
-                                                    else comparison_window)}
+    given = {k: dict(v) for k, v in dict(given or {}).items()}
+    record = settings.as_dict()
     total = len(SECTIONS)
 
     def step(i: int, name: str) -> None:
         if progress is not None:
             progress(i, total, name)
 
-    reports = [estimate_all(h, w, as_of=as_of, annualization=a, confidence=confidence, **opts) for h in histories]
+    reports = [analysis.estimates_for(h, settings) for h in histories]
     cut = [r.history for r in reports]
     built: dict[str, sec.SectionResult] = {
         "estimates": sec.SectionResult(
             SectionStatus("included"),
-            {"estimates": estimates_table(reports, created=created_iso, settings=settings, sources=histories)},
+            {"estimates": estimates_table(reports, created=created_iso, settings=record, sources=histories)},
             {"estimates": ESTIMATES_PERCENT}),
     }
     step(1, "estimates")
-
-    if include_cone:
-        built["cone"] = sec.cone_section(cut, estimator=cone_estimator, windows=cone_windows, annualization=a,
-                                         hodges_tompkins=hodges_tompkins, given=given.get("cone"))
-    else:
-        built["cone"] = sec.not_requested()
+    built["cone"] = (sec.cone_section(cut, settings, given.get("cone")) if settings.cone is not None
+                     else sec.not_requested())
     step(2, "cone")
-
-    if include_scaling:
-        built["scaling"] = sec.scaling_section(cut, annualization=a, given=given.get("scaling"))
-    else:
-        built["scaling"] = sec.not_requested()
+    built["scaling"] = (sec.scaling_section(cut, settings, given.get("scaling")) if settings.scaling is not None
+                        else sec.not_requested())
     step(3, "scaling")
-
-    if include_garch:
-        built["garch"] = sec.garch_section(cut, models=garch_models, dist=garch_dist, annualization=a,
-                                           days=days, processes=garch_processes, given=given.get("garch"))
-    else:
-        built["garch"] = sec.not_requested("add --with-garch")
+    built["garch"] = (sec.garch_section(cut, settings, given.get("garch")) if settings.garch is not None
+                      else sec.not_requested("add --with-garch"))
     step(4, "garch")
-
-    if pricing_vol is not None:
-        built["comparison"] = sec.comparison_section(
-            cut, pricing_vol=pricing_vol, days=days, option=option if option is not None else {},
-            annualization=a, cone_estimator=cone_estimator, cone_windows=cone_windows,
-            window=comparison_window, scaling=dict(built["scaling"].results), garch=dict(built["garch"].results),
-            given=given.get("comparison"))
+    if settings.option is not None:
+        parts = {name: built[name] for name in analysis.CANDIDATE_PARTS if name in built}  # the rest: computed
+        built["comparison"] = sec.comparison_section(cut, settings, parts, given.get("comparison"))
     else:
         built["comparison"] = sec.not_requested("give --pricing-vol and --days")
     step(5, "comparison")
@@ -242,7 +173,7 @@ def build_bundle(
     statuses = {name: built[name].status for name in SECTIONS}
     provenance = {
         "created": created_iso, "volbench_version": __version__, "schema_version": SCHEMA_VERSION,
-        "settings": settings,
+        "settings": record,
         "series": [_series_provenance(src, rep) for src, rep in zip(histories, reports)],
         "sections": {k: v.text for k, v in statuses.items()},
         "note": DISCLAIMER,
@@ -264,24 +195,6 @@ def build_bundle(
         percent_columns=MappingProxyType({k: v for k, v in percent.items() if k in ordered}),
         created=created_iso,
     )
-
-
-def _check_pricing(pricing_vol, days) -> tuple[float | None, int | None]:
-    if pricing_vol is None and days is None:
-        return None, None
-    if pricing_vol is None or days is None:
-        raise VolbenchError("a comparison needs both --pricing-vol and --days "
-                            f"(got pricing vol {pricing_vol!r}, days {days!r})")
-    return validate.pricing_vol(pricing_vol), validate.days(days)
-
-
-def _option_dict(option) -> dict | None:
-    if option is None:
-        return None
-    if isinstance(option, Mapping):
-        return dict(option)
-    fields = ("strike", "rate", "dividend_yield", "kind", "spot")
-    return {f: getattr(option, f) for f in fields if hasattr(option, f)}
 
 
 def _series_provenance(src: PriceHistory, rep) -> dict:

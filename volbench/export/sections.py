@@ -1,15 +1,14 @@
 """Optional sections of an export: cone, scaling check, GARCH and the pricing-vol comparison.
 
-Each section is built by one small function that imports its analysis module lazily. When the
-module is not installed, the section was not requested, or a series cannot be analysed, the
-section records why ("not available: ...") instead of failing the whole export; the estimates
-table never depends on these sections. Caveats, per-series failures and the comparison's reading
-go to a shared ``notes`` table (section, series, kind, text).
+Each section is built by one small function through :mod:`volbench.analysis` (the calls every
+front end makes). When the section was not requested, or a series cannot be analysed, the section
+records why ("not available: ...") instead of failing the whole export; the estimates table never
+depends on these sections. Caveats, per-series failures and the comparison's reading go to a
+shared ``notes`` table (section, series, kind, text).
 """
 
 from __future__ import annotations
 
-import importlib
 import math
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
@@ -18,8 +17,12 @@ from typing import Any, Literal
 import numpy as np
 import pandas as pd
 
+from volbench import analysis
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
+from volbench.models import GarchComparison, GarchFit, fit_many
+from volbench.scaling import ScalingResult
+from volbench.settings import Settings
 
 Status = Literal["included", "partial", "not requested", "not available"]
 NOTE_COLUMNS = ("section", "series", "kind", "text")
@@ -51,24 +54,20 @@ class SectionResult:
     percent: Mapping[str, tuple[str, ...]] = field(default_factory=dict)
     notes: tuple[dict, ...] = ()
     results: Mapping[str, Any] = field(default_factory=dict)
+    failed: Mapping[str, str] = field(default_factory=dict)
+    """Series -> why this section has no result for it."""
+
+    def outcome(self, series: str) -> Any:
+        """The result for ``series``, the reason it has none, or ``None`` (not requested)."""
+        if series in self.results:
+            return self.results[series]
+        if series in self.failed:
+            return self.failed[series]
+        return None if self.status.status == "not requested" else self.status.reason or self.status.status
 
 
 def not_requested(why: str = "") -> SectionResult:
     return SectionResult(SectionStatus("not requested", why))
-
-
-def _lazy(module: str, *names: str) -> tuple | str:
-    """Import ``names`` from ``module``; a sentence saying why when the module is not there."""
-    try:
-        mod = importlib.import_module(module)
-    except ModuleNotFoundError as exc:
-        if exc.name and (module == exc.name or module.startswith(exc.name + ".")):
-            return f"module {module} is not installed in this volbench"
-        raise
-    missing = [n for n in names if not hasattr(mod, n)]
-    if missing:
-        return f"module {module} does not provide {', '.join(missing)}"
-    return tuple(getattr(mod, n) for n in names)
 
 
 def _with_series(df: pd.DataFrame, series: str, **front) -> pd.DataFrame:
@@ -112,12 +111,12 @@ def _finish(section: str, results: dict, failed: list[tuple[str, str]], tables: 
     notes = [_note(section, s, "not available", why) for s, why in failed] + notes
     if not results:
         why = "; ".join(f"{s}: {w}" for s, w in failed) or "no series"
-        return SectionResult(SectionStatus("not available", why), notes=tuple(notes))
+        return SectionResult(SectionStatus("not available", why), notes=tuple(notes), failed=dict(failed))
     status = (SectionStatus("partial", "; ".join(f"{s}: {w}" for s, w in failed)) if failed
               else SectionStatus("included"))
     tables = {k: v for k, v in tables.items() if v is not None}
     return SectionResult(status, tables, {k: tuple(v) for k, v in percent.items() if k in tables},
-                         tuple(notes), results)
+                         tuple(notes), results, dict(failed))
 
 
 def _concat(frames: list[pd.DataFrame]) -> pd.DataFrame | None:
@@ -125,35 +124,16 @@ def _concat(frames: list[pd.DataFrame]) -> pd.DataFrame | None:
     return pd.concat(frames, ignore_index=True, sort=False) if frames else None
 
 
-def _unavailable(imported) -> str | None:
-    return imported if isinstance(imported, str) else None
-
-
 # ---------------------------------------------------------------------------------- cone
 CONE_NOT_PERCENT = ("window", "current_percentile", "n_windows", "n_independent", "ht_factor")
 
 
-def cone_section(
-    histories: Sequence[PriceHistory],
-    *,
-    estimator: str,
-    windows: Sequence[int] | None,
-    annualization: float,
-    hodges_tompkins: bool = False,
-    given: Mapping[str, Any] | None = None,
-) -> SectionResult:
+def cone_section(histories: Sequence[PriceHistory], settings: Settings,
+                 given: Mapping[str, Any] | None = None) -> SectionResult:
     """Volatility cone per series: one row per window (min ... max, mean, current, its percentile)."""
-    imported = _lazy("volbench.pricing.cone", "vol_cone")
-    if _unavailable(imported) and not given:
-        return SectionResult(SectionStatus("not available", imported))
 
     def compute(h: PriceHistory):
-        if _unavailable(imported):
-            raise VolbenchError(imported)
-        kw: dict[str, Any] = {"annualization": annualization, "hodges_tompkins": hodges_tompkins}
-        if windows:
-            kw["windows"] = tuple(windows)
-        return imported[0](h, estimator, **kw)
+        return analysis.cone_for(h, settings)
 
     results, failed = _run("cone", histories, compute, given)
     table = _concat([_with_series(c.table, name, estimator=c.estimator) for name, c in results.items()])
@@ -167,37 +147,27 @@ def cone_section(
 
 
 # ---------------------------------------------------------------------------------- scaling
-def scaling_section(
-    histories: Sequence[PriceHistory],
-    *,
-    annualization: float,
-    given: Mapping[str, Any] | None = None,
-) -> SectionResult:
+def scaling_section(histories: Sequence[PriceHistory], settings: Settings,
+                    given: Mapping[str, Any] | None = None) -> SectionResult:
     """Brownian-scaling check per series: the horizon table and a summary with the verdicts."""
-    imported = _lazy("volbench.scaling", "scaling_check")
-    if _unavailable(imported) and not given:
-        return SectionResult(SectionStatus("not available", imported))
 
     def compute(h: PriceHistory):
-        if _unavailable(imported):
-            raise VolbenchError(imported)
-        return imported[0](h, annualization=annualization)
+        return analysis.scaling_for(h, settings)
 
     results, failed = _run("scaling", histories, compute, given)
     horizons = _concat([_with_series(r.horizons, name) for name, r in results.items()])
     summary = _concat([scaling_summary(name, r) for name, r in results.items()])
     notes = []
     for name, r in results.items():
-        notes += [_note("scaling", name, "caveat", t) for t in getattr(r, "notes", ())]
-        notes += [_note("scaling", name, "horizon left out", f"horizon {h}: {why}")
-                  for h, why in dict(getattr(r, "dropped", {}) or {}).items()]
+        notes += [_note("scaling", name, "caveat", t) for t in r.notes]
+        notes += [_note("scaling", name, "horizon left out", f"horizon {h}: {why}") for h, why in r.dropped.items()]
     return _finish("scaling", results, failed, {"scaling": horizons, "scaling_summary": summary},
                    {"scaling": ("annualized_vol", "sqrt_time_vol")}, notes)
 
 
-def scaling_summary(name: str, r) -> pd.DataFrame:
+def scaling_summary(name: str, r: ScalingResult) -> pd.DataFrame:
     """One row per verdict, then the log-log slope, Hurst exponent and joint variance-ratio test."""
-    level = 1.0 - float(getattr(r, "alpha", 0.05))
+    level = 1.0 - float(r.alpha)
     lo, hi = (float(x) for x in r.slope_ci)
     rows = [{"series": name, "item": v.property, "status": v.status, "statistic": v.statistic,
              "p_value": v.p_value, "ci_low": np.nan, "ci_high": np.nan, "message": v.message}
@@ -209,10 +179,10 @@ def scaling_summary(name: str, r) -> pd.DataFrame:
         {"series": name, "item": "hurst", "status": "", "statistic": r.hurst, "p_value": np.nan,
          "ci_low": lo / 2, "ci_high": hi / 2, "message": "slope / 2 (0.5 under Brownian motion)"},
         {"series": name, "item": "chow_denning", "status": "",
-         "statistic": getattr(r, "chow_denning_stat", np.nan), "p_value": r.chow_denning_p,
+         "statistic": r.chow_denning_stat, "p_value": r.chow_denning_p,
          "ci_low": np.nan, "ci_high": np.nan, "message": "joint robust variance-ratio test over horizons >= 2"},
     ]
-    fa = getattr(r, "family_false_alarm", None)
+    fa = r.family_false_alarm
     if fa:
         rows.append({"series": name, "item": "family_false_alarm", "status": "", "statistic": fa["not_consistent"],
                      "p_value": np.nan, "ci_low": np.nan, "ci_high": np.nan,
@@ -224,53 +194,39 @@ def scaling_summary(name: str, r) -> pd.DataFrame:
 
 
 # ---------------------------------------------------------------------------------- GARCH
-def garch_section(
-    histories: Sequence[PriceHistory],
-    *,
-    models: Sequence[str],
-    dist: str,
-    annualization: float,
-    days: int | None = None,
-    processes: int | None = 1,
-    given: Mapping[str, Any] | None = None,
-) -> SectionResult:
-    """GARCH-family fits per series: one row per model (parameters, persistence, long-run, next-bar
+def garch_section(histories: Sequence[PriceHistory], settings: Settings,
+                  given: Mapping[str, Any] | None = None) -> SectionResult:
+    """GARCH-type fits per series: one row per model (parameters, persistence, long-run, next-bar
     and forward vol, convergence, fallback) and the term structure of expected vol.
 
-    ``processes`` other than 1 fits several series in worker processes
+    ``settings.garch.processes`` other than 1 fits several series in worker processes
     (:func:`volbench.models.fit_many`); 1 fits them one after the other in this process.
     """
-    imported = _lazy("volbench.models", "fit_models", "fit_many")
-    if _unavailable(imported) and not given:
-        return SectionResult(SectionStatus("not available", imported))
+    days = None if settings.option is None else settings.option.days
     batch: dict[str, Any] = {}
     todo = [h for h in histories if not (given and given.get(h.name) is not None) and h.n >= 3]
-    if not _unavailable(imported) and processes != 1 and len(todo) > 1:
-        fitted = imported[1](todo, models=tuple(models), dist=dist, annualization=annualization,
-                             processes=processes)
+    if settings.garch.processes != 1 and len(todo) > 1:
+        fitted = fit_many(todo, settings.garch, annualization=settings.annualization)
         batch = {h.name: r for h, r in zip(todo, fitted)}
 
     def compute(h: PriceHistory):
         if h.name in batch:
             return batch[h.name]
-        if _unavailable(imported):
-            raise VolbenchError(imported)
-        return imported[0](h, models=tuple(models), dist=dist, annualization=annualization)
+        return analysis.garch_for(h, settings)
 
     results, failed = _run("garch", histories, compute, given)
     rows, terms, notes = [], [], []
     for name, comp in results.items():
-        if getattr(comp, "message", ""):
+        if comp.message:
             notes.append(_note("garch", name, "reading", comp.message))
         for f in comp.fits:
             rows.append(garch_row(name, f, comp, days))
             notes += [_note("garch", name, "warning", f"{f.model}: {w}") for w in f.warnings]
-            notes += [_note("garch", name, "caveat", f"{f.model}: {t}") for t in getattr(f, "notes", ())]
+            notes += [_note("garch", name, "caveat", f"{f.model}: {t}") for t in f.notes]
             if days and np.isnan(rows[-1]["forward_vol"]):
                 notes.append(_note("garch", name, "caveat", f"{f.model}: no forward vol for {days} bars"))
-            ts = getattr(f, "term_structure", None)
-            if ts is not None and len(ts):
-                terms.append(_with_series(ts, name, model=f.model))
+            if len(f.term_structure):
+                terms.append(_with_series(f.term_structure, name, model=f.model))
     table = None
     if rows:
         table = pd.DataFrame(rows)
@@ -300,23 +256,23 @@ def _try(fn, *args) -> float:
         return np.nan
 
 
-def garch_row(name: str, f, comp, days: int | None) -> dict:
+def garch_row(name: str, f: GarchFit, comp: GarchComparison, days: int | None) -> dict:
     """One fitted model as a flat row (parameters as ``param_<name>``, errors as ``se_<name>``)."""
-    cond = getattr(f, "conditional_vol", None)
+    cond = f.conditional_vol
     row = {
-        "series": name, "model": f.model, "label": getattr(f, "label", f.model), "dist": f.dist,
-        "fitted": bool(getattr(f, "fitted", True)), "converged": bool(f.converged),
-        "preferred": getattr(comp, "preferred", None) == f.model, "nobs": getattr(f, "nobs", None),
-        "persistence": _num(f.persistence), "persistence_se": _num(getattr(f, "persistence_se", np.nan)),
+        "series": name, "model": f.model, "label": f.label, "dist": f.dist,
+        "fitted": bool(f.fitted), "converged": bool(f.converged),
+        "preferred": comp.preferred == f.model, "nobs": f.nobs,
+        "persistence": _num(f.persistence), "persistence_se": _num(f.persistence_se),
         "long_run_vol": _num(f.long_run_vol), "half_life": _num(f.half_life),
         "next_bar_vol": _try(f.forward_vol, 1),
-        "last_conditional_vol": _num(cond.iloc[-1]) if cond is not None and len(cond) else np.nan,
+        "last_conditional_vol": _num(cond.iloc[-1]) if len(cond) else np.nan,
         "forward_days": days if days else None,
         "forward_vol": _try(f.forward_vol, days) if days else np.nan,
-        "forecast_method": getattr(f, "forecast_method", ""),
-        "forward_vol_source": getattr(f, "forward_vol_source", ""),
-        "candidate_label": getattr(f, "candidate_label", getattr(f, "label", f.model)),
-        "fallback": f.fallback or "", "fallback_vol": _num(getattr(f, "fallback_vol", np.nan)),
+        "forecast_method": f.forecast_method,
+        "forward_vol_source": f.forward_vol_source,
+        "candidate_label": f.candidate_label,
+        "fallback": f.fallback or "", "fallback_vol": _num(f.fallback_vol),
         "loglik": _num(f.loglik), "aic": _num(f.aic), "bic": _num(f.bic),
     }
     row.update({f"param_{k}": _num(v) for k, v in dict(f.params).items()})
@@ -330,48 +286,29 @@ COMPARISON_FRONT = ("series", "as_of", "pricing_vol", "days", "window", "years",
                     "dividend_yield", "kind", "cone_estimator", "cone_percentile")
 
 
-def comparison_section(
-    histories: Sequence[PriceHistory],
-    *,
-    pricing_vol: float,
-    days: int,
-    option: Any,
-    annualization: float,
-    cone_estimator: str,
-    cone_windows: Sequence[int] | None,
-    scaling: Mapping[str, Any],
-    garch: Mapping[str, Any],
-    given: Mapping[str, Any] | None = None,
-    window: int | None = None,
-) -> SectionResult:
+def comparison_section(histories: Sequence[PriceHistory], settings: Settings,
+                       parts: Mapping[str, SectionResult], given: Mapping[str, Any] | None = None) -> SectionResult:
     """The proposed pricing vol against every candidate, per series, with the option's price impact.
 
     One row per vol (the pricing vol first, then each candidate), prefixed with the option and
-    the pricing vol's cone percentile; the reading and the missing candidates go to the notes.
+    the pricing vol's cone percentile; the reading (with what the price promises say) and the
+    missing candidates go to the notes. ``parts`` holds the sections already built whose results
+    offer candidates (GARCH, scaling), so nothing is computed twice.
     """
-    imported = _lazy("volbench.pricing.compare", "compare", "OptionSpec")
-    if _unavailable(imported) and not given:
-        return SectionResult(SectionStatus("not available", imported))
 
     def compute(h: PriceHistory):
-        if _unavailable(imported):
-            raise VolbenchError(imported)
-        compare, option_spec = imported
-        spec = option_spec(**option) if isinstance(option, Mapping) else option
-        kw: dict[str, Any] = {"option": spec, "annualization": annualization, "scaling": scaling.get(h.name),
-                              "garch": garch.get(h.name), "cone_estimator": cone_estimator, "window": window}
-        if cone_windows:
-            kw["cone_windows"] = tuple(cone_windows)
-        return compare(h, pricing_vol, days, **kw)
+        offered = {name: part.outcome(h.name) for name, part in parts.items()}
+        return analysis.comparison_for(h, settings, given=offered)
 
     results, failed = _run("comparison", histories, compute, given)
     frames, notes = [], []
     for name, c in results.items():
-        front = {k: getattr(c, k, None) for k in COMPARISON_FRONT[1:]}
+        front = {k: getattr(c, k) for k in COMPARISON_FRONT[1:]}
         front["cone_percentile"] = np.nan if c.cone_percentile is None else float(c.cone_percentile)
         t = c.table.rename(columns={"window": "candidate_window"})
         frames.append(_with_series(t, name, **front))
-        notes += [_note("comparison", name, "reading", t) for t in c.reading]
+        notes += [_note("comparison", name, "reading", t) for t in c.full_reading]
+        notes += [_note("comparison", name, "caveat", t) for t in c.caveats]
         notes += [_note("comparison", name, "candidate not available", f"{k}: {why}")
                   for k, why in dict(c.unavailable).items()]
     table = _concat(frames)
@@ -381,4 +318,4 @@ def comparison_section(
         table["window"] = table["window"].astype("Int64")
         table["days"] = table["days"].astype("Int64")
     return _finish("comparison", results, failed, {"comparison": table},
-                   {"comparison": ("pricing_vol", "rate", "dividend_yield", "vol")}, notes)
+                   {"comparison": ("pricing_vol", "rate", "dividend_yield", "vol", "ci_low", "ci_high")}, notes)

@@ -101,11 +101,17 @@ CAUTIONS = (
 def help_html() -> str:
     """Help text: cautions, how to use the window, and what each estimator assumes."""
     from volbench.estimators import REGISTRY
+    from volbench.models import MODEL_REGISTRY
 
     rows = "".join(
         f"<tr><td><b>{html.escape(s.label)}</b></td><td>{html.escape(s.assumes)}</td>"
         f"<td>{html.escape(s.source)}</td><td>{', '.join(sorted(s.needs))}</td></tr>"
         for s in REGISTRY.values())
+    rows += "".join(
+        f"<tr><td><b>{html.escape(m.label)}</b></td><td>{html.escape(m.assumes)} Fits can fail to converge, and "
+        "a persistence near or above one makes long-horizon forecasts unreliable (the forward vol then falls "
+        f"back, and says so).</td><td>{html.escape(m.source)}; fitted with the arch library</td><td>close</td></tr>"
+        for m in MODEL_REGISTRY.values())
     cautions = "".join(f"<li>{html.escape(c)}</li>" for c in CAUTIONS)
     return f"""
 <h2>volbench {__version__}</h2>
@@ -128,12 +134,7 @@ the <b>GARCH models</b> (forward vol over the option's life).</li>
 </ol>
 <h3>What each estimator assumes</h3>
 <table border="1" cellspacing="0" cellpadding="4">
-<tr><th>Estimator</th><th>Assumes</th><th>Source</th><th>Needs</th></tr>{rows}
-<tr><td><b>GARCH family</b></td><td>Conditional variance follows a GARCH(1,1), GJR-GARCH or EGARCH
-recursion with the chosen error distribution; fits can fail to converge, and a persistence near
-or above one makes long-horizon forecasts unreliable.</td>
-<td>Bollerslev (1986); Glosten, Jagannathan &amp; Runkle (1993); Nelson (1991); fitted with the
-arch library</td><td>close</td></tr>
+<tr><th>Estimator or model</th><th>Assumes</th><th>Source</th><th>Needs</th></tr>{rows}
 </table>
 <p>Units: vols are annualized and shown in percent; windows and horizons are in bars (rows of
 the file); annualization is bars per year.</p>

@@ -15,6 +15,7 @@ from PySide6.QtWidgets import (
     QFormLayout,
     QLabel,
     QLineEdit,
+    QSpinBox,
     QVBoxLayout,
     QWidget,
 )
@@ -39,7 +40,9 @@ def _combo(name: str, items, value) -> QComboBox:
 
 
 class ImportDialog(QDialog):
-    """Delimiter, decimal mark, thousands separator, date format, adjusted close and split repair.
+    """Delimiter, decimal mark, thousands separator, date format, adjusted close, split repair and
+    the calendar-gap threshold: every import option the command line has (``--gap-days`` included;
+    leaving out flagged rows is the Data tab's checkbox).
 
     :meth:`values` gives the chosen fields as :class:`Choices` keywords; :meth:`accept` refuses
     (with the reason shown in the dialog) a combination :class:`ImportOptions` rejects.
@@ -70,8 +73,15 @@ class ImportDialog(QDialog):
         form.addRow("Decimal mark", self.decimal)
         form.addRow("Thousands separator", self.thousands)
         form.addRow("Date format", self.date_format)
+        self.gap_days = QSpinBox()
+        self.gap_days.setObjectName("gap_days_spin")
+        self.gap_days.setRange(1, 3650)
+        self.gap_days.setSuffix(" days")
+        self.gap_days.setValue(choices.gap_days)
+        self.gap_days.setToolTip("Report calendar gaps longer than this many days (as --gap-days)")
         form.addRow("", self.use_adjusted)
         form.addRow("", self.adjust_splits)
+        form.addRow("Report gaps over", self.gap_days)
         lay.addLayout(form)
         self.problem = QLabel("")
         self.problem.setObjectName("import_problem_label")
@@ -93,11 +103,12 @@ class ImportDialog(QDialog):
             "date_format": self.date_format.text().strip() or None,
             "use_adjusted": self.use_adjusted.isChecked(),
             "adjust_splits": self.adjust_splits.isChecked(),
+            "gap_days": self.gap_days.value(),
         }
 
     def options(self) -> ImportOptions:
         """The choices as the validated settings object; raises :class:`VolbenchError` if invalid."""
-        return ImportOptions(**self.values())
+        return ImportOptions().with_changes(**self.values())
 
     def accept(self) -> None:
         try:

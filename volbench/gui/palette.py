@@ -1,13 +1,16 @@
 """The one place that maps things on screen to colours.
 
 Estimators use the Okabe-Ito colour-blind-safe set (Okabe & Ito, *Color Universal Design*, 2008),
-one fixed colour each, the same in every plot, table swatch and legend. GARCH-family models use
-three colours from Paul Tol's colour-blind-safe "muted" scheme plus distinct dash patterns, so a
-model line is never mistaken for an estimator. The proposed pricing vol is always near-black and
-dashed. Plain strings only, so this module needs no Qt import.
+one fixed colour each, the same in every plot, table swatch and legend. GARCH-type models carry
+their colour and dash pattern in their spec (:mod:`volbench.models.family`: colours from Paul
+Tol's colour-blind-safe "muted" scheme), so a model line is never mistaken for an estimator. The
+proposed pricing vol is always near-black and dashed. Plain strings only, so this module needs no
+Qt import.
 """
 
 from __future__ import annotations
+
+from volbench.models import family
 
 # Okabe-Ito: blue, orange, bluish green, reddish purple, vermillion, sky blue (yellow is left out:
 # too faint on a light background).
@@ -20,13 +23,6 @@ ESTIMATOR_COLOURS: dict[str, str] = {
     "ewma": "#56B4E9",
 }
 FALLBACK_COLOURS = ("#882255", "#332288", "#999933", "#44AA99", "#AA4499")
-
-MODEL_COLOURS: dict[str, str] = {
-    "garch": "#882255",   # Tol wine
-    "gjr": "#332288",     # Tol indigo
-    "egarch": "#999933",  # Tol olive
-}
-MODEL_DASH: dict[str, str] = {"garch": "solid", "gjr": "dash", "egarch": "dashdot"}
 
 PRICING_VOL = "#222222"
 PRICE_LINE = "#3B4A5A"
@@ -50,5 +46,5 @@ def estimator_colour(key: str) -> str:
 
 
 def model_colour(model: str) -> str:
-    """Fixed colour of GARCH-family model ``model``."""
-    return MODEL_COLOURS.get(model, FALLBACK_COLOURS[sum(map(ord, model)) % len(FALLBACK_COLOURS)])
+    """Colour of GARCH-type model ``model``: its spec's, else a stable one from the key."""
+    return family.model_colour(model, FALLBACK_COLOURS[sum(map(ord, model)) % len(FALLBACK_COLOURS)])

@@ -12,7 +12,7 @@ from pathlib import Path
 
 from PySide6.QtCore import QSettings
 
-from volbench.cli.cmd_gui import default_files
+from volbench.samples import sample_files
 
 SIZE = (1600, 1000)
 # pane key -> (file name, series shown)
@@ -40,7 +40,7 @@ def write_screenshots(out: str | Path, files=None) -> list[Path]:
         w = MainWindow(synchronous=True, choices=Choices(garch_model="all"))
         w.resize(*SIZE)
         w.show()
-        w.open_files(list(files or default_files()))
+        w.open_files(list(files or sample_files()))
         written = []
         for key, (name, series) in SHOTS.items():
             if any(h.name == series for h in w.state.histories):

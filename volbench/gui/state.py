@@ -1,133 +1,199 @@
 """The workbench's state model: what the user chose, announced on change.
 
-One :class:`WorkbenchState` holds every user choice (loaded histories, the flagged-rows policy,
-the selected series and every control value). It owns no computation and no widgets: controls
-write to it with :meth:`WorkbenchState.set`, and it emits :attr:`WorkbenchState.changed` with
-the names of the fields that really changed, so the controller recomputes only what depends on
-them and panes re-render.
+One :class:`WorkbenchState` holds every user choice (loaded histories, the selected series and a
+:class:`Choices`). It owns no computation and no widgets: controls write to it with
+:meth:`WorkbenchState.set`, and it emits :attr:`WorkbenchState.changed` with the names of the
+fields that really changed, so the controller recomputes only what depends on them and panes
+re-render.
+
+:class:`Choices` is made of the same settings objects the command line builds
+(:class:`~volbench.data.options.ImportOptions`, :class:`~volbench.settings.EstimationSettings`,
+:class:`~volbench.settings.ConeSettings`, ...): a control names one field (``"window"``,
+``"pricing_vol"``), :data:`FIELDS` says which group and attribute holds it, and changing it
+rebuilds that group, which validates the value with :mod:`volbench.validate`. So a bad value gets
+the command line's message, word for word.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass, fields, replace
+from collections.abc import Callable
+from dataclasses import dataclass
 from typing import Any
 
 from PySide6.QtCore import QObject, Signal
 
 from volbench import validate
 from volbench.data.history import PriceHistory
-from volbench.data.options import DECIMALS, DELIMITER_NAMES, THOUSANDS, ImportOptions
+from volbench.data.options import ImportOptions
 from volbench.errors import VolbenchError
 from volbench.estimators import ESTIMATOR_KEYS
+from volbench.models.family import MODEL_REGISTRY
+from volbench.settings import (
+    ConeSettings,
+    EstimationSettings,
+    GarchSettings,
+    OptionSettings,
+    ScalingSettings,
+    Settings,
+)
+
+GROUPS: dict[str, Callable[[], Any]] = {
+    "import_options": ImportOptions,
+    "estimation": lambda: EstimationSettings(window=20),
+    "cone": ConeSettings,
+    "scaling": ScalingSettings,
+    "garch": GarchSettings,
+    "option": lambda: OptionSettings(pricing_vol=0.25, days=30),
+}
+"""The settings groups the window holds, with the window's defaults."""
 
 
-@dataclass(frozen=True)
-class Choices:
-    """Every user setting, as plain values (decimals for vols and rates)."""
-
-    window: int = 20
-    annualization: float = 252.0
-    as_of: str | None = None
-    estimators: tuple[str, ...] = ESTIMATOR_KEYS
-    pricing_vol: float = 0.25
-    days: int = 30
-    strike: float | None = None
-    rate: float = 0.0
-    dividend_yield: float = 0.0
-    kind: str = "call"
-    garch_model: str = "all"
-    garch_dist: str = "normal"
-    cone_estimator: str = "close_to_close"
-    exclude_flagged: bool = False
-    date_format: str | None = None
-    delimiter: str | None = None
-    decimal: str | None = None
-    thousands: str | None = None
-    use_adjusted: bool = False
-    adjust_splits: bool = False
-
-    def import_options(self) -> ImportOptions:
-        """How files are read, as the one validated settings object the core takes.
-
-        Flagged rows are kept at import: the window applies ``exclude_flagged`` to what it shows.
-        """
-        return ImportOptions(delimiter=self.delimiter, decimal=self.decimal, thousands=self.thousands,
-                             date_format=self.date_format, use_adjusted=self.use_adjusted,
-                             adjust_splits=self.adjust_splits)
-
-    def as_dict(self) -> dict:
-        d = {f.name: getattr(self, f.name) for f in fields(self)}
-        d["estimators"] = list(self.estimators)
-        return d
-
-    @classmethod
-    def from_dict(cls, data: dict) -> Choices:
-        """Rebuild from a session or settings mapping; unknown keys are ignored, bad values rejected."""
-        known = {f.name: f for f in fields(cls)}
-        kw: dict[str, Any] = {}
-        for key, value in data.items():
-            if key not in known:
-                continue
-            kw[key] = _coerce(key, value)
-        return cls(**kw)
-
-
-_INT = {"window", "days"}
-_FLOAT = {"annualization", "pricing_vol", "rate", "dividend_yield"}
-_CHOICE = {"kind": ("call", "put"), "garch_model": ("all", "garch", "gjr", "egarch"),
-           "garch_dist": ("normal", "t")}
-_OPTIONAL_CHOICE = {"delimiter": tuple(DELIMITER_NAMES), "decimal": DECIMALS, "thousands": THOUSANDS}
-IMPORT_FIELDS = frozenset({"date_format", "delimiter", "decimal", "thousands", "use_adjusted", "adjust_splits"})
-"""Choices that change how files are read: changing one reads the files again."""
-
-
-def _window(value) -> int:
-    w = validate.window(value, minimum=2)
+def _window(value):
+    w = validate.window(value, minimum=1)
     if w is None:
         raise VolbenchError("window must be a whole number of bars, not 'all', in the window's settings")
     return w
 
 
-_VALIDATE = {"window": _window, "annualization": validate.annualization,
-             "pricing_vol": validate.pricing_vol, "days": validate.days,
-             "cone_estimator": validate.estimator}
-"""Settings checked by the same functions as the command line and the export (volbench.validate)."""
+def _garch_models(value):
+    return validate.models(value)
 
 
-def _coerce(key: str, value):
-    if key in _VALIDATE:
-        return _VALIDATE[key](value)
-    if key == "as_of":
-        return None if value in (None, "") or validate.as_of(value) is None else str(value).strip()
-    try:
-        if key in _INT:
-            return int(value)
-        if key in _FLOAT:
-            return float(value)
-        if key == "strike":
-            return None if value in (None, "", 0, 0.0) else float(value)
-        if key in ("as_of", "date_format"):
-            return None if value in (None, "") else str(value)
-        if key == "estimators":
-            return tuple(validate.estimator(str(k)) for k in value)
-        if key == "garch_model":
-            return value if value == "all" else validate.model(value)
-        if key in ("exclude_flagged", "use_adjusted", "adjust_splits"):
-            return bool(value)
-        if key in _OPTIONAL_CHOICE:
-            if value in (None, ""):
-                return None
-            if value not in _OPTIONAL_CHOICE[key]:
-                shown = ", ".join(repr(v) for v in _OPTIONAL_CHOICE[key])
-                raise VolbenchError(f"{key} must be one of {shown} or empty, got {value!r}")
-            return value
-        if key in _CHOICE:
-            if value not in _CHOICE[key]:
-                raise VolbenchError(f"{key} must be one of {', '.join(_CHOICE[key])}, got {value!r}")
-            return value
-        return value
-    except (TypeError, ValueError):
-        raise VolbenchError(f"setting {key!r} has an unreadable value {value!r}") from None
+def _garch_model_shown(models) -> str:
+    return "all" if tuple(models) == tuple(MODEL_REGISTRY) else models[0]
+
+
+def _strike(value):
+    return None if value in (None, "", 0, 0.0) else value
+
+
+def _optional_text(value):
+    return None if value in (None, "") else value
+
+
+@dataclass(frozen=True)
+class Field:
+    """Where one control's value lives: ``group.attribute``, with conversions both ways."""
+
+    group: str | None
+    attribute: str
+    to_group: Callable[[Any], Any] = lambda v: v
+    from_group: Callable[[Any], Any] = lambda v: v
+
+
+FIELDS: dict[str, Field] = {
+    "window": Field("estimation", "window", _window),
+    "annualization": Field("estimation", "annualization"),
+    "as_of": Field("estimation", "as_of", _optional_text),
+    "pricing_vol": Field("option", "pricing_vol"),
+    "days": Field("option", "days"),
+    "strike": Field("option", "strike", _strike),
+    "rate": Field("option", "rate"),
+    "dividend_yield": Field("option", "dividend_yield"),
+    "kind": Field("option", "kind"),
+    "garch_model": Field("garch", "models", _garch_models, _garch_model_shown),
+    "garch_dist": Field("garch", "dist"),
+    "cone_estimator": Field("cone", "estimator"),
+    "exclude_flagged": Field("import_options", "exclude_flagged"),
+    "date_format": Field("import_options", "date_format", _optional_text),
+    "delimiter": Field("import_options", "delimiter", _optional_text),
+    "decimal": Field("import_options", "decimal", _optional_text),
+    "thousands": Field("import_options", "thousands", _optional_text),
+    "use_adjusted": Field("import_options", "use_adjusted"),
+    "adjust_splits": Field("import_options", "adjust_splits"),
+    "gap_days": Field("import_options", "gap_days"),
+    "estimators": Field(None, "estimators", lambda v: tuple(validate.estimator(str(k)) for k in v)),
+}
+"""Every control's field name -> the settings group and attribute that hold it."""
+
+IMPORT_FIELDS = frozenset({"date_format", "delimiter", "decimal", "thousands", "use_adjusted", "adjust_splits",
+                           "gap_days"})
+"""Choices that change how files are read: changing one reads the files again."""
+
+
+class Choices:
+    """Every user setting of the window, held as the settings objects the command line builds.
+
+    Build it from field names (``Choices(window=40, pricing_vol=0.3)``); read a field as an
+    attribute (``choices.window``) or a whole group (``choices.group("option")``);
+    :meth:`settings` gives the :class:`~volbench.settings.Settings` every job runs with.
+    """
+
+    __slots__ = ("_estimators", "_groups")
+
+    def __init__(self, **values: Any) -> None:
+        self._groups = {name: make() for name, make in GROUPS.items()}
+        self._estimators: tuple[str, ...] = ESTIMATOR_KEYS
+        self._apply(values)
+
+    # ------------------------------------------------------------------ reading
+    def __getattr__(self, name: str):
+        field = FIELDS.get(name)
+        if field is None:
+            raise AttributeError(name)
+        if field.group is None:
+            return field.from_group(self._estimators)
+        group = self._groups[field.group]
+        value = group.quality.gap_days if field.attribute == "gap_days" else getattr(group, field.attribute)
+        return field.from_group(value)
+
+    def group(self, name: str):
+        """The settings object of group ``name`` (``"estimation"``, ``"option"``, ...)."""
+        return self._groups[name]
+
+    def settings(self) -> Settings:
+        """Every group as the one :class:`Settings` a job runs with (the same object the CLI builds)."""
+        return Settings(**self._groups)
+
+    def import_options(self) -> ImportOptions:
+        """How files are read. Flagged rows are kept at import: the window applies the choice to what it shows."""
+        return self._groups["import_options"].with_changes(exclude_flagged=False)
+
+    def __eq__(self, other) -> bool:
+        return isinstance(other, Choices) and self.as_dict() == other.as_dict()
+
+    def __hash__(self) -> int:
+        return hash(tuple(sorted((k, str(v)) for k, v in self.as_dict().items())))
+
+    def __repr__(self) -> str:
+        return f"Choices({', '.join(f'{k}={v!r}' for k, v in self.as_dict().items())})"
+
+    # ------------------------------------------------------------------ changing
+    def _apply(self, values: dict) -> None:
+        changes: dict[str, dict[str, Any]] = {}
+        for name, value in values.items():
+            field = FIELDS.get(name)
+            if field is None:
+                raise AttributeError(f"Choices has no field {name!r}")
+            converted = field.to_group(value)
+            if field.group is None:
+                self._estimators = converted
+            else:
+                changes.setdefault(field.group, {})[field.attribute] = converted
+        for group, attrs in changes.items():
+            self._groups[group] = self._groups[group].with_changes(**attrs)
+
+    def replace(self, **values: Any) -> Choices:
+        """A copy with some fields changed, each validated by its settings group."""
+        new = Choices.__new__(Choices)
+        new._groups = dict(self._groups)
+        new._estimators = self._estimators
+        new._apply(values)
+        return new
+
+    # ------------------------------------------------------------------ saving
+    def as_dict(self) -> dict:
+        """Every field by name (the shape sessions and remembered settings store)."""
+        d = {}
+        for name in FIELDS:
+            value = getattr(self, name)
+            d[name] = list(value) if name == "estimators" else value
+        return d
+
+    @classmethod
+    def from_dict(cls, data: dict) -> Choices:
+        """Rebuild from a session or settings mapping; unknown keys are ignored, bad values rejected."""
+        return cls(**{k: v for k, v in data.items() if k in FIELDS})
 
 
 class WorkbenchState(QObject):
@@ -159,7 +225,7 @@ class WorkbenchState(QObject):
         if name.startswith("_"):
             raise AttributeError(name)
         choices = self.__dict__.get("_choices")
-        if choices is not None and name in Choices.__dataclass_fields__:
+        if choices is not None and name in FIELDS:
             return getattr(choices, name)
         raise AttributeError(name)
 
@@ -215,15 +281,14 @@ class WorkbenchState(QObject):
                         raise VolbenchError(f"no loaded series is called {value!r}")
                     self._selected = value
                     changed.add("selected")
-            elif name in Choices.__dataclass_fields__:
-                value = _coerce(name, value)
-                if getattr(self._choices, name) != value:
-                    new_choices[name] = value
-                    changed.add(name)
+            elif name in FIELDS:
+                new_choices[name] = value
             else:
                 raise AttributeError(f"WorkbenchState has no field {name!r}")
         if new_choices:
-            self._choices = replace(self._choices, **new_choices)
+            updated = self._choices.replace(**new_choices)  # validated: a bad value raises, nothing changes
+            changed |= {k for k in new_choices if getattr(updated, k) != getattr(self._choices, k)}
+            self._choices = updated
         if changed:
             self.changed.emit(frozenset(changed))
 
@@ -247,4 +312,4 @@ class WorkbenchState(QObject):
         self._choices = choices
         names = [h.name for h in self._histories]
         self._selected = selected if selected in names else (names[0] if names else None)
-        self.changed.emit(frozenset({"histories", "selected", *Choices.__dataclass_fields__}))
+        self.changed.emit(frozenset({"histories", "selected", *FIELDS}))

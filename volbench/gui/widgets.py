@@ -1,5 +1,5 @@
-"""Small widgets every pane uses: a table that copies itself, a plot that saves itself, a
-card that can say "not available", and number formatting for display."""
+"""Small widgets every pane uses: a table that copies itself, a plot that saves itself, and a
+card that shows a one-line message when its pane has nothing to show."""
 
 from __future__ import annotations
 
@@ -25,14 +25,8 @@ from PySide6.QtWidgets import (
 )
 
 from volbench.errors import VolbenchError
-from volbench.formatting import pct as _pct
+from volbench.export import table_to_tsv
 from volbench.gui import palette
-from volbench.gui.compute import table_tsv
-
-
-def pct(x, digits: int = 2) -> str:
-    """0.2345 -> '23.45 %'; None/NaN -> 'n/a'; never more than about 6 significant digits."""
-    return _pct(x, digits)
 
 
 def log_ticks(lo: float, hi: float) -> list[tuple[float, str]]:
@@ -46,16 +40,6 @@ def log_ticks(lo: float, hi: float) -> list[tuple[float, str]]:
             if lo <= v <= hi:
                 out.append((math.log10(v), f"{v:.6g}"))
     return out
-
-
-def num(x, digits: int = 4) -> str:
-    if x is None or isinstance(x, str):
-        return "" if x is None else x
-    try:
-        xf = float(x)
-    except (TypeError, ValueError):
-        return str(x)
-    return "n/a" if not math.isfinite(xf) else f"{xf:.{digits}g}"
 
 
 # ---------------------------------------------------------------------- tables
@@ -188,7 +172,7 @@ class FrameTable(QTableView):
         return self._raw
 
     def to_tsv(self) -> str:
-        return table_tsv(self._raw)
+        return table_to_tsv(self._raw)
 
     def copy_to_clipboard(self) -> str:
         text = self.to_tsv()
@@ -309,7 +293,7 @@ class Plot(pg.PlotWidget):
 
 # ---------------------------------------------------------------------- cards
 class Card(QStackedWidget):
-    """Content or a one-line message ("not available in this build", "load a file", an error)."""
+    """Content or a one-line message ("load a file", why a result is missing, an error)."""
 
     def __init__(self, content: QWidget, object_name: str, parent: QWidget | None = None) -> None:
         super().__init__(parent)

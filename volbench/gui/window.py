@@ -19,9 +19,9 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from volbench.data.load import Cancelled as LoadCancelled
+from volbench.data.load import Loaded
 from volbench.errors import VolbenchError
-from volbench.gui import compute
+from volbench.gui import panes as pane_registry
 from volbench.gui.controller import Controller, Results
 from volbench.gui.dialogs import (
     HelpDialog,
@@ -32,26 +32,18 @@ from volbench.gui.dialogs import (
     show_error,
 )
 from volbench.gui.import_dialog import ImportDialog
-from volbench.gui.loading import Loaded, load_files
-from volbench.gui.panes.comparison_pane import ComparisonPane
-from volbench.gui.panes.cone_pane import ConePane
-from volbench.gui.panes.controls import ControlsPane
-from volbench.gui.panes.data_pane import DataPane
-from volbench.gui.panes.model_pane import ModelPane
-from volbench.gui.panes.price_pane import PricePane
-from volbench.gui.panes.rolling_pane import RollingPane
-from volbench.gui.panes.scaling_pane import ScalingPane
+from volbench.gui.jobs import BatchRequest, ExportRequest, LoadRequest
+from volbench.gui.panes import Pane
 from volbench.gui.session import Session, read_session, write_session
 from volbench.gui.settings import Settings
 from volbench.gui.state import IMPORT_FIELDS, Choices, WorkbenchState
 from volbench.gui.widgets import Plot
-from volbench.gui.workers import Cancelled, Dispatcher
+from volbench.gui.workers import Dispatcher
 
 EXPORT_FILTERS = "Excel workbook (*.xlsx);;CSV table (*.csv);;JSON document (*.json)"
 SESSION_FILTER = "volbench session (*.json)"
 PRICE_FILTER = "Price files (*.csv *.txt *.tsv);;All files (*)"
-TABS = (("data", "Data"), ("prices", "Prices"), ("rolling", "Rolling volatility"), ("scaling", "Scaling check"),
-        ("cone", "Volatility cone"), ("model", "GARCH models"))
+DOCK_AREAS = {"left": Qt.DockWidgetArea.LeftDockWidgetArea, "bottom": Qt.DockWidgetArea.BottomDockWidgetArea}
 
 
 class MainWindow(QMainWindow):
@@ -92,40 +84,30 @@ class MainWindow(QMainWindow):
         self._loaded_options = None  # the ImportOptions the shown histories were read with
         self._quiet_reload = False
 
-        self.panes: dict[str, QWidget] = {
-            "data": DataPane(self.state),
-            "prices": PricePane(self.state),
-            "rolling": RollingPane(self.state, self.results),
-            "scaling": ScalingPane(self.results),
-            "cone": ConePane(self.state, self.results),
-            "model": ModelPane(self.state, self.results),
-        }
         self.tabs = QTabWidget()
         self.tabs.setObjectName("pane_tabs")
         self.tabs.setDocumentMode(False)
-        for key, title in TABS:
-            self.tabs.addTab(self.panes[key], title)
         self.setCentralWidget(self.tabs)
-
-        self.controls = ControlsPane(self.state)
-        self.controls_dock = self._dock("controls_dock", "Settings", self.controls,
-                                        Qt.DockWidgetArea.LeftDockWidgetArea)
-        self.comparison = ComparisonPane(self.results)
-        self.comparison_dock = self._dock("comparison_dock", "Comparison with the pricing vol", self.comparison,
-                                          Qt.DockWidgetArea.BottomDockWidgetArea)
+        self.panes: dict[str, Pane] = {}
+        self.docks: dict[str, QDockWidget] = {}
+        for cls in pane_registry.PANES:
+            pane = cls(self.state, self.results)
+            self.panes[cls.key] = pane
+            if cls.place == "tab":
+                self.tabs.addTab(pane, cls.title)
+            else:
+                self.docks[cls.key] = self._dock(f"{cls.key}_dock", cls.title, pane, DOCK_AREAS[cls.place])
+            pane.requested.connect(self.perform)
+            pane.notice.connect(self.show_status)
         self._build_status_bar()
         self._build_menus()
 
-        self.panes["data"].open_requested.connect(self.ask_open_files)
-        self.panes["data"].reload_requested.connect(self.reload_files)
-        self.panes["model"].fit_all_requested.connect(self.fit_all_series)
-        self.controls.message.connect(self.show_status)
-        self.controls.recompute_requested.connect(lambda: self.controller.recompute())
         self.controller.status.connect(self.show_status)
+        self.controller.finished.connect(self._on_job_finished)
+        self.controller.failed.connect(self._on_job_failed)
+        self.state.changed.connect(self._on_state)
         self.dispatcher.progress.connect(self._on_progress)
         self.dispatcher.busy.connect(self._on_busy)
-        self.dispatcher.result.connect(self._on_job_result)
-        self.dispatcher.error.connect(self._on_job_error)
         self.resize(1360, 900)
         self.settings.restore_window(self)
         self.controller.recompute()
@@ -184,12 +166,25 @@ class MainWindow(QMainWindow):
         f.addSeparator()
         self._action(f, "&Quit", self.close, QKeySequence.StandardKey.Quit)
         v = bar.addMenu("&View")
-        v.addAction(self.controls_dock.toggleViewAction())
-        v.addAction(self.comparison_dock.toggleViewAction())
+        for dock in self.docks.values():
+            v.addAction(dock.toggleViewAction())
         self._action(v, "Recompute all", lambda: self.controller.recompute(), "F5")
         h = bar.addMenu("&Help")
         self._action(h, "&About volbench and the estimators…", self.show_help, QKeySequence.StandardKey.HelpContents,
                      "help_action")
+
+    # ------------------------------------------------------------------ actions
+    def perform(self, action: str) -> None:
+        """What a pane asked for: ``"open"``, ``"recompute"``, ``"export"`` or ``"garch_all"``."""
+        actions = {"open": self.ask_open_files, "recompute": lambda: self.controller.recompute(),
+                   "export": self.ask_export, "garch_all": self.fit_all_series}
+        if action not in actions:
+            raise VolbenchError(f"unknown action {action!r}; choose one of: {', '.join(actions)}")
+        actions[action]()
+
+    def _on_state(self, names) -> None:
+        if names & IMPORT_FIELDS:
+            self.reload_files()
 
     # ------------------------------------------------------------------ status and progress
     def show_status(self, text: str) -> None:
@@ -212,18 +207,15 @@ class MainWindow(QMainWindow):
             self.show_status("Ready.")
 
     def cancel_work(self) -> None:
-        self.controller.cancel_background()
-        if self.dispatcher.is_running("load"):
-            self.dispatcher.cancel("load")
+        """Cancel: every background job stops (the job table's jobs all honour it)."""
+        stopped = self.controller.cancel_background()
+        if "load" in stopped:
             self._after_load = None
             self.show_status("Stopped reading the files; what was loaded before is unchanged.")
             return
-        for kind in ("export", "garch_all"):
-            if self.dispatcher.is_running(kind):
-                self.dispatcher.cancel(kind)
-                if kind == "garch_all":
-                    self.results.fail("garch_all", "Stopped before every series was fitted.")
-                    self.results.announce({"garch_all"})
+        if "garch_all" in stopped:
+            self.results.fail("garch_all", "Stopped before every series was fitted.")
+            self.results.announce({"garch_all"})
         self.show_status("Stopped.")
 
     # ------------------------------------------------------------------ files
@@ -317,14 +309,6 @@ class MainWindow(QMainWindow):
             show_error(self, "how to read the files", exc)
             return
 
-        todo, names = tuple(paths), frozenset(taken)
-
-        def job(progress, cancel):
-            try:
-                return load_files(todo, options, taken=names, progress=progress, cancel=cancel)
-            except LoadCancelled:
-                raise Cancelled() from None
-
         def finish(loaded: Loaded) -> None:
             self._loaded_options = options
             then(loaded)
@@ -332,7 +316,7 @@ class MainWindow(QMainWindow):
 
         self._after_load = finish
         self.show_status(f"Reading {len(paths)} file{'s' if len(paths) != 1 else ''}…")
-        self.dispatcher.submit("load", job)
+        self.controller.run("load", LoadRequest(tuple(paths), options, frozenset(taken)))
 
     def reload_files(self) -> None:
         """Read every file again when a choice about how to read them changed."""
@@ -434,7 +418,6 @@ class MainWindow(QMainWindow):
                 self.show_status("Export cancelled; the existing file is unchanged.")
                 return
             overwrite = True
-        c = self.state.choices
         try:
             views = self.state.views()
             view = self.controller.current_view()
@@ -447,24 +430,10 @@ class MainWindow(QMainWindow):
                 value = self.controller.fresh(section)
                 if value is not None:
                     given.setdefault(section, {})[view.name] = value
-
-        def job(progress, cancel, path=path, overwrite=overwrite):
-            bundle = compute.export_bundle(
-                views, window=c.window, annualization=c.annualization, as_of=c.as_of,
-                pricing_vol=c.pricing_vol, days=c.days, strike=c.strike, rate=c.rate,
-                dividend_yield=c.dividend_yield, kind=c.kind, cone_estimator=c.cone_estimator,
-                garch_model=c.garch_model, garch_dist=c.garch_dist,
-                import_settings={**c.import_options().as_dict(), "exclude_flagged": c.exclude_flagged},
-                given=given, progress=progress)
-            if cancel():
-                raise Cancelled()
-            return compute.write_bundle(path, bundle, overwrite=overwrite)
-
         self.show_status(f"Exporting to {path.name}…")
-        self.dispatcher.submit("export", job)
+        self.controller.run("export", ExportRequest(path, tuple(views), overwrite, given))
 
     def fit_all_series(self) -> None:
-        c = self.state.choices
         views = self.state.views()
         if not views:
             show_error(self, "fit every series", "Nothing to fit yet: open a price file first.")
@@ -472,11 +441,9 @@ class MainWindow(QMainWindow):
         processes = 1 if self.dispatcher.synchronous else None
         self.results.wait_for("garch_all", f"Fitting {len(views)} series…")
         self.results.announce({"garch_all"})
-        self.dispatcher.submit("garch_all", lambda progress, cancel: (compute.fit_all(
-            views, c.garch_model, c.garch_dist, c.annualization, processes=processes, progress=progress,
-            cancel=cancel), c.days))
+        self.controller.run("garch_all", BatchRequest(tuple(views), processes))
 
-    def _on_job_result(self, kind: str, value) -> None:
+    def _on_job_finished(self, kind: str, value) -> None:
         if kind == "load":
             then, self._after_load = self._after_load, None
             if then is not None:
@@ -485,16 +452,10 @@ class MainWindow(QMainWindow):
             self.show_status(f"Exported to {value}.")
             self.exported.emit(value)
         elif kind == "garch_all":
-            comps, days = value
-            if comps is None:
-                self.results.fail("garch_all", "Stopped before every series was fitted.")
-            else:
-                self.results.put("garch_all", (comps, days))
+            self.results.put("garch_all", value)
             self.results.announce({"garch_all"})
 
-    def _on_job_error(self, kind: str, exc) -> None:
-        if isinstance(exc, compute.NotInBuild):
-            exc = f"{exc.feature} is not available in this build."
+    def _on_job_failed(self, kind: str, exc) -> None:
         if kind == "load":
             self._after_load = None
             show_error(self, "could not read the files", exc)
@@ -503,7 +464,7 @@ class MainWindow(QMainWindow):
             show_error(self, "export", exc)
             self.show_status("Export failed; see the message.")
         elif kind == "garch_all":
-            self.results.fail("garch_all", exc if isinstance(exc, str) else error_text(exc))
+            self.results.fail("garch_all", error_text(exc))
             self.results.announce({"garch_all"})
 
     # ------------------------------------------------------------------ plots, help
@@ -528,8 +489,6 @@ class MainWindow(QMainWindow):
         self.settings.save_window(self)
         self.settings.save_choices(self.state.choices)
         self.settings.sync()
-        self.controls.unbind()
         for pane in self.panes.values():
-            if hasattr(pane, "unbind"):
-                pane.unbind()
+            pane.unbind()
         super().closeEvent(event)

@@ -15,11 +15,11 @@ from collections.abc import Callable
 
 from PySide6.QtCore import QObject, QRunnable, Qt, QThreadPool, Signal, Slot
 
+from volbench.errors import Cancelled
+
 Job = Callable[[Callable[[int, int, str], None], Callable[[], bool]], object]
 
-
-class Cancelled(Exception):
-    """Raised inside a job that noticed its cancel flag."""
+__all__ = ["Cancelled", "Dispatcher", "Job"]
 
 
 class _Relay(QObject):

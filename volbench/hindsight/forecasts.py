@@ -17,6 +17,7 @@ import numpy as np
 from scipy.signal import lfilter
 
 from volbench.data.history import PriceHistory, _iso
+from volbench.errors import Cancelled
 from volbench.estimators import REGISTRY, availability, get_spec, rolling_vol
 from volbench.estimators.close_based import EWMA_LAMBDA, ewma_effective_n
 from volbench.events.mapping import EventMap, ex_event_history
@@ -25,7 +26,7 @@ Progress = Callable[[int, int, str], None]
 Cancel = Callable[[], bool]
 
 
-class HindsightCancelled(Exception):
+class HindsightCancelled(Cancelled):
     """Raised when the caller's ``cancel()`` returned True between two GARCH refits.
 
     ``done`` and ``total`` count the refits finished and planned.
@@ -218,6 +219,7 @@ def garch_forecast(
     t_j .. t_{j+1} - 1 only (no look-ahead).
     """
     from volbench.models import fit_garch  # arch is imported only when GARCH is asked for
+    from volbench.settings import GarchSettings
 
     n = history.n
     r = history.log_returns()
@@ -225,11 +227,12 @@ def garch_forecast(
     total = int(refit_bars.size)
     fallbacks = 0
     bars = np.arange(n)
+    settings = GarchSettings(models=("garch",), dist=dist, horizons=(days,))
     for j, tb in enumerate(refit_bars):
         if cancel is not None and cancel():
             raise HindsightCancelled(j, total)
         end = int(refit_bars[j + 1]) if j + 1 < total else n
-        fit = fit_garch(history.take(bars <= tb), "garch", dist, horizons=(days,), annualization=annualization)
+        fit = fit_garch(history.take(bars <= tb), "garch", settings, annualization=annualization)
         if fit.usable:
             p = fit.params
             mu, omega, alpha, beta = p["mu"], p["omega"], p["alpha[1]"], p["beta[1]"]

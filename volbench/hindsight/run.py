@@ -16,6 +16,7 @@ from functools import cached_property
 import numpy as np
 import pandas as pd
 
+from volbench import validate
 from volbench.data.history import PriceHistory, _iso
 from volbench.errors import VolbenchError
 from volbench.estimators import ESTIMATOR_KEYS, get_spec
@@ -246,7 +247,9 @@ def hindsight(
     read the p-values as a guide.
     """
     a = check_annualization(annualization)
-    n_days = _whole(days, "days", 1, MAX_DAYS)
+    n_days = validate.days(days)  # the one rule every command and the window apply to days
+    if n_days > MAX_DAYS:
+        raise VolbenchError(f"days must be at most {MAX_DAYS} bars for a hindsight run, got {n_days}")
     wins = check_windows(windows)
     k_step = _whole(step, "step", 1)
     refit = _whole(refit_every, "refit_every", 1)

@@ -17,9 +17,10 @@ from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY, estimate_all
 from volbench.market.surface import ImpliedSurface
-from volbench.models import MODEL_LABELS, fit_garch
+from volbench.models import MODEL_REGISTRY, fit_garch
 from volbench.models.term import MAX_HORIZON
 from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, vol_cone
+from volbench.settings import GarchSettings
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
 
 REALIZED_REFERENCE = ("yang_zhang", "close_to_close")
@@ -144,8 +145,8 @@ def versus_history(surface: ImpliedSurface, history: PriceHistory, *, annualizat
     a = check_annualization(annualization)
     if cone_estimator not in REGISTRY:
         raise VolbenchError(f"unknown estimator {cone_estimator!r}; choose one of: {', '.join(REGISTRY)}")
-    if model not in MODEL_LABELS:
-        raise VolbenchError(f"unknown model {model!r}; choose one of: {', '.join(MODEL_LABELS)}")
+    if model not in MODEL_REGISTRY:
+        raise VolbenchError(f"unknown model {model!r}; choose one of: {', '.join(MODEL_REGISTRY)}")
     h = history.up_to(surface.as_of)
     notes: list[str] = []
     gap = (np.datetime64(surface.as_of, "D") - h.dates[-1].astype("datetime64[D]")) / np.timedelta64(1, "D")
@@ -159,12 +160,12 @@ def versus_history(surface: ImpliedSurface, history: PriceHistory, *, annualizat
     fit_reason = None
     if days:
         try:
-            fit = fit_garch(h, model, dist, horizons=days, annualization=a)
+            fit = fit_garch(h, model, GarchSettings(models=(model,), dist=dist, horizons=days), annualization=a)
         except VolbenchError as exc:
             fit_reason = str(exc)
     source = None
     if fit is not None:
-        source = MODEL_LABELS[model] if fit.usable else f"{fit.fallback} (fallback: {fit.warnings[0]})"
+        source = MODEL_REGISTRY[model].label if fit.usable else f"{fit.fallback} (fallback: {fit.warnings[0]})"
     try:
         cone = vol_cone(h, cone_estimator, cone_windows, annualization=a)
         cone_reason = None

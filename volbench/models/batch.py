@@ -12,23 +12,16 @@ import multiprocessing
 import os
 import sys
 import threading
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Sequence
 from concurrent.futures import FIRST_COMPLETED, Future, ProcessPoolExecutor, wait
 
 import numpy as np
 
 from volbench.data.history import PriceHistory
-from volbench.errors import VolbenchError
-from volbench.models.compare import GarchComparison, check_models, fit_models
-from volbench.models.garch import (
-    DEFAULT_SEED,
-    DEFAULT_SIMULATIONS,
-    MODELS,
-    check_settings,
-    check_simulation_budget,
-)
-from volbench.models.term import DEFAULT_TERM_HORIZONS
-from volbench.types import DEFAULT_ANNUALIZATION
+from volbench.errors import Cancelled, VolbenchError
+from volbench.models.ranking import GarchComparison, fit_models
+from volbench.settings import GarchSettings
+from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
 
 Progress = Callable[[int, int, str], None]
 Cancel = Callable[[], bool]
@@ -37,7 +30,7 @@ POLL_SECONDS = 0.05
 """How often ``cancel`` is polled while waiting for workers."""
 
 
-class FitCancelled(Exception):
+class FitCancelled(Cancelled):
     """Raised by :func:`fit_many` when ``cancel()`` returned True.
 
     Attributes
@@ -56,8 +49,8 @@ class FitCancelled(Exception):
         super().__init__(f"GARCH fitting cancelled after {self.done} of {self.total} series")
 
 
-def _fit_one(history: PriceHistory, models: tuple[str, ...], settings: dict) -> GarchComparison:
-    return fit_models(history, models, **settings)
+def _fit_one(history: PriceHistory, settings: GarchSettings, annualization: float) -> GarchComparison:
+    return fit_models(history, settings, annualization=annualization)
 
 
 def default_context() -> multiprocessing.context.BaseContext:
@@ -78,32 +71,26 @@ def default_context() -> multiprocessing.context.BaseContext:
 
 def fit_many(
     histories: Sequence[PriceHistory],
+    settings: GarchSettings | None = None,
     *,
-    models: Iterable[str] | str = MODELS,
-    dist: str = "normal",
-    mean: str = "constant",
-    horizons: Iterable[int] = DEFAULT_TERM_HORIZONS,
     annualization: float = DEFAULT_ANNUALIZATION,
-    seed: int = DEFAULT_SEED,
-    simulations: int = DEFAULT_SIMULATIONS,
-    max_iterations: int | None = None,
-    processes: int | None = None,
     progress: Progress | None = None,
     cancel: Cancel | None = None,
     mp_context: multiprocessing.context.BaseContext | None = None,
 ) -> list[GarchComparison]:
-    """:func:`~volbench.models.compare.fit_models` for each history, in worker processes.
+    """:func:`~volbench.models.ranking.fit_models` for each history, in worker processes.
 
     Parameters
     ----------
     histories
         Series to fit (picklable frozen dataclasses).
-    models, dist, mean, horizons, annualization, seed, simulations, max_iterations
-        As for :func:`~volbench.models.compare.fit_models`; every series gets the same settings
-        and seed, so results do not depend on which process fitted them.
-    processes
-        Worker processes (default ``os.cpu_count()``, never more than the number of series).
-        ``1`` fits in the calling process, with no pool at all.
+    settings
+        Models, distribution, horizons, seed... (:class:`~volbench.settings.GarchSettings`); every
+        series gets the same settings and seed, so results do not depend on which process fitted
+        them. ``settings.processes``: worker processes (``None``: ``os.cpu_count()``; never more than
+        the number of series); ``1`` fits in the calling process, with no pool at all.
+    annualization
+        Bars per year.
     progress
         ``progress(done, total, name)`` after each series finishes, called in the caller's thread.
     cancel
@@ -127,12 +114,11 @@ def fit_many(
         ``cancel()`` returned True.
     """
     hs = list(histories)
-    keys = check_models(models)
-    settings = check_settings(dist=dist, mean=mean, horizons=horizons, annualization=annualization,
-                              seed=seed, simulations=simulations, max_iterations=max_iterations)
-    check_simulation_budget(keys, settings)
-    if processes is not None and (isinstance(processes, bool) or not isinstance(processes, int) or processes < 1):
-        raise VolbenchError(f"processes must be a whole number >= 1 or None, got {processes!r}")
+    settings = settings if settings is not None else GarchSettings()
+    if not isinstance(settings, GarchSettings):
+        raise VolbenchError(f"settings must be GarchSettings, got {type(settings).__name__}")
+    a = check_annualization(annualization)
+    processes = settings.processes
     for h in hs:
         if h.n < 3:
             raise VolbenchError(f"{h.name}: {h.n} price{'s' if h.n != 1 else ''}; a volatility needs at least "
@@ -147,7 +133,7 @@ def fit_many(
         for i, h in enumerate(hs):
             if cancel is not None and cancel():
                 raise FitCancelled(results)
-            results[i] = _fit_one(h, keys, settings)
+            results[i] = _fit_one(h, settings, a)
             if progress is not None:
                 progress(i + 1, total, h.name)
         return results  # type: ignore[return-value]
@@ -155,7 +141,7 @@ def fit_many(
     pool = ProcessPoolExecutor(max_workers=workers, mp_context=mp_context or default_context())
     cancelled = False
     try:
-        index: dict[Future, int] = {pool.submit(_fit_one, h, keys, settings): i for i, h in enumerate(hs)}
+        index: dict[Future, int] = {pool.submit(_fit_one, h, settings, a): i for i, h in enumerate(hs)}
         pending = set(index)
         done_count = 0
         while pending:

@@ -14,6 +14,8 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
+from volbench.models.family import DIST_REGISTRY, MODEL_REGISTRY, ModelSpec
+
 SCALE = 100.0
 """Fits run on 100 x log returns (percent), as the ``arch`` documentation advises."""
 _LN_SCALE2 = math.log(SCALE**2)
@@ -21,13 +23,10 @@ BOUND_TOL = 1e-4
 """A parameter within this distance of a bound (or persistence within it of 1) is on the bound."""
 NEAR_UNIT_Z = 1.645
 """One-sided 5% normal quantile: persistence closer than this many standard errors to 1 gets a note."""
-_PERSISTENCE_WEIGHTS = {
-    "garch": {"alpha[1]": 1.0, "beta[1]": 1.0},
-    "gjr": {"alpha[1]": 1.0, "gamma[1]": 0.5, "beta[1]": 1.0},
-    "egarch": {"beta[1]": 1.0},
-}
-_RESPONSE = {"garch": ("alpha[1]",), "gjr": ("alpha[1]", "gamma[1]"), "egarch": ("alpha[1]", "gamma[1]")}
-_NU_BOUNDS = (2.05, 500.0)  # arch's bounds on the Student-t degrees of freedom
+
+
+def _spec(model: str | ModelSpec) -> ModelSpec:
+    return model if isinstance(model, ModelSpec) else MODEL_REGISTRY[model]
 
 
 SHORT_CAUSES: tuple[tuple[str, str], ...] = (
@@ -38,6 +37,7 @@ SHORT_CAUSES: tuple[tuple[str, str], ...] = (
     ("is at or above 1", "persistence at or above 1"),
     ("alpha[1] + gamma[1] = ", "alpha + gamma on its bound"),
     ("alpha[1] = ", "alpha on its bound"),
+    ("the fit finds no volatility clustering", "shock response on its bound"),
     ("beta[1] = ", "beta on its bound"),
     ("omega = ", "omega on its bound"),
     ("nu = ", "nu on its bound"),
@@ -46,7 +46,7 @@ SHORT_CAUSES: tuple[tuple[str, str], ...] = (
     ("variance forecast is not finite", "forecast not finite"),
 )
 """Warning text -> the short cause named in a fallback's source ("EWMA (lambda 0.94), because: ...")."""
-NO_CLUSTERING = ("alpha on its bound", "alpha + gamma on its bound")
+NO_CLUSTERING = ("alpha on its bound", "alpha + gamma on its bound", "shock response on its bound")
 """Causes meaning the fit found no volatility clustering: the constant-vol fallback applies."""
 EWMA_CAUSES = ("no convergence", "the optimizer failed", "estimates not finite", "persistence at or above 1",
                "too little data", "absurd vol (above 500 %)", "forecast not finite")
@@ -71,8 +71,10 @@ def _block(cov: pd.DataFrame, keys: list[str]) -> np.ndarray:
     return cov.to_numpy()[np.ix_(pos, pos)]
 
 
-def persistence_of(model: str, params: Mapping[str, float], cov: pd.DataFrame | None = None) -> tuple[float, float]:
-    """Persistence and its delta-method standard error (NaN when the covariance is unusable).
+def persistence_of(model: str | ModelSpec, params: Mapping[str, float],
+                   cov: pd.DataFrame | None = None) -> tuple[float, float]:
+    """Persistence sum w_k theta_k (the spec's weights) and its delta-method standard error
+    (NaN when the covariance is unusable).
 
     Notes
     -----
@@ -80,7 +82,7 @@ def persistence_of(model: str, params: Mapping[str, float], cov: pd.DataFrame | 
     s2/2 for a symmetric innovation density (Glosten, Jagannathan & Runkle 1993). EGARCH: beta,
     the AR(1) coefficient of log variance (Nelson 1991).
     """
-    w = _PERSISTENCE_WEIGHTS[model]
+    w = _spec(model).persistence
     p = float(sum(c * params[k] for k, c in w.items()))
     se = float("nan")
     if cov is not None:
@@ -92,7 +94,7 @@ def persistence_of(model: str, params: Mapping[str, float], cov: pd.DataFrame | 
     return p, se
 
 
-def _clustering_p_value(model: str, params: Mapping[str, float], cov: pd.DataFrame | None) -> float:
+def _clustering_p_value(spec: ModelSpec, params: Mapping[str, float], cov: pd.DataFrame | None) -> float:
     """p-value of the Wald test that the shock-response parameters are all zero (NaN if not computable).
 
     Notes
@@ -102,7 +104,7 @@ def _clustering_p_value(model: str, params: Mapping[str, float], cov: pd.DataFra
     """
     if cov is None:
         return float("nan")
-    keys = list(_RESPONSE[model])
+    keys = list(spec.response)
     theta = np.array([params[k] for k in keys])
     sigma = _block(cov, keys)
     try:
@@ -113,13 +115,14 @@ def _clustering_p_value(model: str, params: Mapping[str, float], cov: pd.DataFra
 
 
 def diagnose(
-    model: str,
+    model: str | ModelSpec,
     params: Mapping[str, float],
     cov: pd.DataFrame | None,
     *,
     convergence_flag: int,
     optimizer_message: str,
     omega_lower: float = 0.0,
+    dist: str | None = None,
 ) -> tuple[float, float, list[str], list[str]]:
     """Checks on a fit: ``(persistence, persistence_se, warnings, notes)``.
 
@@ -129,8 +132,10 @@ def diagnose(
     lower bound 0; omega on its lower bound; Student-t nu on its lower bound. Notes: GJR alpha on 0
     with gamma carrying the response; nu on its upper bound; and, for fits without warnings, no
     significant clustering (Wald test, p > 0.05) or else persistence not significantly below 1
-    (z = (1 - p) / se(p) < :data:`NEAR_UNIT_Z`); the EGARCH long-run approximation.
+    (z = (1 - p) / se(p) < :data:`NEAR_UNIT_Z`); the EGARCH long-run approximation. Which terms
+    are checked comes from the model's :class:`~volbench.models.family.ModelSpec`.
     """
+    spec = _spec(model)
     warn: list[str] = []
     notes: list[str] = []
     if any(not math.isfinite(v) for v in params.values()):
@@ -143,9 +148,9 @@ def diagnose(
         warn.append("standard errors could not be computed (the information matrix is singular or not "
                     "positive definite): the fit sits at a degenerate point")
         cov = None
-    p, p_se = persistence_of(model, params, cov)
+    p, p_se = persistence_of(spec, params, cov)
     tol = BOUND_TOL
-    clustering_p = _clustering_p_value(model, params, cov)
+    clustering_p = _clustering_p_value(spec, params, cov)
     if p >= 1 - tol:
         warn.append(f"persistence {p:.4f} is at or above 1 (within {tol:g}): shocks never die out, so there is "
                     "no long-run vol or half-life to revert to")
@@ -153,31 +158,31 @@ def diagnose(
     if beta <= tol:
         warn.append(f"beta[1] = {beta:.2g} is on its lower bound 0: variance does not carry over from bar to "
                     "bar, so the GARCH term is not identified and its standard errors are unreliable")
-    if model in ("garch", "gjr"):
-        alpha = params["alpha[1]"]
-        response = alpha + (params["gamma[1]"] if model == "gjr" else 0.0)
-        what = "alpha[1]" if model == "garch" else "alpha[1] + gamma[1]"
+    if spec.response_bounded:
+        response = sum(params[k] for k in spec.response)
         if response <= tol:
-            warn.append(f"{what} = {response:.2g} is on its lower bound 0: the fit finds no volatility "
+            warn.append(f"{spec.response_name} = {response:.2g} is on its lower bound 0: the fit finds no volatility "
                         "clustering, beta[1] is not identified and standard errors are unreliable; a "
                         "constant-vol estimator may suit this series better")
-        elif model == "gjr" and alpha <= tol:
+        elif spec.asymmetry is not None and params["alpha[1]"] <= tol:
+            alpha = params["alpha[1]"]
             notes.append(f"alpha[1] = {alpha:.2g} is on its lower bound 0: only falling returns raise the "
-                         "variance (gamma[1] carries the whole response); the s.e. of alpha[1] is unreliable")
-        if params["omega"] <= 10 * omega_lower:
-            warn.append(f"omega = {params['omega']:.3g} (percent scale) is on its lower bound: the long-run "
-                        "variance is pinned near zero")
-    if "nu" in params:
-        nu = params["nu"]
-        if nu <= _NU_BOUNDS[0] + tol:
-            warn.append(f"nu = {nu:.4g} is on its lower bound {_NU_BOUNDS[0]}: the innovation variance is "
+                         f"variance ({spec.asymmetry} carries the whole response); the s.e. of alpha[1] is "
+                         "unreliable")
+    if not spec.log_variance and params["omega"] <= 10 * omega_lower:
+        warn.append(f"omega = {params['omega']:.3g} (percent scale) is on its lower bound: the long-run "
+                    "variance is pinned near zero")
+    for name, (lower, upper) in _shape_bounds(params, dist).items():
+        value = params[name]
+        if value <= lower + tol:
+            warn.append(f"{name} = {value:.4g} is on its lower bound {lower}: the innovation variance is "
                         "barely finite, the fit is degenerate")
-        elif nu >= _NU_BOUNDS[1] - 1e-2:
-            notes.append(f"nu = {nu:.4g} is on its upper bound {_NU_BOUNDS[1]:g}: tails look normal; the "
+        elif value >= upper - 1e-2:
+            notes.append(f"{name} = {value:.4g} is on its upper bound {upper:g}: tails look normal; the "
                          "normal distribution fits as well with one parameter fewer")
     # the two notes below concern usable fits; when there are warnings, those say what is wrong
     if not warn and clustering_p > 0.05:
-        names = " and ".join(_RESPONSE[model])
+        names = " and ".join(spec.response)
         notes.append(f"no significant volatility clustering (Wald test of {names} = 0: p = {clustering_p:.2f}): "
                      "the series looks like constant volatility, persistence and half-life are poorly "
                      "determined, and the term structure is close to flat at the long-run vol")
@@ -185,22 +190,36 @@ def diagnose(
         notes.append(f"persistence {p:.4f} is not significantly below 1 (z = {(1 - p) / p_se:.2f} < "
                      f"{NEAR_UNIT_Z}, one-sided 5%): the long-run vol and half-life are poorly determined, "
                      "and forward vols at long horizons lean on them")
-    if model == "egarch":
-        notes.append("long-run vol for EGARCH is exp(omega / (1 - beta)) annualized: the level log variance "
-                     "reverts to (a geometric mean, below the average variance)")
+    if spec.log_variance:
+        notes.append(f"long-run vol for {spec.short} is exp(omega / (1 - beta)) annualized: the level log "
+                     "variance reverts to (a geometric mean, below the average variance)")
     return p, p_se, warn, notes
 
 
-def to_decimal(model: str, params: pd.Series, cov: pd.DataFrame | None) -> tuple[dict, dict]:
+def _shape_bounds(params: Mapping[str, float], dist: str | None) -> dict[str, tuple[float, float]]:
+    """Bounds of the innovation distribution's shape parameters present in ``params`` (those of
+    ``dist`` when given, else of the first registered distribution that has the parameter)."""
+    specs = [DIST_REGISTRY[dist]] if dist is not None else list(DIST_REGISTRY.values())
+    out: dict[str, tuple[float, float]] = {}
+    for spec in specs:
+        for name, bounds in spec.shape_bounds.items():
+            if name in params:
+                out.setdefault(name, bounds)
+    return out
+
+
+def to_decimal(model: str | ModelSpec, params: pd.Series, cov: pd.DataFrame | None) -> tuple[dict, dict]:
     """Parameters and standard errors from ``arch``'s percent scale to decimal return units.
 
     Notes
     -----
     With y = 100 r: mu_r = mu_y / 100; GARCH/GJR omega_r = omega_y / 100^2. For EGARCH
     ln s2_r = ln s2_y - ln 100^2, so omega_r = omega_y - (1 - beta) ln 100^2 and
-    Var(omega_r) = Var(omega_y) + (ln 100^2)^2 Var(beta) + 2 ln 100^2 Cov(omega_y, beta) (delta method).
-    Other parameters are scale-free.
+    Var(omega_r) = Var(omega_y) + (ln 100^2)^2 Var(beta) + 2 ln 100^2 Cov(omega_y, beta) (delta method;
+    with several autoregressive terms, beta is their persistence-weighted sum). Other parameters are
+    scale-free.
     """
+    spec = _spec(model)
     names = list(params.index)
     p = {k: float(params[k]) for k in names}
     if cov is None:
@@ -211,11 +230,13 @@ def to_decimal(model: str, params: pd.Series, cov: pd.DataFrame | None) -> tuple
     if "mu" in p:
         p["mu"] /= SCALE
         se["mu"] /= SCALE
-    if model == "egarch":
-        p["omega"] = p["omega"] - (1.0 - p["beta[1]"]) * _LN_SCALE2
+    if spec.log_variance:
+        ar = spec.persistence
+        p["omega"] = p["omega"] - (1.0 - sum(w * p[k] for k, w in ar.items())) * _LN_SCALE2
         if cov is not None:
-            v = (cov.loc["omega", "omega"] + _LN_SCALE2**2 * cov.loc["beta[1]", "beta[1]"]
-                 + 2 * _LN_SCALE2 * cov.loc["omega", "beta[1]"])
+            keys = ["omega", *ar]
+            g = np.array([1.0, *(w * _LN_SCALE2 for w in ar.values())])
+            v = float(g @ _block(cov, keys) @ g)
             se["omega"] = math.sqrt(v) if math.isfinite(v) and v >= 0 else float("nan")
     else:
         p["omega"] /= SCALE**2

@@ -1,29 +1,29 @@
-"""One GARCH-family fit with the ``arch`` library, turned into forward vols, failing honestly.
+"""One GARCH-type fit with the ``arch`` library, turned into forward vols, failing honestly.
 
-:func:`fit_garch` fits GARCH(1,1), GJR-GARCH(1,1,1) or EGARCH(1,1) with normal or Student-t
-innovations to a history's close-to-close log returns, and returns a :class:`GarchFit`: parameters
-and standard errors in decimal units, likelihood and information criteria, persistence, long-run
-vol, half-life, the in-sample conditional vol and the forward-vol term structure. When the fit
-cannot be trusted (see :func:`diagnose`) the result says why in ``warnings`` and its forward vol
-falls back to EWMA, with the fallback named in ``fallback``.
+:func:`fit_garch` fits one model of :data:`~volbench.models.family.MODEL_REGISTRY` (GARCH(1,1),
+GJR-GARCH(1,1,1), EGARCH(1,1), or any variant registered there) with an innovation distribution of
+:data:`~volbench.models.family.DIST_REGISTRY` to a history's close-to-close log returns, and
+returns a :class:`GarchFit`: parameters and standard errors in decimal units, likelihood and
+information criteria, persistence, long-run vol, half-life, the in-sample conditional vol and the
+forward-vol term structure. When the fit cannot be trusted (see :func:`diagnose`) the result says
+why in ``warnings`` and its forward vol falls back to EWMA, with the fallback named in ``fallback``.
 """
 
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable
-from dataclasses import dataclass, field
-from typing import Literal
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import pandas as pd
 from arch import arch_model
 
 from volbench import validate
+from volbench.candidates import Candidate, CandidateSet
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY, point_estimate
-from volbench.formatting import pct as fmt_pct
+from volbench.format import pct
 from volbench.models import term
 from volbench.models.checks import (
     BOUND_TOL,
@@ -34,84 +34,17 @@ from volbench.models.checks import (
     short_causes,
     to_decimal,
 )
-from volbench.models.term import DEFAULT_TERM_HORIZONS
-from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
-
-ModelName = Literal["garch", "gjr", "egarch"]
-DistName = Literal["normal", "t"]
-MeanName = Literal["constant", "zero"]
-
-MODELS: tuple[str, ...] = ("garch", "gjr", "egarch")
-DISTS: tuple[str, ...] = ("normal", "t")
-MEANS: tuple[str, ...] = ("constant", "zero")
-MODEL_LABELS = {"garch": "GARCH(1,1)", "gjr": "GJR-GARCH(1,1,1)", "egarch": "EGARCH(1,1)"}
-DIST_LABELS = {"normal": "normal", "t": "Student-t"}
+from volbench.models.family import DIST_REGISTRY, MODEL_REGISTRY, ModelSpec
+from volbench.settings import GarchSettings
+from volbench.types import DEFAULT_ANNUALIZATION, DEFAULT_TERM_HORIZONS, check_annualization
 
 MIN_RETURNS = 250
 """Fewest returns we fit a GARCH model to (about a year of daily bars; common practice, no source)."""
-DEFAULT_SEED = 20_240_917
-DEFAULT_SIMULATIONS = 2000
 FALLBACK = REGISTRY["ewma"].label
 """Name of the EWMA fallback stated in results: ``"EWMA (lambda 0.94)"``."""
 CONSTANT_FALLBACK = "close-to-close vol over the whole history"
 """Name of the constant-vol fallback, used when the fit finds no volatility clustering."""
 FALLBACK_SHORT = {FALLBACK: "EWMA fallback", CONSTANT_FALLBACK: "close-to-close fallback"}
-
-_ARCH_SPEC = {
-    "garch": {"vol": "GARCH", "p": 1, "o": 0, "q": 1},
-    "gjr": {"vol": "GARCH", "p": 1, "o": 1, "q": 1},
-    "egarch": {"vol": "EGARCH", "p": 1, "o": 1, "q": 1},
-}
-
-
-def _choice(value, allowed: tuple[str, ...], what: str) -> str:
-    return validate.choice(value, allowed, what)
-
-
-def check_settings(
-    *,
-    dist: str = "normal",
-    mean: str = "constant",
-    horizons: Iterable[int] = DEFAULT_TERM_HORIZONS,
-    annualization: float = DEFAULT_ANNUALIZATION,
-    seed: int = DEFAULT_SEED,
-    simulations: int = DEFAULT_SIMULATIONS,
-    max_iterations: int | None = None,
-) -> dict:
-    """Validate the settings shared by every fit and return them normalised (keyword dict)."""
-    if isinstance(simulations, bool) or not isinstance(simulations, (int, np.integer)) or not 100 <= simulations <= 100_000:
-        raise VolbenchError(f"simulations must be a whole number between 100 and 100000, got {simulations!r}")
-    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
-        raise VolbenchError(f"seed must be a whole number >= 0, got {seed!r}")
-    if max_iterations is not None and (not isinstance(max_iterations, (int, np.integer)) or max_iterations < 1):
-        raise VolbenchError(f"max_iterations must be a whole number >= 1 or None, got {max_iterations!r}")
-    return {
-        "dist": _choice(dist, DISTS, "distribution"),
-        "mean": _choice(mean, MEANS, "mean"),
-        "horizons": term.check_horizons(horizons),
-        "annualization": check_annualization(annualization),
-        "seed": int(seed),
-        "simulations": int(simulations),
-        "max_iterations": None if max_iterations is None else int(max_iterations),
-    }
-
-
-def check_model(model) -> str:
-    return validate.model(model)
-
-
-MAX_SIMULATED_VALUES = 20_000_000
-"""Cap on paths x bars of one EGARCH simulation forecast (arch keeps several such arrays)."""
-
-
-def check_simulation_budget(models: Iterable[str], settings: dict) -> None:
-    """Refuse an EGARCH simulation forecast too large for memory (paths x bars > the cap)."""
-    if "egarch" not in models:
-        return
-    bars = max(252, max(settings["horizons"]))
-    if settings["simulations"] * bars > MAX_SIMULATED_VALUES:
-        raise VolbenchError(f"the EGARCH forecast would simulate {settings['simulations']} paths x {bars} bars, "
-                            f"more than {MAX_SIMULATED_VALUES:,}; use fewer simulations or shorter horizons")
 
 
 def _none_if_nan(x: float | None) -> float | None:
@@ -210,13 +143,20 @@ class GarchFit:
     forward_vol_source: str = ""
 
     @property
+    def spec(self) -> ModelSpec:
+        """The model's family spec (label, colour, ``arch`` arguments...)."""
+        return MODEL_REGISTRY[self.model]
+
+    @property
     def label(self) -> str:
-        return MODEL_LABELS[self.model]
+        return self.spec.label
 
     @property
     def candidate_label(self) -> str:
-        """The label of this fit's forward vol: ``"GARCH(1,1) → EWMA fallback"`` under a fallback."""
-        return self.label if self.fallback is None else f"{self.label} → {FALLBACK_SHORT.get(self.fallback, 'fallback')}"
+        """The label of this fit's forward vol: ``"GARCH(1,1) → EWMA fallback"`` under a fallback,
+        with the innovation distribution when it is not the normal (``"GJR-GARCH(1,1,1) (t)"``)."""
+        head = self.label if self.dist == "normal" else f"{self.label} ({self.dist})"
+        return head if self.fallback is None else f"{head} → {FALLBACK_SHORT.get(self.fallback, 'fallback')}"
 
     @property
     def usable(self) -> bool:
@@ -244,6 +184,10 @@ class GarchFit:
                 raise VolbenchError(f"days must be a positive number of bars, got {days!r}")
             return float(self.fallback_vol)
         return math.sqrt(term.interpolate_average_variance(self.variance_path, days) * self.annualization)
+
+    def candidates(self, days: int) -> CandidateSet:
+        """This fit's forward vol over ``days`` bars as a comparison candidate."""
+        return candidate_set((self,), None, days)
 
     @property
     def next_bar_vol(self) -> float:
@@ -285,39 +229,63 @@ class GarchFit:
         }
 
 
+def candidate_set(fits, preferred: str | None, days: int) -> CandidateSet:
+    """The forward vol of each fit over ``days`` bars as comparison candidates.
+
+    A fallback's number is labelled as one (``"GARCH(1,1) → EWMA fallback"``) and names its source;
+    the headline (named in a comparison's reading) is the preferred fit, else the first usable
+    fit, else the first fit.
+    """
+    items: list[Candidate] = []
+    missing: dict[str, str] = {}
+    for fit in fits:
+        key = f"garch:{fit.model}"
+        try:
+            v = fit.forward_vol(days)
+        except VolbenchError as exc:
+            missing[key] = str(exc)
+            continue
+        if not (math.isfinite(v) and v > 0):
+            missing[key] = f"no forward vol for {days} bars"
+            continue
+        notes = ([f"no usable forecast; forward vol from {fit.forward_vol_source}"] if fit.fallback
+                 else ["forward vol over the option's life"])
+        if preferred is not None and fit.model == preferred:
+            notes.append("preferred fit")
+        if not fit.converged and not fit.fallback:
+            notes.append("fit did not converge")
+        if math.isfinite(fit.persistence) and fit.persistence >= 1:
+            notes.append(f"persistence {fit.persistence:.3f} >= 1")
+        items.append(Candidate("garch", key, fit.candidate_label, v, window=days, note="; ".join(notes),
+                               fallback=fit.forward_vol_source if fit.fallback else None))
+    lead = (next((c for c in items if c.key == f"garch:{preferred}"), None)
+            or next((c for c in items if c.fallback is None), None) or (items[0] if items else None))
+    items = [replace(c, headline=c is lead) for c in items]
+    return CandidateSet("garch", tuple(items), missing, title="GARCH-family fit", what="forward vol")
+
+
 # ---------------------------------------------------------------------------------- fitting
 def fit_garch(
     history: PriceHistory,
-    model: ModelName = "garch",
-    dist: DistName = "normal",
+    model: str = "garch",
+    settings: GarchSettings | None = None,
     *,
-    mean: MeanName = "constant",
-    horizons: Iterable[int] = DEFAULT_TERM_HORIZONS,
     annualization: float = DEFAULT_ANNUALIZATION,
-    seed: int = DEFAULT_SEED,
-    simulations: int = DEFAULT_SIMULATIONS,
-    max_iterations: int | None = None,
 ) -> GarchFit:
-    """Fit one GARCH-family model to a history's log returns and derive its forward vols.
+    """Fit one GARCH-type model to a history's log returns and derive its forward vols.
 
     Parameters
     ----------
     history
         Price history (rows already selected for the quality policy).
     model
-        ``"garch"`` GARCH(1,1), ``"gjr"`` GJR-GARCH(1,1,1), ``"egarch"`` EGARCH(1,1).
-    dist
-        Innovation distribution, ``"normal"`` or ``"t"`` (standardized Student-t).
-    mean
-        ``"constant"`` or ``"zero"`` mean return.
-    horizons
-        Option lives in bars for the term structure.
+        A key of :data:`~volbench.models.family.MODEL_REGISTRY`: ``"garch"`` GARCH(1,1), ``"gjr"``
+        GJR-GARCH(1,1,1), ``"egarch"`` EGARCH(1,1), or a registered variant.
+    settings
+        Distribution, mean, horizons, seed, simulations and iteration cap
+        (:class:`~volbench.settings.GarchSettings`; default: its defaults).
     annualization
         Bars per year.
-    seed, simulations
-        Seed of the numpy Generator and number of paths of the EGARCH simulation forecast.
-    max_iterations
-        Optimizer iteration cap (``None``: ``arch``'s default).
 
     Returns
     -------
@@ -327,31 +295,34 @@ def fit_garch(
     Raises
     ------
     VolbenchError
-        Bad settings, or fewer than 2 returns (no volatility of any kind can be computed).
+        Bad settings or model, or fewer than 2 returns (no volatility of any kind can be computed).
 
     Notes
     -----
-    ``arch.arch_model`` on 100 x log returns (the library's advice), ``rescale=False``, fitted by
-    maximum likelihood with robust (QMLE) standard errors. Forecasts: ``arch``'s analytic
-    forecasts for GARCH and GJR, E[s2_{t+h}] = V_L + p^(h-1) (s2_{t+1} - V_L) (Bollerslev 1986;
-    docs/METHODS.md, "GARCH and the vol over an option's life"); for EGARCH (Nelson 1991), whose multi-step forecast has no closed form, ``arch``'s
-    simulation forecast with ``simulations`` paths drawn by a seeded numpy Generator from the
-    fitted innovation distribution. Both come from the volatility process's ``forecast`` (what
+    ``arch.arch_model`` on 100 x log returns (the library's advice), ``rescale=False``, with the
+    spec's ``arch`` arguments, fitted by maximum likelihood with robust (QMLE) standard errors.
+    Forecasts: ``arch``'s analytic forecasts for models with a closed form (GARCH, GJR),
+    E[s2_{t+h}] = V_L + p^(h-1) (s2_{t+1} - V_L) (Bollerslev 1986; docs/METHODS.md, "GARCH and the
+    vol over an option's life"); for the others (EGARCH, Nelson 1991) ``arch``'s simulation
+    forecast with ``simulations`` paths drawn by a seeded numpy Generator from the fitted
+    innovation distribution. Both come from the volatility process's ``forecast`` (what
     ``ARCHModelResult.forecast`` calls; identical numbers, without its mean-path bookkeeping).
-    Term structure vol(T) = sqrt(A mean_{h<=T} E[s2_{t+h}]) (docs/METHODS.md, "GARCH and the vol over an option's life").
+    Term structure vol(T) = sqrt(A mean_{h<=T} E[s2_{t+h}]) (docs/METHODS.md, "GARCH and the vol
+    over an option's life").
     """
-    model = check_model(model)
-    s = check_settings(dist=dist, mean=mean, horizons=horizons, annualization=annualization,
-                       seed=seed, simulations=simulations, max_iterations=max_iterations)
-    check_simulation_budget((model,), s)
+    spec = MODEL_REGISTRY[validate.model(model)]
+    s = settings if settings is not None else GarchSettings(models=(spec.key,))
+    if not isinstance(s, GarchSettings):
+        raise VolbenchError(f"settings must be GarchSettings, got {type(s).__name__}")
+    a = check_annualization(annualization)
+    s.check_budget((spec.key,))
     r = history.log_returns()
     n = int(r.size)
     if n < 2:
         raise VolbenchError(f"{history.name}: {n} return{'s' if n != 1 else ''} (from {history.n} prices); "
                             f"a volatility needs at least 2 returns and a GARCH fit at least {MIN_RETURNS}")
-    base = {"name": history.name, "model": model, "dist": s["dist"], "mean": s["mean"],
-            "annualization": s["annualization"], "nobs": n, "as_of": history.last_date,
-            "horizons": s["horizons"]}
+    base = {"name": history.name, "model": spec.key, "dist": s.dist, "mean": s.mean,
+            "annualization": a, "nobs": n, "as_of": history.last_date, "horizons": s.horizons}
     if float(np.std(r)) <= 1e-12:
         raise VolbenchError(f"{history.name}: returns do not vary (all {n} equal {r[0]:.3g}): there is no "
                             "volatility to model; check the price column")
@@ -361,10 +332,9 @@ def fit_garch(
         return _fallback(history, base, [why], [], None)
     data_notes = _outlier_note(history, r)
     y = SCALE * r
-    spec = _ARCH_SPEC[model]
-    am = arch_model(y, mean="Constant" if s["mean"] == "constant" else "Zero", dist=s["dist"],
-                    rescale=False, **spec)
-    options = None if s["max_iterations"] is None else {"maxiter": s["max_iterations"]}
+    am = arch_model(y, mean="Constant" if s.mean == "constant" else "Zero", dist=DIST_REGISTRY[s.dist].arch,
+                    rescale=False, **spec.arch)
+    options = None if s.max_iterations is None else {"maxiter": s.max_iterations}
     try:
         res = am.fit(disp="off", show_warning=False, options=options)
     except (ValueError, ArithmeticError, RuntimeError, np.linalg.LinAlgError) as exc:  # reported, never a crash
@@ -374,13 +344,12 @@ def fit_garch(
     except (np.linalg.LinAlgError, ValueError, ZeroDivisionError):
         cov = None
     params_y = res.params
-    omega_lower = am.volatility.bounds(res.resid)[0][0] if model != "egarch" else -np.inf
-    p, p_se, warn, notes = diagnose(model, params_y.to_dict(), cov, convergence_flag=int(res.convergence_flag),
+    omega_lower = -np.inf if spec.log_variance else am.volatility.bounds(res.resid)[0][0]
+    p, p_se, warn, notes = diagnose(spec, params_y.to_dict(), cov, convergence_flag=int(res.convergence_flag),
                                     optimizer_message=str(res.optimization_result.message),
-                                    omega_lower=float(omega_lower))
+                                    omega_lower=float(omega_lower), dist=s.dist)
     notes = data_notes + notes
-    params, se = to_decimal(model, params_y, cov)
-    a = s["annualization"]
+    params, se = to_decimal(spec, params_y, cov)
     shift = n * math.log(SCALE)  # Jacobian of y = 100 r
     fit_info = {
         "fitted": True,
@@ -392,33 +361,31 @@ def fit_garch(
         "bic": float(res.bic) - 2 * shift,
         "persistence": p,
         "persistence_se": p_se,
-        "long_run_vol": _long_run_vol(model, params_y, p, a),
+        "long_run_vol": _long_run_vol(spec, params_y, p, a),
         "half_life": term.half_life(p) if p < 1 - BOUND_TOL else float("nan"),
         "conditional_vol": pd.Series(np.asarray(res.conditional_volatility) / SCALE * math.sqrt(a),
-                                     index=history.index[1:], name=model),
+                                     index=history.index[1:], name=spec.key),
     }
     lr = fit_info["long_run_vol"]
     if math.isfinite(lr) and lr > validate.ABSURD_VOL:
-        warn.append(f"long-run vol {fmt_pct(lr)} is above 500 %: the fit is absurd for a volatility")
+        warn.append(f"long-run vol {pct(lr)} is above 500 %: the fit is absurd for a volatility")
     if warn:
         return _fallback(history, base, warn, notes, fit_info)
-    horizon = max(252, max(s["horizons"]))
-    if model == "egarch":
-        method, sims, seed_used = "simulation", s["simulations"], s["seed"]
-    else:
-        method, sims, seed_used = "analytic", None, None
+    horizon = max(252, max(s.horizons))
+    method = spec.forecast_method
+    sims, seed_used = (None, None) if spec.closed_form else (s.simulations, s.seed)
     with np.errstate(over="ignore", invalid="ignore"):
-        path = _variance_forecast(am, res.params.to_numpy(), horizon, method, s["simulations"], s["seed"]) / SCALE**2
+        path = _variance_forecast(am, res.params.to_numpy(), horizon, method, s.simulations, s.seed) / SCALE**2
     if not (np.all(np.isfinite(path)) and np.all(path > 0)):
         warn.append("the model's variance forecast is not finite and positive at every horizon")
         return _fallback(history, base, warn, notes, fit_info)
     top = math.sqrt(float(np.max(path)) * a)
     if top > validate.ABSURD_VOL:
-        warn.append(f"the forecast reaches a vol of {fmt_pct(top)}, above 500 %: the fit is absurd for a volatility")
+        warn.append(f"the forecast reaches a vol of {pct(top)}, above 500 %: the fit is absurd for a volatility")
         return _fallback(history, base, warn, notes, fit_info)
     path.setflags(write=False)
-    source = f"{MODEL_LABELS[model]} {method} forecast" + (f" ({sims} paths, seed {seed_used})" if sims else "")
-    return GarchFit(**base, **fit_info, term_structure=term.term_structure(path, s["horizons"], a),
+    source = f"{spec.label} {method} forecast" + (f" ({sims} paths, seed {seed_used})" if sims else "")
+    return GarchFit(**base, **fit_info, term_structure=term.term_structure(path, s.horizons, a),
                     variance_path=path, forecast_method=method, simulations=sims, seed=seed_used,
                     warnings=(), notes=tuple(notes), forward_vol_source=source)
 
@@ -465,11 +432,11 @@ def _variance_forecast(am, params: np.ndarray, horizon: int, method: str, simula
     return np.asarray(fc.forecasts)[-1]
 
 
-def _long_run_vol(model: str, params_y: pd.Series, p: float, annualization: float) -> float:
+def _long_run_vol(spec: ModelSpec, params_y: pd.Series, p: float, annualization: float) -> float:
     """Annualized long-run vol in decimals (see :class:`GarchFit`); NaN when p >= 1."""
     if not p < 1 - BOUND_TOL:  # on or above the stationarity bound: no level to revert to
         return float("nan")
-    if model == "egarch":
+    if spec.log_variance:
         var_y = math.exp(params_y["omega"] / (1.0 - p))
     else:
         var_y = params_y["omega"] / (1.0 - p)
@@ -499,7 +466,7 @@ def _fallback(history: PriceHistory, base: dict, warn: list[str], notes: list[st
         "conditional_vol": pd.Series([], index=pd.DatetimeIndex([], name="date"), dtype=float,
                                      name=base["model"]),
     }
-    warn = [*warn, f"forward vol falls back to {name}: {fmt_pct(vol)} annualized, flat over every horizon"]
+    warn = [*warn, f"forward vol falls back to {name}: {pct(vol)} annualized, flat over every horizon"]
     source = f"{name}, because: {', '.join(causes)}"
     return GarchFit(**base, **info, term_structure=term.flat_term_structure(vol, base["horizons"]),
                     variance_path=None, forecast_method=method, warnings=tuple(warn), notes=tuple(notes),

@@ -13,40 +13,18 @@ from collections.abc import Iterable
 import numpy as np
 import pandas as pd
 
+from volbench import validate
 from volbench.errors import VolbenchError
-
-DEFAULT_TERM_HORIZONS: tuple[int, ...] = (5, 10, 21, 42, 63, 126, 252)
-"""Default option lives in bars: a week, two weeks, one, two, three, six and twelve months."""
-
-MAX_HORIZON = 2520
-"""Longest horizon accepted (ten years of daily bars)."""
+from volbench.types import DEFAULT_TERM_HORIZONS
+from volbench.validate import MAX_HORIZON
 
 
 def check_horizons(horizons: Iterable[int]) -> tuple[int, ...]:
-    """Validate horizons in bars and return them sorted and unique.
+    """Horizons in bars, sorted and unique (the one rule: :func:`volbench.validate.term_horizons`)."""
+    return validate.term_horizons(horizons)
 
-    Raises
-    ------
-    VolbenchError
-        Empty, non-integer, below 1 or above :data:`MAX_HORIZON`.
-    """
-    try:
-        raw = list(horizons)
-    except TypeError:
-        raise VolbenchError(f"horizons must be a list of whole numbers of bars, got {horizons!r}") from None
-    out = []
-    for h in raw:
-        if isinstance(h, bool) or not isinstance(h, (int, np.integer)):
-            if isinstance(h, (float, np.floating)) and float(h).is_integer():
-                h = int(h)
-            else:
-                raise VolbenchError(f"horizons must be whole numbers of bars, got {h!r}")
-        if not 1 <= int(h) <= MAX_HORIZON:
-            raise VolbenchError(f"horizons must be between 1 and {MAX_HORIZON} bars, got {int(h)}")
-        out.append(int(h))
-    if not out:
-        raise VolbenchError("horizons must list at least one horizon in bars, e.g. 5,21,63")
-    return tuple(sorted(set(out)))
+
+__all__ = ["DEFAULT_TERM_HORIZONS", "MAX_HORIZON", "check_horizons"]
 
 
 def average_variance_path(variance_path: np.ndarray, horizons: Iterable[int]) -> np.ndarray:

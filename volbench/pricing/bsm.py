@@ -95,11 +95,10 @@ def _finite(name: str, value) -> np.ndarray:
 
 
 def check_kind(kind) -> OptionType:
-    """``"call"`` or ``"put"`` (case-insensitive); a clear error otherwise."""
-    k = kind.strip().lower() if isinstance(kind, str) else kind
-    if k not in OPTION_KINDS:
-        raise VolbenchError(f"option type must be 'call' or 'put', got {kind!r}")
-    return k
+    """``"call"`` or ``"put"`` (case-insensitive; the one rule: :func:`volbench.validate.option_kind`)."""
+    from volbench import validate
+
+    return validate.option_kind(kind)
 
 
 def _inputs(spot, strike, years, rate, vol, dividend_yield):

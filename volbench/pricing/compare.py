@@ -1,9 +1,11 @@
 """Compare a proposed pricing vol with what the history supports, and what the gap is worth.
 
-Candidates are every estimator's latest vol over a window matching the option's life, the GARCH
-forward vol for that life and the scaling check's horizon vol when those results are passed in.
-The GARCH and scaling modules are optional: their results are used duck-typed and nothing from
-them is imported when this module loads.
+Candidates are every estimator's latest vol over a window matching the option's life, plus the
+candidates of any result passed in as a source (:class:`volbench.candidates.CandidateSource`: a
+GARCH-type comparison's forward vols, the scaling check's horizon vol, and whatever offers
+candidates next). This module knows nothing about those results beyond the protocol. The
+comparison also carries what each vol promises about the price (bands, straddle and breakevens,
+:mod:`volbench.pricing.promise`), so every front end shows the same.
 """
 
 from __future__ import annotations
@@ -14,17 +16,19 @@ from dataclasses import dataclass, field, replace
 
 import pandas as pd
 
+from volbench import validate
+from volbench.candidates import Candidate, CandidateSet, CandidateSource
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
-from volbench.estimators import REGISTRY, estimate_all, get_spec
-from volbench.formatting import pct
+from volbench.estimators import estimate_all, get_spec
+from volbench.format import money, ordinal, pct, points
 from volbench.pricing.bsm import bsm_greeks, check_kind, check_pricing_vol, check_rate
 from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, Cone, ConePlacement, _check_days, vol_cone
+from volbench.pricing.promise import PromiseCheck, promises_for
 from volbench.types import (
     DEFAULT_ANNUALIZATION,
     OptionType,
     check_annualization,
-    check_positive,
     check_window,
 )
 
@@ -34,11 +38,11 @@ REFERENCE_ESTIMATORS = ("yang_zhang", "close_to_close")
 FAR_MONEYNESS = (0.2, 5.0)
 """Strike/spot outside this range draws a units check in the reading (common practice, no source)."""
 
-GARCH_LABELS = {"garch": "GARCH(1,1)", "gjr": "GJR-GARCH", "egarch": "EGARCH"}
-"""Table labels of the GARCH-family models (Bollerslev 1986; Glosten, Jagannathan & Runkle 1993; Nelson 1991)."""
-
-TABLE_COLUMNS = ("source", "key", "label", "window", "vol", "gap_points", "price", "vega", "vega_point",
-                 "price_diff", "vega_approx_diff", "note")
+TABLE_COLUMNS = ("source", "key", "label", "window", "vol", "ci_low", "ci_high", "gap_points", "price", "vega",
+                 "vega_point", "price_diff", "vega_approx_diff", "note")
+PROMISE_KEYS = ("bands", "bands_by_candidate", "band_scores", "straddle", "straddle_by_candidate", "breakeven",
+                "breakeven_by_candidate")
+"""Price-promise fields placed at the top level of a comparison's JSON; the rest go under ``price_promise``."""
 
 
 @dataclass(frozen=True)
@@ -72,8 +76,9 @@ class Comparison:
         Value and vega (per 1.00 of vol) at the pricing vol.
     table
         One row per vol, the pricing vol first (source "pricing"), then the candidates. Columns:
-        source ("pricing", "estimator", "garch", "scaling"), key, label, window (bars, or None),
-        vol, gap_points = 100 (vol - pricing_vol), price and vega (per 1.00) and vega_point at that
+        source ("pricing", "estimator", or the source of each candidate: "garch", "scaling", ...),
+        key, label, window (bars, or None), vol, ci_low and ci_high (the candidate's interval when it
+        has one), gap_points = 100 (vol - pricing_vol), price and vega (per 1.00) and vega_point at that
         vol, price_diff = price(vol) - price(pricing_vol) (exact repricing), vega_approx_diff =
         vega(pricing_vol) x (vol - pricing_vol) (first-order approximation), note.
     unavailable
@@ -83,6 +88,10 @@ class Comparison:
         behind it; ``None`` (with the reason under ``unavailable["cone"]``) when no cone fits.
     reading
         A few plain sentences for the reader.
+    promises
+        What each vol promises about the price (bands, straddle, breakevens) against the history's
+        moves (:func:`volbench.pricing.promise.promises_for`); ``None`` with the reason under
+        ``unavailable["bands"]``.
     """
 
     name: str
@@ -105,18 +114,29 @@ class Comparison:
     cone: ConePlacement | None = None
     cone_estimator: str = "close_to_close"
     reading: tuple[str, ...] = ()
+    promises: PromiseCheck | None = None
 
     @property
     def candidates(self) -> pd.DataFrame:
         """The table without the pricing-vol row."""
         return self.table[self.table["source"] != "pricing"]
 
+    @property
+    def full_reading(self) -> tuple[str, ...]:
+        """The comparison's reading, then what the price promises say."""
+        return self.reading + (() if self.promises is None else self.promises.reading)
+
+    @property
+    def caveats(self) -> tuple[str, ...]:
+        """Caveats on the reading (too few windows to test a band, ...)."""
+        return () if self.promises is None else self.promises.warnings
+
     def as_dict(self) -> dict:
         rows = []
         for rec in self.table.to_dict(orient="records"):
             rows.append({k: (None if isinstance(v, float) and not math.isfinite(v) else v)
                          for k, v in rec.items()})
-        return {
+        out = {
             "name": self.name, "as_of": self.as_of, "pricing_vol": self.pricing_vol, "days": self.days,
             "window": self.window, "years": self.years, "annualization": self.annualization,
             "option": {"kind": self.kind, "spot": self.spot, "strike": self.strike, "rate": self.rate,
@@ -131,74 +151,14 @@ class Comparison:
             "conventions": {"gap_points": "100 x (candidate vol - pricing vol)",
                             "price_diff": "price at candidate vol - price at pricing vol",
                             "vega_approx_diff": "vega at pricing vol (per 1.00) x (candidate vol - pricing vol)",
-                            "vega": "per 1.00 of vol; vega_point per vol point"},
+                            "vega": "per 1.00 of vol; vega_point per vol point",
+                            "ci_low": "the candidate's own interval, when it has one (null otherwise)"},
         }
-
-
-# ---------------------------------------------------------------------------- candidates
-def _garch_candidates(garch, days: int) -> tuple[list[dict], dict[str, str]]:
-    """Rows from a GarchComparison (``fits``, ``preferred``) or a single GarchFit (``forward_vol``)."""
-    fits = list(getattr(garch, "fits", None) or ([garch] if hasattr(garch, "forward_vol") else []))
-    if not fits:
-        return [], {"garch": f"object of type {type(garch).__name__} has no GARCH fits or forward_vol"}
-    preferred = getattr(garch, "preferred", None)
-    rows, missing = [], {}
-    for fit in fits:
-        model = str(getattr(fit, "model", "garch"))
-        dist = getattr(fit, "dist", None)
-        key = f"garch:{model}"
-        label = getattr(fit, "candidate_label", None) or GARCH_LABELS.get(model, model.upper())
-        if getattr(fit, "fallback", None) and " → " not in label:  # never the bare model for a fallback's number
-            label += f" → {fit.fallback} fallback"
-        if dist and dist != "normal":
-            head, arrow, tail = label.partition(" → ")
-            label = f"{head} ({dist}){arrow}{tail}"
-        try:
-            v = fit.forward_vol(days)
-        except VolbenchError as exc:
-            missing[key] = str(exc)
-            continue
-        v = None if v is None else float(v)
-        if v is None or not (math.isfinite(v) and v > 0):
-            missing[key] = f"no forward vol for {days} bars"
-            continue
-        fallback = getattr(fit, "fallback", None)
-        source = getattr(fit, "forward_vol_source", "")
-        notes = ([f"no usable forecast; forward vol from {source}" if source
-                  else f"no usable forecast; forward vol from the fallback {fallback}"] if fallback
-                 else ["forward vol over the option's life"])
-        if preferred is not None and model == preferred:
-            notes.append("preferred fit")
-        if getattr(fit, "converged", True) is False and not fallback:
-            notes.append("fit did not converge")
-        pers = getattr(fit, "persistence", None)
-        if pers is not None and math.isfinite(pers) and pers >= 1:
-            notes.append(f"persistence {pers:.3f} >= 1")
-        rows.append({"source": "garch", "key": key, "label": label, "window": days, "vol": v,
-                     "note": "; ".join(notes)})
-    return rows, missing
-
-
-def _scaling_candidate(scaling, days: int) -> tuple[list[dict], dict[str, str]]:
-    try:
-        from volbench.scaling import horizon_vol
-    except ImportError:
-        horizon_vol = None
-    if horizon_vol is None:
-        method = getattr(scaling, "horizon_vol", None)
-        if method is None:
-            return [], {"scaling": "scaling module not available in this build"}
-        v = method(days)
-    else:
-        v = horizon_vol(scaling, days)
-    if v is None or not (math.isfinite(float(v)) and float(v) > 0):
-        hz = getattr(scaling, "horizons", None)
-        span = ""
-        if isinstance(hz, pd.DataFrame) and "h" in hz and len(hz):
-            span = f" (horizons {int(hz['h'].min())} to {int(hz['h'].max())} bars)"
-        return [], {"scaling": f"option life of {days} bars is outside the scaling check's horizons{span}"}
-    return [{"source": "scaling", "key": "scaling", "label": "Scaling check horizon vol", "window": days,
-             "vol": float(v), "note": f"{days}-bar returns over the whole history"}], {}
+        if self.promises is not None:
+            p = self.promises.as_dict()
+            out.update({k: p.pop(k) for k in PROMISE_KEYS})
+            out["price_promise"] = p
+        return out
 
 
 def _option(history: PriceHistory, option: OptionSpec | None) -> tuple[float, float, float, float, str]:
@@ -206,8 +166,8 @@ def _option(history: PriceHistory, option: OptionSpec | None) -> tuple[float, fl
     if not isinstance(o, OptionSpec):
         raise VolbenchError(f"option must be an OptionSpec, got {type(o).__name__}")
     kind = check_kind(o.kind)
-    spot = float(history.close[-1]) if o.spot is None else check_positive(o.spot, "spot must be a positive price")
-    strike = spot if o.strike is None else check_positive(o.strike, "strike must be a positive price")
+    spot = float(history.close[-1]) if o.spot is None else validate.price(o.spot, "spot")
+    strike = spot if o.strike is None else validate.price(o.strike, "strike")
     return spot, strike, check_rate(o.rate, "rate"), check_rate(o.dividend_yield, "dividend yield"), kind
 
 
@@ -232,11 +192,11 @@ def compare(
     option: OptionSpec | None = None,
     annualization: float = DEFAULT_ANNUALIZATION,
     window: int | None = None,
-    scaling=None,
-    garch=None,
+    sources: Sequence[CandidateSource] = (),
     cone_estimator: str = "close_to_close",
     cone_windows: Sequence[int] = DEFAULT_CONE_WINDOWS,
     cone: Cone | None = None,
+    estimator_options: dict | None = None,
 ) -> Comparison:
     """Set a proposed pricing vol against the history and reprice the option at each candidate vol.
 
@@ -255,18 +215,18 @@ def compare(
         Bars per year.
     window
         Estimator window in bars; defaults to ``days`` (at least 2, the smallest window a vol needs).
-    scaling
-        A scaling-check result (``volbench.scaling.ScalingResult``); its horizon vol for ``days``
-        comes from ``volbench.scaling.horizon_vol``.
-    garch
-        A ``GarchComparison`` (every fit becomes a candidate) or a ``GarchFit``; each must offer
-        ``forward_vol(days)``.
+    sources
+        Results offering more candidates (:class:`volbench.candidates.CandidateSource`: a
+        ``GarchComparison``, a ``ScalingResult``, a ready-made ``CandidateSet``...), in table order.
+        A set with no candidate says why under its source in ``unavailable``.
     cone_estimator, cone_windows
         Estimator and windows of the cone the pricing vol is placed in.
     cone
         A cone already built on this history (e.g. the one a caller shows); used instead of
         building the same cone again. It must match the history (name, last date, rows),
         ``annualization`` and ``cone_estimator``.
+    estimator_options
+        ``zero_mean``, ``lam`` for the estimators (their notes follow, e.g. EWMA's half-life).
 
     Returns
     -------
@@ -276,7 +236,7 @@ def compare(
     ------
     VolbenchError
         Bad pricing vol (also when it looks like a percent), days, window, annualization or option;
-        a ``cone`` built on another history or with other settings.
+        a ``cone`` built on another history or with other settings; a source that is not one.
 
     Notes
     -----
@@ -301,36 +261,27 @@ def compare(
         _check_cone(cone, history, a, cone_estimator)
     spot, strike, rate, q, kind = _option(history, option)
     years = d / a
+    for src in sources:
+        if not isinstance(src, CandidateSource):
+            raise VolbenchError(f"a comparison source must offer candidates(days), got {type(src).__name__}")
 
-    report = estimate_all(history, w, annualization=a)
+    opts = {k: v for k, v in dict(estimator_options or {}).items() if v is not None}
+    report = estimate_all(history, w, annualization=a, **opts)
+    sets = [report.candidates(d)] + [src.candidates(d) for src in sources]
     rows: list[dict] = []
     unavailable: dict[str, str] = {}
-    for key, spec in REGISTRY.items():
-        if key in report.estimates:
-            note = window_note
-            if key == "ewma":
-                note = "all past returns, half-life ~11 bars"
-            rows.append({"source": "estimator", "key": key, "label": spec.label, "window": w,
-                         "vol": report.estimates[key].vol, "note": note})
-        elif key in report.unavailable:
-            unavailable[key] = report.unavailable[key]
-    if garch is None:
-        unavailable["garch"] = "not requested"
-    else:
-        r, m = _garch_candidates(garch, d)
-        rows += r
-        unavailable.update(m)
-    if scaling is None:
-        unavailable["scaling"] = "not requested"
-    else:
-        r, m = _scaling_candidate(scaling, d)
-        rows += r
-        unavailable.update(m)
+    for cs in sets:
+        for c in cs.items:
+            rows.append(_row(c, window_note if c.source == "estimator" else ""))
+        unavailable.update(cs.unavailable)
 
     pricing_row = {"source": "pricing", "key": "pricing", "label": "Pricing vol", "window": None,
-                   "vol": pv, "note": ""}
-    table = pd.DataFrame([pricing_row] + rows, columns=["source", "key", "label", "window", "vol", "note"])
+                   "vol": pv, "ci_low": None, "ci_high": None, "note": ""}
+    table = pd.DataFrame([pricing_row] + rows,
+                         columns=["source", "key", "label", "window", "vol", "ci_low", "ci_high", "note"])
     table["window"] = table["window"].astype("Int64")
+    for col in ("ci_low", "ci_high"):
+        table[col] = table[col].astype(float)
     vols = table["vol"].to_numpy(dtype=float)
     g = bsm_greeks(spot, strike, years, rate, vols, q, kind)
     p0, v0 = float(g.price[0]), float(g.vega[0])
@@ -357,31 +308,19 @@ def compare(
         cone_percentile=None if placement is None else placement.percentile, cone=placement,
         cone_estimator=cone_estimator,
     )
-    return _with_reading(comp)
+    try:
+        comp = replace(comp, promises=promises_for(comp, history))
+    except VolbenchError as exc:
+        comp = replace(comp, unavailable={**comp.unavailable, "bands": str(exc)})
+    return _with_reading(comp, [cs for cs in sets[1:] if cs.headline is not None])
+
+
+def _row(c: Candidate, default_note: str) -> dict:
+    return {"source": c.source, "key": c.key, "label": c.label, "window": c.window, "vol": c.vol,
+            "ci_low": c.ci_low, "ci_high": c.ci_high, "note": c.note or default_note}
 
 
 # ---------------------------------------------------------------------------- plain reading
-def _pct1(x: float) -> str:
-    """A vol as a percentage with one decimal, never more than about 6 significant digits."""
-    return pct(float(x), 1, space=False)
-
-
-def _points(x: float) -> str:
-    return f"{x:.4g}" if abs(x) >= 1e4 else f"{x:.1f}"
-
-
-def ordinal(n: int) -> str:
-    """1 -> '1st', 22 -> '22nd', 13 -> '13th'."""
-    suffix = "th" if 10 <= n % 100 <= 20 else {1: "st", 2: "nd", 3: "rd"}.get(n % 10, "th")
-    return f"{n}{suffix}"
-
-
-def _money(x: float) -> str:
-    """Absolute amount to the cent; small non-zero amounts with two significant figures."""
-    x = abs(x)
-    return f"{x:.2g}" if 0 < x < 0.005 else f"{x:.2f}"
-
-
 def _cone_line(c: Comparison) -> list[str]:
     if c.cone is None:
         return []
@@ -392,26 +331,26 @@ def _cone_line(c: Comparison) -> list[str]:
         where = "below every value in the history of"
     else:
         where = f"at the {ordinal(round(p))} percentile of"
-    return [f"pricing vol {_pct1(c.pricing_vol)} sits {where} {c.cone.note}"]
+    return [f"pricing vol {pct(c.pricing_vol, 1)} sits {where} {c.cone.note}"]
 
 
 def _reference_lines(c: Comparison, cand: pd.DataFrame) -> list[str]:
     """Gap to the reference estimator and what it is worth on the option."""
     ref = next((cand[cand["key"] == k].iloc[0] for k in REFERENCE_ESTIMATORS if (cand["key"] == k).any()),
                cand.iloc[0])
-    name, rv = ref["label"], _pct1(ref["vol"])
+    name, rv = ref["label"], pct(ref["vol"], 1)
     gap = -float(ref["gap_points"])
     if abs(gap) < 0.05:
         return [f"the pricing vol matches {name} ({rv}) within 0.1 vol point"]
     span = f" over the last {c.window} bars" if ref["source"] == "estimator" else ""
-    lines = [f"the pricing vol is {_points(abs(gap))} vol points {'above' if gap > 0 else 'below'} {name} ({rv}{span})"]
+    lines = [f"the pricing vol is {points(abs(gap))} vol points {'above' if gap > 0 else 'below'} {name} ({rv}{span})"]
     if float(c.table["price"].max()) < 0.005:
         lines.append(f"the {c.kind} is worth under 0.01 at every vol here, so the choice of vol barely moves its price")
     else:
         diff = float(ref["price_diff"])
         more = "more" if diff > 0 else "less"
-        lines.append(f"the {c.kind} is worth {_money(diff)} {more} at {name}'s vol ({c.price:.2f} at the pricing "
-                     f"vol; the vega approximation says {_money(float(ref['vega_approx_diff']))} {more})")
+        lines.append(f"the {c.kind} is worth {money(diff)} {more} at {name}'s vol ({c.price:.2f} at the pricing "
+                     f"vol; the vega approximation says {money(float(ref['vega_approx_diff']))} {more})")
     return lines
 
 
@@ -424,25 +363,20 @@ def _range_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
         pos = f"the pricing vol is below all {len(cand)} of them"
     else:
         pos = f"the pricing vol is above {n_below} of {len(cand)}"
-    return [(f"candidate vols run from {_pct1(lo['vol'])} ({lo['label']}) to "
-            f"{_pct1(hi['vol'])} ({hi['label']}); {pos}")]
+    return [(f"candidate vols run from {pct(lo['vol'], 1)} ({lo['label']}) to "
+            f"{pct(hi['vol'], 1)} ({hi['label']}); {pos}")]
 
 
-def _garch_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
-    """The preferred model's forward vol; when no fit is usable, the fallback named as such."""
-    gar = cand[cand["source"] == "garch"]
-    if not len(gar):
-        return []
-    pref = gar[gar["note"].str.contains("preferred")]
-    usable = gar[~gar["label"].str.contains(" → ", regex=False)]
-    row = pref.iloc[0] if len(pref) else (usable.iloc[0] if len(usable) else gar.iloc[0])
-    side = "below" if row["gap_points"] < 0 else "above"
-    gap = f"{_points(abs(row['gap_points']))} vol points {side} the pricing vol"
-    if " → " not in row["label"]:
-        return [f"{row['label']} forward vol over {c.days} bars is {_pct1(row['vol'])}, {gap}"]
-    source = str(row["note"]).split("forward vol from ", 1)[-1]
-    return [(f"no GARCH-family fit gave a usable forecast, so the forward vol over {c.days} bars is a fallback's: "
-             f"{_pct1(row['vol'])} from {source}; {gap}")]
+def _headline_line(c: Comparison, cs: CandidateSet) -> list[str]:
+    """A source's lead candidate (e.g. the preferred fit); a fallback's number is named as such."""
+    head = cs.headline
+    gap_points = 100.0 * (head.vol - c.pricing_vol)
+    side = "below" if gap_points < 0 else "above"
+    gap = f"{points(abs(gap_points))} vol points {side} the pricing vol"
+    if head.fallback is None:
+        return [f"{head.label} {cs.what} over {c.days} bars is {pct(head.vol, 1)}, {gap}"]
+    return [(f"no {cs.title} gave a usable forecast, so the {cs.what} over {c.days} bars is a fallback's: "
+             f"{pct(head.vol, 1)} from {head.fallback}; {gap}")]
 
 
 def _moneyness_line(c: Comparison) -> list[str]:
@@ -452,9 +386,11 @@ def _moneyness_line(c: Comparison) -> list[str]:
     return [f"strike {c.strike:g} is {100 * m:.3g}% of spot {c.spot:g}; check that both are in the same units"]
 
 
-def _with_reading(c: Comparison) -> Comparison:
+def _with_reading(c: Comparison, headlined: Sequence[CandidateSet] = ()) -> Comparison:
     cand = c.candidates
     lines = _moneyness_line(c) + _cone_line(c)
     if len(cand):
-        lines += _reference_lines(c, cand) + _range_line(c, cand) + _garch_line(c, cand)
+        lines += _reference_lines(c, cand) + _range_line(c, cand)
+        for cs in headlined:
+            lines += _headline_line(c, cs)
     return replace(c, reading=tuple(lines))

@@ -18,9 +18,13 @@ from volbench.data.history import PriceHistory, _iso
 from volbench.errors import VolbenchError
 from volbench.estimators import get_spec, rolling_windows
 from volbench.frames import frame, labels
-from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_positive, check_window
+from volbench.types import (
+    DEFAULT_ANNUALIZATION,
+    DEFAULT_CONE_WINDOWS,
+    check_annualization,
+    check_positive,
+)
 
-DEFAULT_CONE_WINDOWS: tuple[int, ...] = (10, 20, 40, 60, 120, 250)
 PERCENTILES: dict[str, float] = {"min": 0, "p10": 10, "p25": 25, "p50": 50, "p75": 75, "p90": 90, "max": 100}
 """Cone columns and the percentile each one is (numpy.percentile, linear interpolation)."""
 _TABLE_COLUMNS = (*PERCENTILES, "mean", "current", "current_percentile", "n_windows", "n_independent")
@@ -318,15 +322,9 @@ def _check_days(days) -> int:
 
 
 def _check_windows(windows: Sequence[int]) -> tuple[int, ...]:
-    if isinstance(windows, (int, str)) or not len(windows):
-        raise VolbenchError(f"windows must be a non-empty list of bar counts, e.g. 10,20,60; got {windows!r}")
-    ws = [check_window(w, minimum=2) for w in windows]
-    if any(w is None for w in ws):
-        raise VolbenchError("cone windows must be bar counts, not 'all'")
-    seen = {w for w in ws if ws.count(w) > 1}
-    if seen:
-        raise VolbenchError(f"cone windows must not repeat; {', '.join(map(str, sorted(seen)))} given twice")
-    return tuple(sorted(ws))
+    from volbench import validate
+
+    return validate.cone_windows(windows)
 
 
 def _date(value, what: str) -> pd.Timestamp | None:
@@ -442,9 +440,10 @@ def vol_cone(
             row.update(zip((f"{k}_adj" for k in PERCENTILES), np.maximum(adj, 0.0).tolist()))
         rows[w] = row
         rolling[w] = rv.values
-    if spec.key == "ewma":
-        notes.append("EWMA weighs every past return (half-life about 11 bars); its window only sets the "
-                     "seed, so its columns differ little")
+    if spec.memory == "all":
+        note = spec.candidate_note({}) if spec.candidate_note is not None else "every past return counts"
+        notes.append(f"{spec.short or spec.label} weighs {note.replace('all past returns', 'every past return')}; "
+                     "its window only sets the seed, so its columns differ little")
     first = next(iter(rows.values()))
     ints = ("n_windows", "n_independent")
     table = frame({k: np.array([r[k] for r in rows.values()], dtype=np.int64 if k in ints else float) for k in first},

@@ -18,6 +18,7 @@ from scipy.stats import rankdata
 
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
+from volbench.format import share
 from volbench.pricing.bands import (
     DEFAULT_SIGMAS,
     band_scores,
@@ -354,11 +355,6 @@ def promises_for(comparison, history: PriceHistory, **kwargs) -> PromiseCheck:
 
 
 # ---------------------------------------------------------------------------- plain reading
-def _p(x: float) -> str:
-    """Share as a percentage: two decimals below 1 %, one above."""
-    return f"{100 * x:.2f}%" if abs(x) < 0.01 else f"{100 * x:.1f}%"
-
-
 def _sig(k: float) -> str:
     return f"±{k:g} sigma"
 
@@ -369,12 +365,12 @@ def _warnings(c: PromiseCheck) -> tuple[str, ...]:
     if c.windows < MIN_WINDOWS:
         out.append(f"only {c.windows} non-overlapping {c.days}-bar windows in the history (fewer than "
                    f"{MIN_WINDOWS}): the observed shares are rough; the {100 * c.level:g}% interval of "
-                   f"the {_sig(first['sigmas'])} share runs from {_p(first['observed_ci_low'])} to "
-                   f"{_p(first['observed_ci_high'])}")
+                   f"the {_sig(first['sigmas'])} share runs from {share(first['observed_ci_low'])} to "
+                   f"{share(first['observed_ci_high'])}")
     widest = c.bands_of(c.primary).iloc[-1]
     expected = c.windows * float(widest["promised"])
     if expected < 1.0:
-        out.append(f"the {_sig(widest['sigmas'])} band promises {_p(widest['promised'])} of moves outside it: "
+        out.append(f"the {_sig(widest['sigmas'])} band promises {share(widest['promised'])} of moves outside it: "
                    f"{c.windows} window{'s' if c.windows != 1 else ''} make {expected:.2g} such moves the "
                    f"expected count, too few to test that promise")
     return tuple(out)
@@ -386,8 +382,8 @@ def _verdict(c: PromiseCheck) -> str:
     best_key, best = sc.index[0], sc.iloc[0]
     rows = c.bands_of(best_key)
     ties = [str(lab) for key, lab in sc.loc[sc["rank"] == 1, "label"].items() if key != best_key]
-    who = f"{best['label']} ({_p(best['vol'])}" + (f", tied with {', '.join(ties)}" if ties else "") + ")"
-    shares = ", ".join(f"{_p(r.observed)} outside {_sig(r.sigmas)} (promised {_p(r.promised)})"
+    who = f"{best['label']} ({share(best['vol'])}" + (f", tied with {', '.join(ties)}" if ties else "") + ")"
+    shares = ", ".join(f"{share(r.observed)} outside {_sig(r.sigmas)} (promised {share(r.promised)})"
                        for r in rows.itertuples())
     broken = [_sig(x) for x in rows.loc[~rows["promise_in_ci"], "sigmas"]]
     lvl = f"{100 * c.level:g}%"
@@ -410,20 +406,20 @@ def _with_text(c: PromiseCheck) -> PromiseCheck:
     st, be = c.straddles.iloc[0], c.breakevens.iloc[0]
     lvl = f"{100 * c.level:g}%"
     reading = (
-        (f"at {_p(band['vol'])}, a {c.days}-bar move outside {_sig(band['sigmas'])} "
+        (f"at {share(band['vol'])}, a {c.days}-bar move outside {_sig(band['sigmas'])} "
         f"({100 * band['low_move']:+.1f}% to {100 * band['high_move']:+.1f}%) should happen "
-        f"{_p(band['promised'])} of the time; in this history it happened {_p(band['observed'])} "
-        f"({lvl} interval {_p(band['observed_ci_low'])} to {_p(band['observed_ci_high'])}, {c.windows} windows): "
-        f"{_p(band['observed_below'])} on the downside, {_p(band['observed_above'])} on the upside"),
-        (f"an at-the-money straddle at {_p(st['vol'])} costs {st['premium']:.2f} ({_p(st['breakeven_move'])} of spot) "
-        f"and pays back only on a {c.days}-bar move beyond that: promised {_p(st['promised_share_beyond'])} "
-        f"of the time, seen {_p(st['observed_share_beyond'])} ({lvl} interval {_p(st['observed_ci_low'])} to "
-        f"{_p(st['observed_ci_high'])})"),
-        (f"the {c.kind} struck at {c.strike:g} costs {be['premium']:.2f} at {_p(be['vol'])} and pays back only "
+        f"{share(band['promised'])} of the time; in this history it happened {share(band['observed'])} "
+        f"({lvl} interval {share(band['observed_ci_low'])} to {share(band['observed_ci_high'])}, {c.windows} windows): "
+        f"{share(band['observed_below'])} on the downside, {share(band['observed_above'])} on the upside"),
+        (f"an at-the-money straddle at {share(st['vol'])} costs {st['premium']:.2f} ({share(st['breakeven_move'])} of spot) "
+        f"and pays back only on a {c.days}-bar move beyond that: promised {share(st['promised_share_beyond'])} "
+        f"of the time, seen {share(st['observed_share_beyond'])} ({lvl} interval {share(st['observed_ci_low'])} to "
+        f"{share(st['observed_ci_high'])})"),
+        (f"the {c.kind} struck at {c.strike:g} costs {be['premium']:.2f} at {share(be['vol'])} and pays back only "
          f"if the price ends {'above' if c.kind == 'call' else 'below'} {be['breakeven_price']:.2f} "
-         f"({100 * be['breakeven_move']:+.1f}%): promised {_p(be['promised_share_beyond'])} of the time, seen "
-         f"{_p(be['observed_share_beyond'])} ({lvl} interval {_p(be['observed_ci_low'])} to "
-         f"{_p(be['observed_ci_high'])})"),
+         f"({100 * be['breakeven_move']:+.1f}%): promised {share(be['promised_share_beyond'])} of the time, seen "
+         f"{share(be['observed_share_beyond'])} ({lvl} interval {share(be['observed_ci_low'])} to "
+         f"{share(be['observed_ci_high'])})"),
         verdict,
     )
     return replace(c, warnings=_warnings(c), verdict=verdict, reading=reading)

@@ -9,6 +9,7 @@ import numpy as np
 import pandas as pd
 
 from volbench import validate
+from volbench.candidates import Candidate, CandidateSet
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.estimators.base import sample_variance
@@ -127,6 +128,18 @@ class ScalingResult:
                 return v
         raise VolbenchError(f"unknown property {prop!r}; choose one of: "
                             + ", ".join(v.property for v in self.verdicts))
+
+    def candidates(self, days: int) -> CandidateSet:
+        """The vol an option of ``days`` bars saw here (:func:`horizon_vol`) as a comparison candidate."""
+        v = horizon_vol(self, days)
+        if v is None or not (np.isfinite(v) and v > 0):
+            hz = self.horizons
+            span = f" (horizons {int(hz['h'].min())} to {int(hz['h'].max())} bars)" if len(hz) else ""
+            return CandidateSet.missing("scaling", f"option life of {days} bars is outside the scaling check's "
+                                                   f"horizons{span}")
+        return CandidateSet("scaling", (Candidate("scaling", "scaling", "Scaling check horizon vol", v, window=days,
+                                                  note=f"{days}-bar returns over the whole history"),),
+                            title="scaling check", what="horizon vol")
 
     def as_dict(self) -> dict:
         """JSON-ready dict (NaN values are left as float NaN; the CLI writes them as null)."""

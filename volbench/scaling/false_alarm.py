@@ -13,13 +13,8 @@ import math
 
 import numpy as np
 
-from volbench.formatting import pct as _pct
+from volbench.format import pct
 from volbench.scaling.false_alarm_table import ALPHAS, LENGTHS, SERIES, TABLE
-
-
-def _pc(x: float, digits: int = 1) -> str:
-    """A decimal as a percentage, never more than about 6 significant digits."""
-    return _pct(x, digits, space=False)
 
 PROPERTIES = 4
 
@@ -55,8 +50,8 @@ def family_false_alarm(n_returns: int, alpha: float) -> dict:
         rate = 1.0 - (1.0 - alpha) ** PROPERTIES
         method = "independence approximation 1 - (1 - alpha)^4 (level outside the simulated table)"
     sentence = (f"On a perfectly Brownian series of about this length, at least one of the four properties is "
-                f"called doubtful or rejected about {_pc(rate, 0)} of the time at level {alpha:g}, by chance alone; "
-                f"any 'rejected' about {_pc(alpha, 0)} (Holm).")
+                f"called doubtful or rejected about {pct(rate, 0)} of the time at level {alpha:g}, by chance alone; "
+                f"any 'rejected' about {pct(alpha, 0)} (Holm).")
     return {"level": alpha, "not_consistent": rate, "rejected_at_most": alpha,
             "rejected_simulated": simulated_rejected, "bonferroni_bound": min(1.0, PROPERTIES * alpha),
             "length_bucket": bucket, "method": method, "sentence": sentence}

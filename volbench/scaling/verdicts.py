@@ -24,12 +24,7 @@ from typing import Literal
 import numpy as np
 import pandas as pd
 
-from volbench.formatting import pct as _pct
-
-
-def _pc(x: float, digits: int = 1) -> str:
-    """A decimal as a percentage, never more than about 6 significant digits."""
-    return _pct(x, digits, space=False)
+from volbench.format import pct
 
 Status = Literal["consistent", "doubtful", "rejected"]
 Table = pd.DataFrame | Mapping[str, np.ndarray]
@@ -123,21 +118,21 @@ def variance_verdict(horizons: Table, cd_stat: float, cd_p: float, fit, alpha: f
     gap = float(_col(horizons, "variance_ratio")[i]) - 1.0
     status = status or status_for(cd_p, alpha)
     side = "below" if gap < 0 else "above"
-    msg = f"{h}-bar variance is {_pc(abs(gap), 0)} {side} {h} x 1-bar variance"
+    msg = f"{h}-bar variance is {pct(abs(gap), 0)} {side} {h} x 1-bar variance"
     if status == "consistent" and not large:
         msg += (f" and the joint variance-ratio test does not reject (Chow-Denning {fmt_p(cd_p)}): "
                 f"sqrt-time scaling of the 1-bar vol is supported up to {h} bars")
     else:
         how = ("returns mean-revert and sqrt-time scaling overstates" if gap < 0
                else "returns trend and sqrt-time scaling understates")
-        msg += (f" ({_pc(float(_col(horizons, 'annualized_vol')[i]), 1)} measured vs "
-                f"{_pc(float(_col(horizons, 'sqrt_time_vol')[i]), 1)} sqrt-time scaled 1-bar vol, annualized)")
+        msg += (f" ({pct(float(_col(horizons, 'annualized_vol')[i]), 1)} measured vs "
+                f"{pct(float(_col(horizons, 'sqrt_time_vol')[i]), 1)} sqrt-time scaled 1-bar vol, annualized)")
         if status != "consistent":
             msg += f": {how} {h}-bar vol (Chow-Denning {fmt_p(cd_p)})"
         else:
             msg += (f", a gap that would matter for pricing but is within sampling noise (Chow-Denning "
                     f"{fmt_p(cd_p)}): if real, {how} {h}-bar vol")
-    msg += (f"; log-log slope {fit.slope:.2f} ({_pc(fit.level, 0)} interval {fit.ci[0]:.2f} to {fit.ci[1]:.2f}, "
+    msg += (f"; log-log slope {fit.slope:.2f} ({pct(fit.level, 0)} interval {fit.ci[0]:.2f} to {fit.ci[1]:.2f}, "
             f"Hurst {fit.hurst:.2f}). The {h}-bar figure rests on {n_h} non-overlapping periods"
             + ("; read it with caution." if n_h < FEW_PERIODS else ".") + _doubtful_note(status, alpha))
     return Verdict("variance_proportional_to_horizon", status, cd_stat, cd_p, msg)
@@ -215,8 +210,8 @@ def drift_verdict(drift: dict, alpha: float, status: Status | None = None) -> Ve
             "rejected": "not negligible"}[status]
     size = (" (a size that would matter, but within sampling noise)"
             if status == "consistent" and ratio >= LARGE_DRIFT_TO_VOL else "")
-    msg = (f"Mean return {'+' if drift['mean_annualized'] >= 0 else ''}{_pc(drift['mean_annualized'], 1)} a year (t = {drift['t_stat']:.2f}, {fmt_p(p)}): {word}"
+    msg = (f"Mean return {'+' if drift['mean_annualized'] >= 0 else ''}{pct(drift['mean_annualized'], 1)} a year (t = {drift['t_stat']:.2f}, {fmt_p(p)}): {word}"
            f"{size}; over {h} bars the drift is {ratio:.2f} of a {h}-bar standard deviation, so a vol measured "
-           f"around zero instead of the mean would be {_pc(infl, 1)} too high at that horizon (Black-Scholes "
+           f"around zero instead of the mean would be {pct(infl, 1)} too high at that horizon (Black-Scholes "
            "itself prices with the risk-free rate, not this drift)." + _doubtful_note(status, alpha))
     return Verdict("negligible_drift", status, float(drift["t_stat"]), float(p), msg)

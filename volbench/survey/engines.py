@@ -29,7 +29,7 @@ from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 from dataclasses import dataclass, replace
 from pathlib import Path
 
-from volbench.errors import VolbenchError
+from volbench.errors import Cancelled, VolbenchError
 from volbench.survey.paths import expand_paths
 from volbench.survey.record import SurveyRecord, failed
 from volbench.survey.series import survey_files, survey_paths
@@ -49,7 +49,7 @@ POLL_SECONDS = 0.05
 CONNECT_TIMEOUT = "10s"
 
 
-class SurveyCancelled(Exception):
+class SurveyCancelled(Cancelled):
     """``cancel()`` returned True. ``records`` holds the finished series in input order."""
 
     def __init__(self, records: list[SurveyRecord], done: int, total: int) -> None:

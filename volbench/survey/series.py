@@ -125,18 +125,19 @@ def garch_horizons(days: int) -> tuple[int, ...]:
 
 
 def _forward_vol(h: PriceHistory, s: SurveySettings, unavailable: dict) -> tuple[float | None, str | None]:
-    from volbench.models import FALLBACK, fit_models
-    from volbench.models.garch import DIST_LABELS
+    from volbench.models import DIST_REGISTRY, FALLBACK, fit_models
+    from volbench.settings import GarchSettings
 
     try:
-        comp = fit_models(h, s.garch_models, s.garch_dist, horizons=garch_horizons(s.days), annualization=s.annualization)
+        settings = GarchSettings(models=s.garch_models, dist=s.garch_dist, horizons=garch_horizons(s.days))
+        comp = fit_models(h, settings, annualization=s.annualization)
         vol = comp.forward_vol(s.days)
     except VolbenchError as exc:
         unavailable["forward_vol"] = str(exc)
         return None, None
     fit = comp.preferred_fit
     if fit is not None:
-        dist = "" if fit.dist == "normal" else f", {DIST_LABELS[fit.dist]}"
+        dist = "" if fit.dist == "normal" else f", {DIST_REGISTRY[fit.dist].label}"
         return vol, f"{fit.label}{dist}"
     reason = next((w for f in comp.fits for w in f.warnings), "no usable fit")
     return vol, f"{FALLBACK} fallback: {reason}"

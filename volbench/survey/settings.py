@@ -14,6 +14,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from types import MappingProxyType
 
+from volbench import validate
 from volbench.data.options import ImportOptions
 from volbench.errors import VolbenchError
 from volbench.estimators import get_spec
@@ -81,18 +82,12 @@ class SurveySettings:
             set_(self, "window", w)
         set_(self, "annualization", check_annualization(self.annualization))
         if self.pricing_vol is not None:
-            set_(self, "pricing_vol", check_pricing_vol(self.pricing_vol, "--pricing-vol"))
+            set_(self, "pricing_vol", check_pricing_vol(self.pricing_vol))
         vols = {str(k): check_pricing_vol(v, f"pricing vol of {k!r}") for k, v in dict(self.pricing_vols).items()}
         set_(self, "pricing_vols", MappingProxyType(vols))
         set_(self, "with_garch", bool(self.with_garch))
-        from volbench.models.compare import (
-            check_models,  # imports arch: only when a survey is set up
-        )
-        from volbench.models.garch import DISTS
-
-        set_(self, "garch_models", check_models(self.garch_models))
-        if self.garch_dist not in DISTS:
-            raise VolbenchError(f"unknown distribution {self.garch_dist!r}; choose one of: {', '.join(DISTS)}")
+        set_(self, "garch_models", validate.models(self.garch_models))
+        set_(self, "garch_dist", validate.distribution(self.garch_dist))
         set_(self, "cone_estimator", get_spec(self.cone_estimator).key)
         set_(self, "cone_windows", _check_windows(self.cone_windows))
         set_(self, "horizons", check_horizons(self.horizons))

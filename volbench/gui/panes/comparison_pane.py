@@ -3,44 +3,38 @@ price at that vol, and the plain reading."""
 
 from __future__ import annotations
 
-import math
-
 import pandas as pd
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QLabel, QSplitter, QVBoxLayout, QWidget
 
+from volbench.format import number, pct
 from volbench.gui import palette
 from volbench.gui.controller import Results
-from volbench.gui.widgets import Card, FrameTable, pct
+from volbench.gui.panes.base import Pane
+from volbench.gui.state import WorkbenchState
+from volbench.gui.widgets import Card, FrameTable
 
 COMPARE_COLUMNS = ["candidate", "window (bars)", "vol", "gap (vol points)", "option price", "price difference",
                    "vega estimate", "note"]
 PENDING_WORDS = {"garch": "GARCH forward vol", "scaling": "scaling-check horizon vol"}
 
 
-def _money(x) -> str:
-    return "n/a" if x is None or not math.isfinite(float(x)) else f"{float(x):,.4f}"
-
-
-def _signed(x, digits: int = 2) -> str:
-    return "n/a" if x is None or not math.isfinite(float(x)) else f"{float(x):+.{digits}f}"
-
-
-def candidate_colour(key: str) -> str | None:
-    if key.startswith("garch:"):
+def candidate_colour(source: str, key: str) -> str | None:
+    """The colour of a candidate's swatch: its model's or estimator's plot colour."""
+    if source == "garch":
         return palette.model_colour(key.split(":", 1)[1])
-    if key == "pricing":
+    if source == "pricing":
         return palette.PRICING_VOL
-    if key == "scaling":
-        return palette.REFERENCE
-    return palette.estimator_colour(key)
+    if source == "estimator":
+        return palette.estimator_colour(key)
+    return palette.REFERENCE
 
 
-class ComparisonPane(QWidget):
-    def __init__(self, results: Results, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.setObjectName("comparison_pane")
-        self.results = results
+class ComparisonPane(Pane):
+    key, title, place = "comparison", "Comparison with the pricing vol", "bottom"
+
+    def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
+        super().__init__(state, results, parent)
         self.heading = QLabel("Comparison")
         self.heading.setObjectName("comparison_heading")
         self.heading.setProperty("role", "heading")
@@ -81,12 +75,12 @@ class ComparisonPane(QWidget):
         for i, rec in enumerate(c.table.to_dict(orient="records")):
             win = rec["window"]
             rows.append([rec["label"], "" if win is None or pd.isna(win) else int(win), pct(rec["vol"]),
-                         "" if rec["source"] == "pricing" else _signed(rec["gap_points"]),
-                         _money(rec["price"]),
-                         "" if rec["source"] == "pricing" else _signed(rec["price_diff"], 4),
-                         "" if rec["source"] == "pricing" else _signed(rec["vega_approx_diff"], 4),
+                         "" if rec["source"] == "pricing" else number(rec["gap_points"], 2, signed=True),
+                         number(rec["price"], grouping=True),
+                         "" if rec["source"] == "pricing" else number(rec["price_diff"], signed=True),
+                         "" if rec["source"] == "pricing" else number(rec["vega_approx_diff"], signed=True),
                          rec["note"] or ""])
-            colour = candidate_colour(str(rec["key"]))
+            colour = candidate_colour(str(rec["source"]), str(rec["key"]))
             if colour:
                 swatch[i] = colour
         self.table.set_frame(pd.DataFrame(rows, columns=COMPARE_COLUMNS), c.table, swatch=swatch,
@@ -97,7 +91,8 @@ class ComparisonPane(QWidget):
             f"{c.spot:,.4g}, rate {pct(c.rate)}, yield {pct(c.dividend_yield)}), as of {c.as_of}: price "
             f"{c.price:,.4f}. Estimators over the last {c.window} bars"
             + (" (the option's life)." if c.window == c.days else "."))
-        lines = [f"<li>{t[0].upper() + t[1:]}.</li>" for t in c.reading]
+        lines = [f"<li>{t[0].upper() + t[1:]}{'' if t.endswith('.') else '.'}</li>" for t in c.full_reading]
+        lines += [f"<li>Note: {t}.</li>" for t in c.caveats]
         missing = []
         for kind, words in PENDING_WORDS.items():
             if self.results.is_pending(kind):

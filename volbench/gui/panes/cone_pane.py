@@ -9,13 +9,14 @@ from PySide6.QtCore import Qt
 from PySide6.QtGui import QColor
 from PySide6.QtWidgets import QComboBox, QHBoxLayout, QLabel, QSplitter, QVBoxLayout, QWidget
 
-from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY
+from volbench.format import pct
 from volbench.gui import palette
 from volbench.gui.binding import Binding
 from volbench.gui.controller import Results
+from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
-from volbench.gui.widgets import Card, FrameTable, Plot, pct
+from volbench.gui.widgets import Card, FrameTable, Plot
 
 CONE_COLUMNS = ["window (bars)", "min", "10th", "25th", "median", "75th", "90th", "max", "today",
                 "today's percentile", "windows", "independent"]
@@ -27,11 +28,11 @@ def _brush(hex_colour: str, alpha: int):
     return pg.mkBrush(c)
 
 
-class ConePane(QWidget):
+class ConePane(Pane):
+    key, title = "cone", "Volatility cone"
+
     def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.setObjectName("cone_pane")
-        self.state, self.results = state, results
+        super().__init__(state, results, parent)
         top = QHBoxLayout()
         top.addWidget(QLabel("Cone estimator"))
         self.estimator = QComboBox()
@@ -80,7 +81,6 @@ class ConePane(QWidget):
         lay.addWidget(self.card)
         self._key = None
         results.updated.connect(self._on_results)
-        state.changed.connect(self._on_state)
         self.render()
 
     def unbind(self) -> None:
@@ -89,9 +89,7 @@ class ConePane(QWidget):
     def _on_results(self, kinds) -> None:
         if "cone" in kinds:
             self.render()
-
-    def _on_state(self, names) -> None:
-        if names & {"pricing_vol", "days"} and self.results.get("cone") is not None:
+        elif "placement" in kinds and self.results.get("cone") is not None:
             self._render_pricing(self.results.get("cone"))
 
     def _set_fills(self, colour: str) -> None:
@@ -139,16 +137,18 @@ class ConePane(QWidget):
         self.card.show_content()
 
     def _render_pricing(self, cone) -> None:
-        pv, days = self.state.pricing_vol, self.state.days
+        position = self.results.get("placement")
+        if position is None:
+            self.reading.setText(self.results.problem("placement") or "")
+            return
+        pv, days = position.pricing_vol, position.days
         self.pricing.setData([days], [100.0 * pv])
         self.life.setValue(days)
-        try:
-            placement = cone.place(pv, days)
-        except VolbenchError as exc:
-            text = f"Pricing vol {pct(pv, 1)} cannot be placed in the cone: {exc}"
+        if position.placement is None:
+            text = f"Pricing vol {pct(pv, 1)} cannot be placed in the cone: {position.problem}"
         else:
             text = (f"Pricing vol <b>{pct(pv, 1)}</b> for an option of {days} bars sits at percentile "
-                    f"<b>{placement.percentile:.0f}</b> (0 to 100) of the {placement.note}.")
+                    f"<b>{position.placement.percentile:.0f}</b> (0 to 100) of the {position.placement.note}.")
         if cone.dropped:
             text += " Windows left out: " + "; ".join(f"{k} bars ({v})" for k, v in cone.dropped.items()) + "."
         if cone.notes:

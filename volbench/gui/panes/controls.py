@@ -4,7 +4,7 @@ terms and model choice. Each widget is bound to one state field (see :mod:`volbe
 from __future__ import annotations
 
 import pandas as pd
-from PySide6.QtCore import QDate, Qt, Signal
+from PySide6.QtCore import QDate, Qt
 from PySide6.QtWidgets import (
     QCheckBox,
     QComboBox,
@@ -25,12 +25,21 @@ from volbench import validate
 from volbench.estimators import REGISTRY
 from volbench.gui import palette
 from volbench.gui.binding import Binding
+from volbench.gui.controller import Results
+from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
+from volbench.models.family import DIST_REGISTRY, MODEL_REGISTRY
 
-GARCH_MODELS = (("all", "All three (compare)"), ("garch", "GARCH(1,1)"), ("gjr", "GJR-GARCH"),
-                ("egarch", "EGARCH"))
-GARCH_DISTS = (("normal", "Normal errors"), ("t", "Student t errors"))
 LAST_ROW = "last row"
+
+
+def garch_model_items() -> list[tuple[str, str]]:
+    """The model choices: all registered models (ranked by BIC), then each one (from the registry)."""
+    return [("all", "All (compare by BIC)")] + [(s.key, s.short) for s in MODEL_REGISTRY.values()]
+
+
+def garch_dist_items() -> list[tuple[str, str]]:
+    return [(d.key, f"{d.label[0].upper()}{d.label[1:]} errors") for d in DIST_REGISTRY.values()]
 
 
 def _combo(name: str, items) -> QComboBox:
@@ -62,18 +71,20 @@ def _dspin(name: str, lo: float, hi: float, decimals: int, suffix: str, step: fl
     return s
 
 
-class ControlsPane(QScrollArea):
-    """Every control of the workbench, in three groups."""
+class ControlsPane(Pane):
+    """Every control of the workbench, in groups, in a scrolling column."""
 
-    message = Signal(str)
-    recompute_requested = Signal()
+    key, title, place = "controls", "Settings", "left"
 
-    def __init__(self, state: WorkbenchState, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.setObjectName("controls_pane")
-        self.state = state
-        self.setWidgetResizable(True)
-        self.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+    def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
+        super().__init__(state, results, parent)
+        scroll = QScrollArea()
+        scroll.setObjectName("controls_scroll")
+        scroll.setWidgetResizable(True)
+        scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        lay = QVBoxLayout(self)
+        lay.setContentsMargins(0, 0, 0, 0)
+        lay.addWidget(scroll)
         body = QWidget()
         body.setObjectName("controls_body")
         outer = QVBoxLayout(body)
@@ -150,19 +161,19 @@ class ControlsPane(QScrollArea):
         # --- models
         g4 = QGroupBox("GARCH model")
         f4 = QFormLayout(g4)
-        self.garch_model = _combo("garch_model_combo", GARCH_MODELS)
+        self.garch_model = _combo("garch_model_combo", garch_model_items())
         f4.addRow("Model", self.garch_model)
-        self.garch_dist = _combo("garch_dist_combo", GARCH_DISTS)
+        self.garch_dist = _combo("garch_dist_combo", garch_dist_items())
         f4.addRow("Errors", self.garch_dist)
         outer.addWidget(g4)
 
         recompute = QPushButton("Recompute all")
         recompute.setObjectName("recompute_button")
         recompute.setToolTip("Run every computation again for the current settings")
-        recompute.clicked.connect(self.recompute_requested)
+        recompute.clicked.connect(lambda: self.requested.emit("recompute"))
         outer.addWidget(recompute)
         outer.addStretch(1)
-        self.setWidget(body)
+        scroll.setWidget(body)
         self.setMinimumWidth(250)
         self._bind_all()
         state.changed.connect(self._on_state)
@@ -171,7 +182,7 @@ class ControlsPane(QScrollArea):
     # ------------------------------------------------------------------ bindings
     def _bind(self, name, widget, signal, read, write) -> None:
         b = Binding(self.state, name, widget, signal, read, write)
-        b.rejected.connect(self.message)
+        b.rejected.connect(self.notice)
         self.bindings.append(b)
 
     def _bind_all(self) -> None:

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import pandas as pd
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import Qt
 from PySide6.QtWidgets import (
     QCheckBox,
     QHBoxLayout,
@@ -18,7 +18,9 @@ from PySide6.QtWidgets import (
 from volbench.data.history import PriceHistory
 from volbench.gui import palette
 from volbench.gui.binding import Binding
-from volbench.gui.state import IMPORT_FIELDS, WorkbenchState
+from volbench.gui.controller import Results
+from volbench.gui.panes.base import Pane
+from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import FrameTable
 
 SERIES_COLUMNS = ["series", "file", "rows", "first date", "last date", "columns", "quality"]
@@ -41,29 +43,22 @@ def quality_badge(h: PriceHistory) -> tuple[str, str]:
     return ", ".join(parts), palette.SEVERITY_COLOURS[worst]
 
 
-class DataPane(QWidget):
+class DataPane(Pane):
     """Series table (click to select), findings of the selected series, flagged-rows checkbox.
 
-    Signals
-    -------
-    open_requested()
-        The user pressed "Open files…" (the window owns the dialog).
-    reload_requested()
-        A choice about how files are read changed; files must be read again.
+    "Open price files…" asks the window for its dialog (``requested("open")``); a change of how
+    files are read makes the window read them again (it watches the state).
     """
 
-    open_requested = Signal()
-    reload_requested = Signal()
+    key, title = "data", "Data"
 
-    def __init__(self, state: WorkbenchState, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.setObjectName("data_pane")
-        self.state = state
+    def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
+        super().__init__(state, results, parent)
         lay = QVBoxLayout(self)
         top = QHBoxLayout()
         open_button = QPushButton("Open price files…")
         open_button.setObjectName("open_button")
-        open_button.clicked.connect(self.open_requested)
+        open_button.clicked.connect(lambda: self.requested.emit("open"))
         top.addWidget(open_button)
         top.addSpacing(12)
         top.addWidget(QLabel("Date format"))
@@ -137,8 +132,6 @@ class DataPane(QWidget):
     def _on_state(self, names) -> None:
         if names & {"histories", "selected", "exclude_flagged"}:
             self.render()
-        if names & IMPORT_FIELDS:
-            self.reload_requested.emit()
 
     def _on_series_clicked(self, index) -> None:
         name = self.series_table.table_model.cell(index.row(), "series")

@@ -5,15 +5,17 @@ from __future__ import annotations
 
 import pandas as pd
 import pyqtgraph as pg
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QHBoxLayout, QLabel, QPushButton, QSplitter, QVBoxLayout, QWidget
 
-from volbench.errors import VolbenchError
+from volbench.format import pct, sig
 from volbench.gui import palette
 from volbench.gui.controller import Results
+from volbench.gui.panes.base import Pane
 from volbench.gui.panes.price_pane import epoch_seconds
 from volbench.gui.state import WorkbenchState
-from volbench.gui.widgets import Card, FrameTable, Plot, num, pct
+from volbench.gui.widgets import Card, FrameTable, Plot
+from volbench.models.family import MODEL_REGISTRY
 
 DASHES = {"solid": Qt.PenStyle.SolidLine, "dash": Qt.PenStyle.DashLine, "dashdot": Qt.PenStyle.DashDotLine}
 FIT_COLUMNS = ["model", "errors", "converged", "persistence", "long-run vol", "half-life (bars)", "AIC",
@@ -22,26 +24,19 @@ BATCH_COLUMNS = ["series", "preferred model", "forward vol", "reading"]
 
 
 def _pen(model: str, width: float = 1.5):
+    spec = MODEL_REGISTRY.get(model)
     return pg.mkPen(palette.model_colour(model), width=width,
-                    style=DASHES[palette.MODEL_DASH.get(model, "solid")])
+                    style=DASHES[spec.dash if spec is not None else "solid"])
 
 
-def _fwd(fit, days: int):
-    try:
-        return fit.forward_vol(days)
-    except VolbenchError:
-        return None
+class ModelPane(Pane):
+    """Conditional vol, forward-vol term structure, fit table and the batch fit of every series
+    (asked for with ``requested("garch_all")``); forward vols come from the ``forward`` job."""
 
-
-class ModelPane(QWidget):
-    """Signals: ``fit_all_requested()`` when the user asks for a batch fit of every series."""
-
-    fit_all_requested = Signal()
+    key, title = "model", "GARCH models"
 
     def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.setObjectName("model_pane")
-        self.state, self.results = state, results
+        super().__init__(state, results, parent)
         self.cond_plot = Plot("garch_conditional_plot", title="Conditional volatility",
                               left="Annualized volatility (%)", bottom="Date", date_axis=True)
         self.cond_legend = self.cond_plot.legend(offset=(10, 10))
@@ -62,7 +57,7 @@ class ModelPane(QWidget):
         self.batch_button.setObjectName("fit_all_button")
         self.batch_button.setToolTip("Fit the chosen models to every loaded series in the background "
                                      "(progress and Cancel in the status bar)")
-        self.batch_button.clicked.connect(self.fit_all_requested)
+        self.batch_button.clicked.connect(lambda: self.requested.emit("garch_all"))
         self.batch_note = QLabel("Press the button to fit every loaded series with the current settings.")
         self.batch_note.setObjectName("garch_batch_note")
         self.batch_note.setProperty("role", "caption")
@@ -100,13 +95,13 @@ class ModelPane(QWidget):
         self.render_batch()
 
     def _on_results(self, kinds) -> None:
-        if "garch" in kinds:
+        if kinds & {"garch", "forward"}:
             self.render()
         if "garch_all" in kinds:
             self.render_batch()
 
     def _on_state(self, names) -> None:
-        if names & {"pricing_vol", "days"} and self.results.get("garch") is not None:
+        if "pricing_vol" in names and self.results.get("garch") is not None:
             self.render()
 
     def render(self) -> None:
@@ -115,7 +110,8 @@ class ModelPane(QWidget):
             self.card.show_message(self.results.problem("garch") or "Load a price file to begin.")
             self.fit_table.set_frame(pd.DataFrame(columns=FIT_COLUMNS))
             return
-        days, pv = self.state.days, self.state.pricing_vol
+        forward = self.results.get("forward")
+        days, pv = (forward.days if forward is not None else self.state.days), self.state.pricing_vol
         for plot, legend in ((self.cond_plot, self.cond_legend), (self.term_plot, self.term_legend)):
             plot.clear()
             legend.clear()
@@ -144,12 +140,12 @@ class ModelPane(QWidget):
 
         rows, raw = [], []
         for fit in comp.fits:
-            fwd = _fwd(fit, days)
+            fwd = None if forward is None else forward.of(fit.model)
             source = f"forward vol from {fit.forward_vol_source}" if fit.fallback else ""
             notes = "; ".join(x for x in (source, *fit.warnings, *fit.notes) if x)
             rows.append([fit.candidate_label + (" *" if fit.model == comp.preferred else ""), fit.dist,
-                         "yes" if fit.converged else "no", num(fit.persistence, 4), pct(fit.long_run_vol),
-                         num(fit.half_life, 3), num(fit.aic, 6), num(fit.bic, 6), pct(fwd), notes])
+                         "yes" if fit.converged else "no", sig(fit.persistence, 4), pct(fit.long_run_vol),
+                         sig(fit.half_life, 3), sig(fit.aic, 6), sig(fit.bic, 6), pct(fwd), notes])
             raw.append({"model": fit.model, "dist": fit.dist, "converged": fit.converged,
                         "persistence": fit.persistence, "long_run_vol": fit.long_run_vol,
                         "half_life": fit.half_life, "aic": fit.aic, "bic": fit.bic, "forward_vol": fwd,
@@ -170,10 +166,9 @@ class ModelPane(QWidget):
                 self.batch_note.setText(problem)
             self.batch_table.set_frame(pd.DataFrame(columns=BATCH_COLUMNS))
             return
-        comps, days = batch
+        comps, days = batch.comparisons, batch.days
         rows, raw = [], []
-        for c in comps:
-            fwd = _fwd(c, days) if c.fits else None
+        for c, fwd in zip(comps, batch.forward):
             fallback = c.fits[0].candidate_label if c.fits else "no fit"
             rows.append([c.name, c.preferred or f"none usable ({fallback})", pct(fwd), c.message])
             raw.append({"series": c.name, "preferred": c.preferred, "forward_vol": fwd, "days": days,

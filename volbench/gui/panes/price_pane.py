@@ -7,6 +7,8 @@ import pyqtgraph as pg
 from PySide6.QtWidgets import QLabel, QVBoxLayout, QWidget
 
 from volbench.gui import palette
+from volbench.gui.controller import Results
+from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, Plot
 
@@ -16,11 +18,12 @@ def epoch_seconds(dates: np.ndarray) -> np.ndarray:
     return np.asarray(dates, dtype="datetime64[ns]").astype("int64") / 1e9
 
 
-class PricePane(QWidget):
-    def __init__(self, state: WorkbenchState, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
+class PricePane(Pane):
+    key, title = "prices", "Prices"
+
+    def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
+        super().__init__(state, results, parent)
         self.setObjectName("price_pane")
-        self.state = state
         lay = QVBoxLayout(self)
         self.plot = Plot("price_plot", left="Close price", bottom="Date", date_axis=True)
         self.legend = self.plot.legend(offset=(10, 10))

@@ -9,22 +9,24 @@ from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QLabel, QSplitter, QVBoxLayout, QWidget
 
 from volbench.estimators import REGISTRY
+from volbench.format import pct
 from volbench.gui import palette
 from volbench.gui.controller import Results
+from volbench.gui.panes.base import Pane
 from volbench.gui.panes.price_pane import epoch_seconds
 from volbench.gui.state import WorkbenchState
-from volbench.gui.widgets import Card, FrameTable, Plot, pct
+from volbench.gui.widgets import Card, FrameTable, Plot
 
 ESTIMATE_COLUMNS = ["estimator", "vol", "95% interval", "n", "interval method / why not"]
 
 
-class RollingPane(QWidget):
+class RollingPane(Pane):
     """Lines per estimator (legend entries toggle them), crosshair readout, estimates table."""
 
+    key, title = "rolling", "Rolling volatility"
+
     def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.setObjectName("rolling_pane")
-        self.state, self.results = state, results
+        super().__init__(state, results, parent)
         self.plot = Plot("rolling_plot", left="Annualized volatility (%)", bottom="Date", date_axis=True)
         self.legend = self.plot.legend(offset=(10, 10), colCount=3)
         self.lines: dict[str, pg.PlotDataItem] = {}
@@ -42,7 +44,7 @@ class RollingPane(QWidget):
         self.legend.sigSampleClicked.connect(self._on_legend_click)
         self.pricing_line = pg.InfiniteLine(
             angle=0, movable=False, pen=pg.mkPen(palette.PRICING_VOL, width=1.6, style=Qt.PenStyle.DashLine),
-            label="pricing vol {value:.1f} %", labelOpts={"position": 0.03, "color": palette.PRICING_VOL,
+            label="pricing vol {value:.1f}%", labelOpts={"position": 0.03, "color": palette.PRICING_VOL,
                                                           "anchors": [(0, 1), (0, 1)]})
         self.plot.addItem(self.pricing_line, ignoreBounds=True)
         self.vline = pg.InfiniteLine(angle=90, movable=False, pen=pg.mkPen("#8A8F86", width=1))
@@ -218,7 +220,7 @@ class RollingPane(QWidget):
                 i -= 1
             date = date or pd.Timestamp(xs[i], unit="s").strftime("%Y-%m-%d")
             parts.append(f"<span style='color:{palette.estimator_colour(key)}'>&#9632;</span> "
-                         f"{REGISTRY[key].short or REGISTRY[key].label} {self._y[key][i]:.1f} %")
+                         f"{REGISTRY[key].short or REGISTRY[key].label} {self._y[key][i]:.1f}%")
         if date is None:
             return " "
         return f"<b>{date}</b> &nbsp; " + " &nbsp; ".join(parts)

@@ -14,9 +14,12 @@ import pyqtgraph as pg
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QHBoxLayout, QLabel, QSplitter, QTabWidget, QVBoxLayout, QWidget
 
+from volbench.format import pct, sig
 from volbench.gui import palette
 from volbench.gui.controller import Results
-from volbench.gui.widgets import Card, FrameTable, Plot, log_ticks, num, pct
+from volbench.gui.panes.base import Pane
+from volbench.gui.state import WorkbenchState
+from volbench.gui.widgets import Card, FrameTable, Plot, log_ticks
 
 PROPERTY_WORDS = {
     "variance_proportional_to_horizon": "Variance grows in proportion to horizon",
@@ -30,11 +33,11 @@ VERDICT_COLUMNS = ["property", "status", "p-value", "what it means"]
 DASH = Qt.PenStyle.DashLine
 
 
-class ScalingPane(QWidget):
-    def __init__(self, results: Results, parent: QWidget | None = None) -> None:
-        super().__init__(parent)
-        self.setObjectName("scaling_pane")
-        self.results = results
+class ScalingPane(Pane):
+    key, title = "scaling", "Scaling check"
+
+    def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
+        super().__init__(state, results, parent)
         c = palette.estimator_colour("close_to_close")
         self.var_plot = Plot("scaling_variance_plot", title="Variance against horizon",
                              left="Variance of h-bar log returns", bottom="Horizon h (bars)")
@@ -166,9 +169,9 @@ class ScalingPane(QWidget):
 
         rows = []
         for rec in hz.to_dict(orient="records"):
-            rows.append([int(rec["h"]), num(rec["variance_ratio"], 4), num(rec["z"], 3), num(rec["z_robust"], 3),
-                         num(rec["p_value_robust"], 3), pct(rec["annualized_vol"]), pct(rec["sqrt_time_vol"]),
-                         num(rec["vol_ratio"], 4), int(rec["n_nonoverlap"])])
+            rows.append([int(rec["h"]), sig(rec["variance_ratio"], 4), sig(rec["z"], 3), sig(rec["z_robust"], 3),
+                         sig(rec["p_value_robust"], 3), pct(rec["annualized_vol"]), pct(rec["sqrt_time_vol"]),
+                         sig(rec["vol_ratio"], 4), int(rec["n_nonoverlap"])])
         self.vr_table.set_frame(pd.DataFrame(rows, columns=VR_COLUMNS), hz, right=VR_COLUMNS)
 
         rows, fg, raw = [], {}, []
@@ -179,7 +182,7 @@ class ScalingPane(QWidget):
             fg[(i, 1)] = palette.STATUS_COLOURS.get(v.status, palette.FOREGROUND)
             raw.append(v.as_dict())
         self.verdict_table.set_frame(pd.DataFrame(rows, columns=VERDICT_COLUMNS), pd.DataFrame(raw), fg=fg)
-        fa = getattr(r, "family_false_alarm", None) or {}
+        fa = r.family_false_alarm or {}
         self.false_alarm.setText(
             (fa["sentence"] + " Each status comes from its test at this level; effect sizes are in the "
              "sentences.") if fa else "")

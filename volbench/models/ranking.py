@@ -1,26 +1,18 @@
-"""Fit several GARCH-family models to one series and rank them by BIC."""
+"""Fit several GARCH-type models to one series and rank them by BIC."""
 
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 
 from volbench import validate
+from volbench.candidates import CandidateSet
 from volbench.data.history import PriceHistory
-from volbench.errors import VolbenchError
-from volbench.models.garch import (
-    DEFAULT_SEED,
-    DEFAULT_SIMULATIONS,
-    FALLBACK,
-    MODEL_LABELS,
-    MODELS,
-    GarchFit,
-    check_settings,
-    check_simulation_budget,
-    fit_garch,
-)
-from volbench.models.term import DEFAULT_TERM_HORIZONS
+from volbench.errors import Cancelled, VolbenchError
+from volbench.models.family import MODEL_REGISTRY
+from volbench.models.garch import FALLBACK, GarchFit, candidate_set, fit_garch
+from volbench.settings import GarchSettings
 from volbench.types import DEFAULT_ANNUALIZATION
 
 
@@ -92,6 +84,10 @@ class GarchComparison:
         """Forward vol of the preferred model, or the first fit's fallback when none is usable."""
         return (self.preferred_fit or self.fits[0]).forward_vol(days)
 
+    def candidates(self, days: int) -> CandidateSet:
+        """Every fit's forward vol over ``days`` bars as a comparison candidate; the preferred fit leads."""
+        return candidate_set(self.fits, self.preferred, days)
+
     def as_dict(self) -> dict:
         return {
             "name": self.name,
@@ -136,33 +132,35 @@ def rank(name: str, fits: tuple[GarchFit, ...]) -> GarchComparison:
 
 def fit_models(
     history: PriceHistory,
-    models: Iterable[str] | str = MODELS,
-    dist: str = "normal",
+    settings: GarchSettings | None = None,
     *,
-    mean: str = "constant",
-    horizons: Iterable[int] = DEFAULT_TERM_HORIZONS,
     annualization: float = DEFAULT_ANNUALIZATION,
-    seed: int = DEFAULT_SEED,
-    simulations: int = DEFAULT_SIMULATIONS,
-    max_iterations: int | None = None,
+    progress: Callable[[int, int, str], None] | None = None,
+    cancel: Callable[[], bool] | None = None,
 ) -> GarchComparison:
-    """Fit each model in ``models`` (``"all"`` for every one) to ``history`` and rank them by BIC.
+    """Fit each model of ``settings.models`` (default: every registered model) and rank them by BIC.
 
     All fits share the same returns, distribution and mean, so their BICs are comparable
     (BIC = -2 loglik + k ln n; Schwarz 1978). Fits whose results carry warnings are ranked but never
-    preferred, because their forward vol is the EWMA fallback.
+    preferred, because their forward vol is the EWMA fallback. ``progress(done, total, label)`` is
+    called before each fit; ``cancel()`` is polled between fits.
 
     Raises
     ------
     VolbenchError
-        Bad settings, unknown model, or fewer than 2 returns.
+        Bad settings, or fewer than 2 returns.
+    Cancelled
+        ``cancel()`` returned True (the fits done so far are dropped).
     """
-    keys = check_models(models)
-    s = check_settings(dist=dist, mean=mean, horizons=horizons, annualization=annualization, seed=seed,
-                       simulations=simulations, max_iterations=max_iterations)
-    check_simulation_budget(keys, s)
-    fits = tuple(fit_garch(history, m, **s) for m in keys)
-    return rank(history.name, fits)
+    s = settings if settings is not None else GarchSettings()
+    fits = []
+    for i, m in enumerate(s.models):
+        if cancel is not None and cancel():
+            raise Cancelled(f"GARCH fitting of {history.name} cancelled after {i} of {len(s.models)} models")
+        if progress is not None:
+            progress(i, len(s.models), f"Fitting {MODEL_REGISTRY[m].label} to {history.name}")
+        fits.append(fit_garch(history, m, s, annualization=annualization))
+    return rank(history.name, tuple(fits))
 
 
-__all__ = ["MODEL_LABELS", "GarchComparison", "check_models", "evidence", "fit_models", "rank"]
+__all__ = ["GarchComparison", "check_models", "evidence", "fit_models", "rank"]

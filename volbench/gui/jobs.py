@@ -1,0 +1,327 @@
+"""The window's jobs in one table: what each result depends on, how it is computed, where it runs.
+
+Qt-free. Each :class:`Job` names the inputs it depends on (state fields such as ``"window"``, the
+``"view"`` of the selected history, or other jobs such as ``"cone"``), the function that computes
+it through the core (:mod:`volbench.analysis` and friends: the calls the command line makes), the
+type of its result, whether it runs in the background, and whether it runs on demand (files to
+read, an export, a batch fit) instead of whenever an input changes. The controller
+(:mod:`volbench.gui.controller`) reads only this table: a new result for a new pane is one entry
+here. Derived numbers (the pricing vol's place in the cone, each fit's forward vol at the
+option's life, the band curves) are jobs too, so panes only render.
+
+Every background job takes ``progress(done, total, text)`` and ``cancel()`` and stops with
+:class:`~volbench.errors.Cancelled` when asked to.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable, Mapping
+from dataclasses import dataclass, field
+from pathlib import Path
+from types import MappingProxyType
+from typing import Any
+
+import pandas as pd
+
+from volbench import analysis
+from volbench.data.history import PriceHistory
+from volbench.data.load import Loaded
+from volbench.data.options import ImportOptions
+from volbench.errors import Cancelled, VolbenchError
+from volbench.estimators import EstimateReport
+from volbench.export import ExportBundle, build_bundle, write_export
+from volbench.gui.loading import load_files
+from volbench.models import GarchComparison, fit_many
+from volbench.pricing.bands import band_fan
+from volbench.pricing.compare import Comparison
+from volbench.pricing.cone import Cone, ConePlacement
+from volbench.scaling import ScalingResult
+from volbench.settings import Settings
+
+Progress = Callable[[int, int, str], None]
+Cancel = Callable[[], bool]
+
+VIEW_INPUTS = frozenset({"histories", "selected", "exclude_flagged", "as_of"})
+"""State fields that change the history every result is computed on (the input ``"view"``)."""
+
+
+@dataclass(frozen=True)
+class Context:
+    """What a job runs on.
+
+    Attributes
+    ----------
+    view
+        The selected history with the flagged-rows policy and the as-of date applied.
+    settings
+        Every setting, as the command line would build it (:meth:`Choices.settings`).
+    results
+        The current result of each other job for this view, or the reason it has none
+        (``"computing…"`` while a background job runs).
+    request
+        What an on-demand job was asked to do (:class:`LoadRequest`, :class:`ExportRequest`,
+        :class:`BatchRequest`).
+    """
+
+    view: PriceHistory | None
+    settings: Settings
+    results: Mapping[str, Any] = field(default_factory=dict)
+    request: Any = None
+
+    def result(self, kind: str, of: type | tuple[type, ...]):
+        """The result of job ``kind``; its reason as a :class:`VolbenchError` when there is none."""
+        value = self.results.get(kind)
+        if isinstance(value, of):
+            return value
+        raise VolbenchError(value if isinstance(value, str) else f"{kind} is not computed yet")
+
+
+# ------------------------------------------------------------------------ derived results
+@dataclass(frozen=True)
+class ConePosition:
+    """The pricing vol's place in the cone column of the option's life (or why it has none)."""
+
+    pricing_vol: float
+    days: int
+    placement: ConePlacement | None
+    problem: str | None = None
+
+
+@dataclass(frozen=True)
+class ForwardVols:
+    """Each fit's forward vol over the option's life; ``reasons`` for the fits that have none."""
+
+    days: int
+    vols: Mapping[str, float]
+    reasons: Mapping[str, str] = field(default_factory=dict)
+
+    def of(self, model: str) -> float | None:
+        return self.vols.get(model)
+
+
+@dataclass(frozen=True)
+class BandFans:
+    """Band prices from today to expiry (:func:`volbench.pricing.bands.band_fan`) of every vol of
+    the comparison, by candidate key (``"pricing"`` first)."""
+
+    days: int
+    fans: Mapping[str, pd.DataFrame]
+
+
+@dataclass(frozen=True)
+class BatchFits:
+    """A batch fit of every loaded series: the comparisons, and each preferred forward vol at ``days``."""
+
+    days: int
+    comparisons: tuple[GarchComparison, ...]
+    forward: tuple[float | None, ...]
+
+
+def forward_vols(fits, days: int) -> ForwardVols:
+    vols, reasons = {}, {}
+    for f in fits:
+        try:
+            vols[f.model] = f.forward_vol(days)
+        except VolbenchError as exc:
+            reasons[f.model] = str(exc)
+    return ForwardVols(days, MappingProxyType(vols), MappingProxyType(reasons))
+
+
+# ------------------------------------------------------------------------ requests
+@dataclass(frozen=True)
+class LoadRequest:
+    paths: tuple[str, ...]
+    options: ImportOptions
+    taken: frozenset[str] = frozenset()
+
+
+@dataclass(frozen=True)
+class ExportRequest:
+    """Write ``views`` to ``path``; ``given`` holds results already on screen, ``{section: {series: result}}``."""
+
+    path: Path
+    views: tuple[PriceHistory, ...]
+    overwrite: bool = False
+    given: Mapping[str, Mapping[str, Any]] = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class BatchRequest:
+    views: tuple[PriceHistory, ...]
+    processes: int | None = None
+
+
+# ------------------------------------------------------------------------ job functions
+def _checkpoint(cancel: Cancel) -> None:
+    if cancel():
+        raise Cancelled("stopped")
+
+
+def _rolling(ctx: Context, progress: Progress, cancel: Cancel):
+    return analysis.rolling_for(ctx.view, ctx.settings)
+
+
+def _estimates(ctx: Context, progress: Progress, cancel: Cancel):
+    return analysis.estimates_for(ctx.view, ctx.settings)
+
+
+def _cone(ctx: Context, progress: Progress, cancel: Cancel):
+    return analysis.cone_for(ctx.view, ctx.settings)
+
+
+def _placement(ctx: Context, progress: Progress, cancel: Cancel):
+    o = ctx.settings.option
+    cone = ctx.result("cone", Cone)
+    try:
+        return ConePosition(o.pricing_vol, o.days, cone.place(o.pricing_vol, o.days))
+    except VolbenchError as exc:
+        return ConePosition(o.pricing_vol, o.days, None, str(exc))
+
+
+def _scaling(ctx: Context, progress: Progress, cancel: Cancel):
+    _checkpoint(cancel)
+    progress(0, 1, f"Running the scaling check on {ctx.view.name}")
+    result = analysis.scaling_for(ctx.view, ctx.settings)
+    _checkpoint(cancel)
+    return result
+
+
+def _garch(ctx: Context, progress: Progress, cancel: Cancel):
+    _checkpoint(cancel)
+    result = analysis.garch_for(ctx.view, ctx.settings, progress, cancel)
+    _checkpoint(cancel)
+    return result
+
+
+def _forward(ctx: Context, progress: Progress, cancel: Cancel):
+    return forward_vols(ctx.result("garch", GarchComparison).fits, ctx.settings.option.days)
+
+
+def _comparison(ctx: Context, progress: Progress, cancel: Cancel):
+    given = {part: ctx.results.get(part) for part in analysis.CANDIDATE_PARTS}
+    cone = ctx.results.get("cone")
+    return analysis.comparison_for(ctx.view, ctx.settings, given=given,
+                                   cone=cone if isinstance(cone, Cone) else None)
+
+
+def _bands(ctx: Context, progress: Progress, cancel: Cancel):
+    c = ctx.result("comparison", Comparison)
+    fans = {row.key: band_fan(c.spot, row.vol, c.days, c.annualization)
+            for row in c.table.itertuples(index=False) if math.isfinite(row.vol)}
+    return BandFans(c.days, MappingProxyType(fans))
+
+
+def _load(ctx: Context, progress: Progress, cancel: Cancel):
+    r: LoadRequest = ctx.request
+    return load_files(r.paths, r.options, taken=r.taken, progress=progress, cancel=cancel)
+
+
+def _export(ctx: Context, progress: Progress, cancel: Cancel):
+    r: ExportRequest = ctx.request
+
+    def step(done: int, total: int, text: str) -> None:
+        _checkpoint(cancel)
+        progress(done, total, f"Exporting: {text}")
+
+    _checkpoint(cancel)
+    bundle: ExportBundle = build_bundle(r.views, ctx.settings, given=r.given, progress=step)
+    _checkpoint(cancel)
+    return write_export(r.path, bundle, overwrite=r.overwrite)
+
+
+def _garch_all(ctx: Context, progress: Progress, cancel: Cancel):
+    r: BatchRequest = ctx.request
+    _checkpoint(cancel)
+    settings = ctx.settings.garch.with_changes(processes=r.processes)
+    comps = fit_many(r.views, settings, annualization=ctx.settings.annualization, progress=progress, cancel=cancel)
+    days = ctx.settings.option.days
+    forward = []
+    for c in comps:
+        try:
+            forward.append(c.forward_vol(days) if c.fits else None)
+        except VolbenchError:
+            forward.append(None)
+    return BatchFits(days, tuple(comps), tuple(forward))
+
+
+# ------------------------------------------------------------------------ the table
+@dataclass(frozen=True)
+class Job:
+    """One result the window computes.
+
+    Attributes
+    ----------
+    kind
+        Its name (the key panes read from :class:`~volbench.gui.controller.Results`).
+    inputs
+        State fields, ``"view"`` (the selected history as shown) and other jobs it depends on.
+    run
+        ``run(context, progress, cancel)`` through the core; raises :class:`VolbenchError` with
+        the reason when there is no result, :class:`Cancelled` when stopped.
+    returns
+        The type of its result (checked when it is stored).
+    background
+        Runs in a worker thread (long work), with progress and Cancel in the status bar.
+    on_demand
+        Runs when asked (a menu, a button), not when an input changes.
+    busy
+        What the status line says while it runs (``{name}``: the series).
+    """
+
+    kind: str
+    inputs: frozenset[str]
+    run: Callable[[Context, Progress, Cancel], Any]
+    returns: type | tuple[type, ...]
+    background: bool = False
+    on_demand: bool = False
+    busy: str = ""
+
+
+def _job(kind, inputs, run, returns, **kw) -> Job:
+    return Job(kind, frozenset(inputs), run, returns, **kw)
+
+
+OPTION = ("pricing_vol", "days", "strike", "rate", "dividend_yield", "kind")
+
+JOBS: dict[str, Job] = {j.kind: j for j in (
+    _job("rolling", ("view", "window", "annualization"), _rolling, analysis.RollingSet),
+    _job("estimates", ("view", "window", "annualization"), _estimates, EstimateReport),
+    _job("cone", ("view", "annualization", "cone_estimator"), _cone, Cone),
+    _job("placement", ("cone", "pricing_vol", "days"), _placement, ConePosition),
+    _job("scaling", ("view", "annualization"), _scaling, ScalingResult, background=True,
+         busy="Running the scaling check on {name}…"),
+    _job("garch", ("view", "annualization", "garch_model", "garch_dist"), _garch, GarchComparison,
+         background=True, busy="Fitting GARCH models to {name}…"),
+    _job("forward", ("garch", "days"), _forward, ForwardVols),
+    _job("comparison", ("view", "annualization", *OPTION, "cone_estimator", "cone", "scaling", "garch"),
+         _comparison, Comparison),
+    _job("bands", ("comparison",), _bands, BandFans),
+    _job("load", (), _load, Loaded, background=True, on_demand=True, busy="Reading {files}…"),
+    _job("export", (), _export, Path, background=True, on_demand=True, busy="Exporting to {file}…"),
+    _job("garch_all", (), _garch_all, BatchFits, background=True, on_demand=True,
+         busy="Fitting {count} series…"),
+)}
+"""Every job of the window, each listed after the jobs it depends on. Add a job with one entry."""
+
+
+def automatic(jobs: Mapping[str, Job] = JOBS) -> list[str]:
+    """Jobs recomputed when their inputs change, in run order."""
+    return [k for k, j in jobs.items() if not j.on_demand]
+
+
+def jobs_for(names, jobs: Mapping[str, Job] = JOBS) -> list[str]:
+    """Automatic jobs that depend on any of ``names`` (directly, through the view or another job), in order."""
+    touched = set(names)
+    if touched & VIEW_INPUTS:
+        touched.add("view")
+    for kind in automatic(jobs):  # the table lists every job after the jobs it depends on
+        if jobs[kind].inputs & touched:
+            touched.add(kind)
+    return [k for k in automatic(jobs) if k in touched]
+
+
+def depends_on_view(kind: str, jobs: Mapping[str, Job] = JOBS) -> bool:
+    """Whether ``kind`` depends on the selected history, directly or through another job."""
+    inputs = jobs[kind].inputs
+    return "view" in inputs or any(i in jobs and depends_on_view(i, jobs) for i in inputs)
