@@ -18,13 +18,13 @@ import numpy as np
 
 from volbench.candidates import CandidateSet, CandidateSource
 from volbench.data.history import PriceHistory
-from volbench.errors import EstimatorUnavailable, VolbenchError
+from volbench.errors import VolbenchError
 from volbench.estimators import (
     ESTIMATOR_KEYS,
     EstimateReport,
     RollingVol,
     estimate_all,
-    rolling_vol,
+    rolling_all,
 )
 from volbench.models import GarchComparison, fit_models
 from volbench.pricing.compare import Comparison, OptionSpec, compare
@@ -51,17 +51,12 @@ class RollingSet:
 
 
 def rolling_for(history: PriceHistory, settings: Settings, keys: Sequence[str] = ESTIMATOR_KEYS) -> RollingSet:
-    """:func:`~volbench.estimators.rolling_vol` of every estimator over the estimation window."""
+    """:func:`~volbench.estimators.rolling_all` (every estimator on shared terms) over the estimation window."""
     e = settings.estimation
     if e.window is None:
         raise VolbenchError("a rolling series needs a window in bars, not 'all'")
-    series: dict[str, RollingVol] = {}
-    unavailable: dict[str, str] = {}
-    for key in keys:
-        try:
-            series[key] = rolling_vol(history, key, e.window, annualization=e.annualization, **e.options)
-        except EstimatorUnavailable as exc:
-            unavailable[key] = exc.reason
+    report = rolling_all(history, e.window, keys=tuple(keys), annualization=e.annualization, **e.options)
+    series, unavailable = report.series, report.unavailable
     span = (history.dates[0], history.dates[-1]) if history.n else None
     return RollingSet(e.window, e.annualization, series, unavailable, span)
 
