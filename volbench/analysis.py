@@ -144,3 +144,42 @@ def comparison_for(history: PriceHistory, settings: Settings, *,
     return compare(history, o.pricing_vol, o.days, option=option_spec(o), annualization=settings.annualization,
                    window=o.window, sources=sources, cone_estimator=c.estimator, cone_windows=c.windows, cone=cone,
                    estimator_options=settings.estimation.options)
+
+
+def decision_for(history: PriceHistory, settings: Settings, comparison: Comparison | None = None, *,
+                 scaling: ScalingResult | str | None = None, cone: Cone | None = None):
+    """The decision record of ``settings.decision`` on this history
+    (:func:`volbench.pricing.decision.decision_record`).
+
+    The comparison, the scaling check and the cone already computed are used when given; a
+    requested part not given is computed here (a failure is recorded as not available).
+
+    Raises
+    ------
+    VolbenchError
+        No decision in the settings.
+    """
+    from volbench.pricing.decision import decision_record
+
+    if settings.decision is None:
+        raise VolbenchError("a decision record needs --decision-vol, --rationale or --prepared-by")
+    missing: dict[str, str] = {}
+    if comparison is None and settings.option is not None:
+        comparison = comparison_for(history, settings)
+    if scaling is None and settings.scaling is not None:
+        try:
+            scaling = scaling_for(history, settings)
+        except VolbenchError as exc:
+            scaling = str(exc)
+    if isinstance(scaling, str):
+        missing["scaling"] = scaling
+        scaling = None
+    if cone is None and settings.option is not None and settings.decision.vol is not None:
+        c = settings.cone or ConeSettings()
+        try:
+            cone = vol_cone(history, c.estimator, c.windows, annualization=settings.annualization)
+        except VolbenchError as exc:
+            missing["cone"] = str(exc)
+    verdicts = () if scaling is None else tuple(scaling.verdicts)
+    return decision_record(history.name, settings.decision, comparison, cone=cone, verdicts=verdicts,
+                           as_of=history.last_date, unavailable=missing)

@@ -265,6 +265,38 @@ class OptionSettings(_Group):
 
 
 @dataclass(frozen=True)
+class DecisionSettings(_Group):
+    """The decision an export documents: the vol chosen for pricing, why, and who prepared it.
+
+    Attributes
+    ----------
+    vol
+        The chosen annualized vol, a decimal below 5 (``None``: no vol chosen yet; the record
+        still carries the rationale and the preparer).
+    rationale, prepared_by
+        Free text: why this vol, and the person or desk that prepared the record.
+    """
+
+    vol: float | None = None
+    rationale: str = ""
+    prepared_by: str = ""
+
+    def __post_init__(self) -> None:
+        if self.vol is not None:
+            _set(self, "vol", validate.pricing_vol(self.vol, "decision vol"))
+        for name in ("rationale", "prepared_by"):
+            value = getattr(self, name)
+            if value is None:
+                value = ""
+            if not isinstance(value, str):
+                raise VolbenchError(f"{name.replace('_', ' ')} must be text, got {value!r}")
+            _set(self, name, value.strip())
+
+    def as_dict(self) -> dict:
+        return {"vol": self.vol, "rationale": self.rationale, "prepared_by": self.prepared_by}
+
+
+@dataclass(frozen=True)
 class Settings:
     """One run's settings: a group object per part, ``None`` for a part not requested.
 
@@ -276,6 +308,8 @@ class Settings:
     cone, scaling, garch, option
         The volatility cone, the scaling check, the GARCH-type fits and the option to compare;
         ``None`` when not requested.
+    decision
+        The decision record (chosen vol, rationale, preparer); ``None`` when none is made.
     created
         Time stamped on outputs (default: now, UTC).
     """
@@ -286,6 +320,7 @@ class Settings:
     scaling: ScalingSettings | None = field(default_factory=ScalingSettings)
     garch: GarchSettings | None = None
     option: OptionSettings | None = None
+    decision: DecisionSettings | None = None
     created: datetime | None = None
 
     def __post_init__(self) -> None:

@@ -67,7 +67,8 @@ def test_comparison_and_option_options(sample_dir, tmp_path):
     sheets = pd.read_excel(out, sheet_name=None, engine="openpyxl")
     comp = sheets["comparison"]
     assert set(comp["kind"]) == {"put"} and set(comp["strike"]) == {36} and set(comp["rate"]) == {0.03}
-    assert set(comp["as_of"]) == {"2024-06-28"} and set(sheets["estimates"]["as_of"]) == {"2024-06-28"}
+    day = pd.Timestamp("2024-06-28")  # dates are real dates in .xlsx
+    assert set(comp["as_of"]) == {day} and set(sheets["estimates"]["as_of"]) == {day}
     assert sheets["scaling"].iloc[0]["status"] == "not requested"
     inputs = sheets["inputs"]
     assert inputs[inputs["item"] == "pricing.option.kind"]["value"].item() == "put"

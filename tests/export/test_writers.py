@@ -17,7 +17,14 @@ import pandas as pd
 import pytest
 
 from volbench.errors import VolbenchError
-from volbench.export import SCHEMA_VERSION, write_csv, write_export, write_json, write_xlsx
+from volbench.export import (
+    SCHEMA_VERSION,
+    TABLE_ORDER,
+    write_csv,
+    write_export,
+    write_json,
+    write_xlsx,
+)
 from volbench.settings import OptionSettings
 
 
@@ -33,7 +40,7 @@ def _same(read: pd.DataFrame, mem: pd.DataFrame) -> None:
             assert np.array_equal(a, b, equal_nan=True), c
         else:
             a = ["" if pd.isna(x) else str(x) for x in m]
-            b = ["" if pd.isna(x) else str(x) for x in r]
+            b = ["" if pd.isna(x) else x.date().isoformat() if isinstance(x, pd.Timestamp) else str(x) for x in r]
             assert a == b, c
 
 
@@ -65,8 +72,8 @@ def test_xlsx_round_trip_every_sheet(tmp_path, full_bundle):
     b = full_bundle()
     path = write_xlsx(tmp_path / "sheet.xlsx", b)
     sheets = pd.read_excel(path, sheet_name=None, engine="openpyxl")
-    assert list(sheets) == ["estimates", "cone", "scaling", "scaling_summary", "garch", "comparison", "notes",
-                            "findings", "inputs"]
+    assert list(sheets) == list(TABLE_ORDER)  # every sheet, present or not (garch_term holds a note)
+    assert list(sheets["garch_term"].columns) == ["section", "status", "reason"]
     for name in b.names:
         if name == "inputs":  # mixed text/number column: compare as text below
             continue

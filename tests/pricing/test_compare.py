@@ -105,7 +105,8 @@ def test_reading_says_where_the_vol_sits_and_what_the_gap_is_worth(hist):
                             "interpolated between the 20- and 40-bar cone columns")
     gap = 25.0 - 100 * yz["vol"]
     assert c.reading[1] == (f"the pricing vol is {abs(gap):.1f} vol points {'above' if gap > 0 else 'below'} "
-                            f"Yang-Zhang ({100 * yz['vol']:.1f}% over the last 30 bars)")
+                            f"Yang-Zhang ({100 * yz['vol']:.1f}% over the last 30 bars; the reference estimator: the most "
+                            "efficient one here that uses every price of the bar and allows for opening jumps)")
     worth = "less" if yz["price_diff"] < 0 else "more"
     assert c.reading[2].startswith(f"the call is worth {abs(yz['price_diff']):.2f} {worth} at Yang-Zhang's vol")
     assert c.reading[3].startswith("candidate vols run from ")

@@ -77,6 +77,7 @@ def main(argv: list[str] | None = None) -> int:
     except VolbenchError as exc:  # a setting refused by volbench.validate (argparse ``type=``)
         print(f"volbench: {exc}", file=sys.stderr)
         return EXIT_BAD_INPUT
+    args.typed_argv = list(sys.argv[1:] if argv is None else argv)  # recorded as provenance
     try:
         return int(args.func(args) or 0)
     except VolbenchError as exc:

@@ -8,6 +8,7 @@ import sys
 from volbench.cli.common import add_file_options, load_from_args
 from volbench.cli.options import (
     add_cone,
+    add_decision,
     add_estimation,
     add_garch,
     add_option,
@@ -32,12 +33,16 @@ def register(sub) -> None:
     add_file_options(p)
     p.add_argument("--to", required=True, metavar="PATH",
                    help=f"output file; its suffix picks the format ({', '.join(FORMATS)})")
-    add_estimation(p, window="all", as_of="last date used by every table (default: last row of each file)")
-    add_option(p, required=False, title="pricing vol comparison (needs both --pricing-vol and --days)")
+    add_estimation(p, window="all", as_of="last date used by every table (default: last row of each file)",
+                   options=True)
+    add_option(p, required=False, title="pricing vol comparison (needs both --pricing-vol and --days)",
+               window=True, window_flag="--candidate-window")
     s = p.add_argument_group("sections")
-    add_cone(s)
-    add_garch(s, switch="--with-garch", help_switch="add GARCH, GJR and EGARCH fits (takes a few seconds per series)")
-    add_scaling(s, switch="--no-scaling")
+    add_cone(s, windows=True, date_range=True, hodges_tompkins=True, switch="--no-cone", prefix="cone-")
+    add_garch(s, full=True, switch="--with-garch", horizons_flag="--garch-horizons",
+              help_switch="add GARCH, GJR and EGARCH fits (takes a few seconds per series)")
+    add_scaling(s, full=True, switch="--no-scaling", horizons_flag="--scaling-horizons")
+    add_decision(p)
     p.add_argument("--force", action="store_true", help="replace the output file if it exists")
     p.set_defaults(func=run_export)
 
@@ -47,7 +52,7 @@ def run_export(args: argparse.Namespace) -> int:
     target = check_destination(args.to, overwrite=args.force)
     settings = settings_from_args(args)
     histories = load_from_args(args, settings)
-    bundle = build_bundle(histories, settings)
+    bundle = build_bundle(histories, settings, command=getattr(args, "typed_argv", None))
     path = write_export(target, bundle, overwrite=args.force)
     if fmt == ".csv":
         what = f"estimates table, {len(bundle.tables['estimates'])} rows"

@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 import math
 
-from volbench import analysis, validate
+from volbench import __version__, analysis, validate
 from volbench.cli.common import (
     add_file_options,
     add_format,
@@ -16,6 +16,7 @@ from volbench.cli.common import (
 )
 from volbench.cli.options import (
     add_cone,
+    add_decision,
     add_estimation,
     add_garch,
     add_option,
@@ -59,6 +60,7 @@ def register(sub) -> None:
     add_garch(m, switch="--with-garch")
     add_scaling(m, switch="--with-scaling")
     add_estimation(m)
+    add_decision(m)
     add_format(m)
     m.set_defaults(func=run_compare)
 
@@ -151,7 +153,14 @@ def run_compare(args: argparse.Namespace) -> int:
     history = _pick_series(load_from_args(args, settings), args.series)
     comp = analysis.comparison_for(history, settings)
     if args.format == "json":
-        print_json(with_import(comp.as_dict(), history))
+        from volbench import provenance
+
+        out = with_import(comp.as_dict(), history)
+        out["provenance"] = {"volbench_version": __version__, "settings": settings.as_dict(),
+                             **provenance.record(settings, [history], getattr(args, "typed_argv", None))}
+        if settings.decision is not None:
+            out["decision"] = analysis.decision_for(history, settings, comp).as_dict()
+        print_json(out)
         return 0
     h = history
     atm = " (at the money)" if math.isclose(comp.strike, comp.spot) else ""
@@ -192,6 +201,10 @@ def run_compare(args: argparse.Namespace) -> int:
         print(f"- {line}")
     for line in comp.caveats:
         print(f"note: {line}")
+    if settings.decision is not None:
+        print("\ndecision record:")
+        for line in analysis.decision_for(history, settings, comp).lines:
+            print(f"- {line}")
     print(f"\n{CAUTION}")
     return 0
 

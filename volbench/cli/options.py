@@ -17,6 +17,7 @@ from __future__ import annotations
 import argparse
 from collections.abc import Callable
 from dataclasses import dataclass
+from typing import ClassVar
 
 from volbench.data.options import DECIMALS, DELIMITER_NAMES, THOUSANDS, ImportOptions
 from volbench.data.quality import QualitySettings
@@ -25,6 +26,7 @@ from volbench.estimators import ESTIMATOR_KEYS
 from volbench.models.family import DIST_REGISTRY, MEANS, MODEL_REGISTRY
 from volbench.settings import (
     ConeSettings,
+    DecisionSettings,
     EstimationSettings,
     GarchSettings,
     OptionSettings,
@@ -38,6 +40,7 @@ from volbench.types import (
     DEFAULT_SEED,
     DEFAULT_SIMULATIONS,
     DEFAULT_TERM_HORIZONS,
+    EWMA_LAMBDA,
 )
 
 _GROUPS_ATTR = "_settings_groups"
@@ -86,6 +89,12 @@ def add_import(p: argparse.ArgumentParser) -> None:
                    help="leave out rows flagged by data-quality warnings (kept by default; the choice is reported)")
     g.add_argument("--gap-days", type=int, default=QualitySettings.gap_days, metavar="D",
                    help="report calendar gaps longer than D days (default %(default)s)")
+    g.add_argument("--stale-run", type=int, default=QualitySettings.stale_run, metavar="N",
+                   help="report N or more identical closes in a row as stale (default %(default)s)")
+    g.add_argument("--jump-z", type=float, default=QualitySettings.jump_z, metavar="Z",
+                   help="report a return whose robust z-score exceeds Z as a jump (default %(default)s)")
+    g.add_argument("--jump-min", type=float, default=QualitySettings.jump_min, metavar="R",
+                   help="...and whose absolute log return exceeds R (default %(default)s)")
     _register(p, "import_options")
 
 
@@ -93,14 +102,19 @@ def import_from_args(args: argparse.Namespace) -> ImportOptions:
     return ImportOptions(
         delimiter=args.delimiter, decimal=args.decimal, thousands=args.thousands,
         date_format=args.date_format, use_adjusted=args.adjusted, adjust_splits=args.adjust_splits,
-        exclude_flagged=args.exclude_flagged, quality=QualitySettings(gap_days=args.gap_days),
+        exclude_flagged=args.exclude_flagged,
+        quality=QualitySettings(gap_days=args.gap_days,
+                                stale_run=getattr(args, "stale_run", QualitySettings.stale_run),
+                                jump_z=getattr(args, "jump_z", QualitySettings.jump_z),
+                                jump_min=getattr(args, "jump_min", QualitySettings.jump_min)),
     )
 
 
 # ---------------------------------------------------------------------------- estimation
-def add_estimation(p: argparse.ArgumentParser, *, window: str | None = None, as_of: str | None = None) -> None:
+def add_estimation(p: argparse.ArgumentParser, *, window: str | None = None, as_of: str | None = None,
+                   options: bool = False) -> None:
     """``--annualization``; with ``window`` (its default, e.g. ``"all"``) ``--window``; with ``as_of``
-    (its help text) ``--as-of``."""
+    (its help text) ``--as-of``; with ``options`` ``--confidence``, ``--zero-mean`` and ``--ewma-lambda``."""
     p.add_argument("--annualization", default=DEFAULT_ANNUALIZATION, metavar="A",
                    help="bars per year used to annualize (default %(default)g; 365 for markets open every day)")
     if window is not None:
@@ -109,37 +123,53 @@ def add_estimation(p: argparse.ArgumentParser, *, window: str | None = None, as_
     if as_of is not None:
         p.add_argument("--as-of", metavar="YYYY-MM-DD|last", default=None,
                        help=as_of + "; a date outside a file's range is refused")
+    if options:
+        p.add_argument("--confidence", default="0.95", metavar="C",
+                       help="level of the estimators' intervals, between 0 and 1 (default %(default)s)")
+        p.add_argument("--zero-mean", action="store_true",
+                       help="close-to-close about zero instead of the sample mean")
+        p.add_argument("--ewma-lambda", dest="lam", default=str(EWMA_LAMBDA), metavar="L",
+                       help="EWMA decay, between 0 and 1 (default %(default)s)")
     _register(p, "estimation", window=window is not None)
 
 
 def estimation_from_args(args: argparse.Namespace, window: bool = False) -> EstimationSettings:
     return EstimationSettings(window=args.window if window else None, annualization=args.annualization,
-                              as_of=getattr(args, "as_of", None))
+                              as_of=getattr(args, "as_of", None), confidence=getattr(args, "confidence", 0.95),
+                              zero_mean=bool(getattr(args, "zero_mean", False)),
+                              lam=getattr(args, "lam", EWMA_LAMBDA))
 
 
 # ---------------------------------------------------------------------------- cone
 def add_cone(p: argparse.ArgumentParser, *, flag: str = "--cone-estimator", windows: bool = False,
-             date_range: bool = False, hodges_tompkins: bool = False, switch: str | None = None) -> None:
+             date_range: bool = False, hodges_tompkins: bool = False, switch: str | None = None,
+             prefix: str = "") -> None:
     """The cone's estimator (as ``flag``), optionally its windows, date range and Hodges-Tompkins
-    widening; ``switch`` names an on/off option (``--no-cone``) when the cone is optional."""
+    widening; ``switch`` names an on/off option (``--no-cone``) when the cone is optional; ``prefix``
+    (``"cone-"``) names the windows and dates ``--cone-windows``, ``--cone-start``, ``--cone-end``
+    where other groups take the plain names."""
     p.add_argument(flag, dest="cone_estimator", default="close_to_close", metavar="KEY",
                    help=f"estimator of the volatility cone (default close_to_close; one of: "
                         f"{', '.join(ESTIMATOR_KEYS)})")
     if windows:
-        p.add_argument("--windows", dest="cone_windows", default=",".join(map(str, DEFAULT_CONE_WINDOWS)),
+        p.add_argument(f"--{prefix}windows", dest="cone_windows", default=",".join(map(str, DEFAULT_CONE_WINDOWS)),
                        metavar="W,W,...", help="window lengths in bars (default %(default)s)")
     if date_range:
-        p.add_argument("--start", metavar="YYYY-MM-DD", default=None,
+        p.add_argument(f"--{prefix}start", dest="start", metavar="YYYY-MM-DD", default=None,
                        help="first date of the range (default: first row)")
-        p.add_argument("--end", metavar="YYYY-MM-DD", default=None,
+        p.add_argument(f"--{prefix}end", dest="end", metavar="YYYY-MM-DD", default=None,
                        help="last date of the range (default: last row); a date outside the file's range is refused")
     if hodges_tompkins:
         p.add_argument("--hodges-tompkins", action="store_true",
                        help="widen each column's spread for overlapping windows (Hodges & Tompkins 2002)")
-    _register(p, "cone")
+    if switch is not None:
+        p.add_argument(switch, dest="cone_on", action="store_false", help="leave out the volatility cone")
+    _register(p, "cone", **({"switch": True} if switch is not None else {}))
 
 
-def cone_from_args(args: argparse.Namespace) -> ConeSettings:
+def cone_from_args(args: argparse.Namespace, switch: bool = False) -> ConeSettings | None:
+    if switch and not args.cone_on:
+        return None
     windows = getattr(args, "cone_windows", None)
     return ConeSettings(
         estimator=args.cone_estimator,
@@ -149,13 +179,14 @@ def cone_from_args(args: argparse.Namespace) -> ConeSettings:
 
 
 # ---------------------------------------------------------------------------- scaling
-def add_scaling(p: argparse.ArgumentParser, *, full: bool = False, switch: str | None = None) -> None:
-    """The scaling check: ``full`` adds ``--horizons`` and ``--alpha``; ``switch`` is ``"--with-scaling"``
-    (off unless given) or ``"--no-scaling"`` (on unless given)."""
+def add_scaling(p: argparse.ArgumentParser, *, full: bool = False, switch: str | None = None,
+                horizons_flag: str = "--horizons") -> None:
+    """The scaling check: ``full`` adds ``--horizons`` (named ``horizons_flag``) and ``--alpha``;
+    ``switch`` is ``"--with-scaling"`` (off unless given) or ``"--no-scaling"`` (on unless given)."""
     if full:
         from volbench.scaling.check import DEFAULT_HORIZONS
 
-        p.add_argument("--horizons", dest="scaling_horizons", default=",".join(str(h) for h in DEFAULT_HORIZONS),
+        p.add_argument(horizons_flag, dest="scaling_horizons", default=",".join(str(h) for h in DEFAULT_HORIZONS),
                        metavar="H,H,...", help="horizons in bars (default %(default)s; 1 is always included as the base)")
         p.add_argument("--alpha", default="0.05", metavar="P",
                        help="significance level of the verdicts, between 0 and 0.5 (default %(default)s)")
@@ -176,9 +207,11 @@ def scaling_from_args(args: argparse.Namespace, switch: bool = False) -> Scaling
 
 # ---------------------------------------------------------------------------- GARCH
 def add_garch(p: argparse.ArgumentParser, *, full: bool = False, switch: str | None = None,
-              help_switch: str = "add GARCH-family forward vols for the option's life") -> None:
-    """GARCH-type fits: ``full`` adds every model option (--model, --dist, --mean, --horizons, --seed,
-    --simulations); ``switch`` (``--with-garch``) makes the fits optional."""
+              help_switch: str = "add GARCH-family forward vols for the option's life",
+              horizons_flag: str = "--horizons") -> None:
+    """GARCH-type fits: ``full`` adds every model option (--model, --dist, --mean, --horizons (named
+    ``horizons_flag``), --seed, --simulations, --max-iterations); ``switch`` (``--with-garch``) makes
+    the fits optional."""
     if full:
         keys = "|".join([*MODEL_REGISTRY, "all"])
         p.add_argument("--model", default="all", metavar=keys,
@@ -187,13 +220,15 @@ def add_garch(p: argparse.ArgumentParser, *, full: bool = False, switch: str | N
                        help="innovation distribution: normal or Student-t (default normal)")
         p.add_argument("--mean", default="constant", metavar="|".join(MEANS),
                        help="mean return: constant (estimated) or zero (default constant)")
-        p.add_argument("--horizons", dest="garch_horizons", default=",".join(map(str, DEFAULT_TERM_HORIZONS)),
+        p.add_argument(horizons_flag, dest="garch_horizons", default=",".join(map(str, DEFAULT_TERM_HORIZONS)),
                        metavar="LIST", help="option lives in bars for the forward vol, comma separated "
                                             "(default %(default)s)")
         p.add_argument("--seed", type=int, default=DEFAULT_SEED, metavar="N",
                        help="seed of the simulated (EGARCH) forecast (default %(default)s)")
         p.add_argument("--simulations", type=int, default=DEFAULT_SIMULATIONS, metavar="N",
                        help="paths of the simulated (EGARCH) forecast (default %(default)s)")
+        p.add_argument("--max-iterations", type=int, default=None, metavar="N",
+                       help="optimizer iteration cap (default: the library's)")
     if switch is not None:
         p.add_argument(switch, dest="garch_on", action="store_true", help=help_switch)
     _register(p, "garch", switch=switch is not None)
@@ -203,11 +238,15 @@ def garch_from_args(args: argparse.Namespace, switch: bool = False) -> GarchSett
     if switch and not args.garch_on:
         return None
     horizons = getattr(args, "garch_horizons", None)
+    models = getattr(args, "model", "all")
+    if isinstance(models, str) and "," in models:
+        models = tuple(m.strip() for m in models.split(",") if m.strip())
     return GarchSettings(
-        models=getattr(args, "model", "all"), dist=getattr(args, "dist", "normal"),
+        models=models, dist=getattr(args, "dist", "normal"),
         mean=getattr(args, "mean", "constant"),
         horizons=DEFAULT_TERM_HORIZONS if horizons is None else tuple(int_list(horizons, "horizons")),
-        seed=getattr(args, "seed", DEFAULT_SEED), simulations=getattr(args, "simulations", DEFAULT_SIMULATIONS))
+        seed=getattr(args, "seed", DEFAULT_SEED), simulations=getattr(args, "simulations", DEFAULT_SIMULATIONS),
+        max_iterations=getattr(args, "max_iterations", None))
 
 
 # ---------------------------------------------------------------------------- the option
@@ -215,9 +254,10 @@ OPTION_ARGS = ("strike", "spot", "rate", "dividend_yield", "kind")
 
 
 def add_option(p: argparse.ArgumentParser, *, required: bool = True, window: bool = False,
-               title: str | None = None) -> None:
+               title: str | None = None, window_flag: str = "--window") -> None:
     """The option and the proposed vol: --pricing-vol and --days (``required``, or both-or-neither),
-    --strike, --spot, --rate, --dividend-yield, --type; with ``window`` the candidates' --window."""
+    --strike, --spot, --rate, --dividend-yield, --type; with ``window`` the candidates' window
+    (named ``window_flag``)."""
     g = p.add_argument_group(title) if title else p
     g.add_argument("--pricing-vol", required=required, default=None, metavar="V",
                    help="proposed annualized vol as a decimal below 5, e.g. 0.25")
@@ -231,7 +271,7 @@ def add_option(p: argparse.ArgumentParser, *, required: bool = True, window: boo
                    help="dividend yield, continuously compounded, as a decimal (default 0)")
     g.add_argument("--type", dest="kind", choices=["call", "put"], default=None, help="option type (default call)")
     if window:
-        g.add_argument("--window", dest="option_window", default=None, metavar="N",
+        g.add_argument(window_flag, dest="option_window", default=None, metavar="N",
                        help="bars behind each estimator's candidate vol (default: --days, the option's life)")
     _register(p, "option", required=required)
 
@@ -254,27 +294,129 @@ def option_from_args(args: argparse.Namespace, required: bool = True) -> OptionS
         kind=args.kind or "call", window=getattr(args, "option_window", None))
 
 
+# ---------------------------------------------------------------------------- the decision record
+def add_decision(p: argparse.ArgumentParser, *, title: str | None = "decision record") -> None:
+    """The decision an output documents: --decision-vol, --rationale, --prepared-by."""
+    g = p.add_argument_group(title) if title else p
+    g.add_argument("--decision-vol", default=None, metavar="V",
+                   help="the vol chosen for pricing, a decimal below 5 (recorded with its gap to every candidate)")
+    g.add_argument("--rationale", default=None, metavar="TEXT", help="why this vol (recorded as written)")
+    g.add_argument("--prepared-by", default=None, metavar="TEXT", help="who prepared the record")
+    _register(p, "decision")
+
+
+def decision_from_args(args: argparse.Namespace) -> DecisionSettings | None:
+    vol, why, who = args.decision_vol, args.rationale, args.prepared_by
+    if vol is None and not why and not who:
+        return None
+    return DecisionSettings(vol=vol, rationale=why or "", prepared_by=who or "")
+
+
+# ---------------------------------------------------------------------------- the equivalent command
+# The export command's flags for every setting of a group (``volbench export`` is the one command
+# that takes them all): the window writes the command it is equivalent to, ``volbench replay``
+# runs it again. Every value is written out, defaults included, so the record never says "default".
+def _num(v) -> str:
+    return repr(float(v)) if isinstance(v, float) else str(v)
+
+
+def _ints(values) -> str:
+    return ",".join(str(int(v)) for v in values)
+
+
+def import_argv(o: ImportOptions) -> list[str]:
+    out: list[str] = []
+    if o.delimiter is not None:
+        out += ["--delimiter", "tab" if o.delimiter == "\t" else o.delimiter]
+    for flag, value in (("--decimal", o.decimal), ("--thousands", o.thousands), ("--date-format", o.date_format)):
+        if value is not None:
+            out += [flag, str(value)]
+    for flag, on in (("--adjusted", o.use_adjusted), ("--adjust-splits", o.adjust_splits),
+                     ("--exclude-flagged", o.exclude_flagged)):
+        out += [flag] if on else []
+    q = o.quality
+    return out + ["--gap-days", _num(q.gap_days), "--stale-run", _num(q.stale_run), "--jump-z", _num(q.jump_z),
+                  "--jump-min", _num(q.jump_min)]
+
+
+def estimation_argv(e: EstimationSettings) -> list[str]:
+    out = ["--annualization", _num(e.annualization), "--window", "all" if e.window is None else str(e.window)]
+    if e.as_of is not None:
+        out += ["--as-of", e.as_of]
+    out += ["--confidence", _num(e.confidence), "--ewma-lambda", _num(e.lam)]
+    return out + (["--zero-mean"] if e.zero_mean else [])
+
+
+def cone_argv(c: ConeSettings | None) -> list[str]:
+    if c is None:
+        return ["--no-cone"]
+    out = ["--cone-estimator", c.estimator, "--cone-windows", _ints(c.windows)]
+    out += ["--hodges-tompkins"] if c.hodges_tompkins else []
+    for flag, value in (("--cone-start", c.start), ("--cone-end", c.end)):
+        out += [flag, value] if value is not None else []
+    return out
+
+
+def scaling_argv(s: ScalingSettings | None) -> list[str]:
+    if s is None:
+        return ["--no-scaling"]
+    return ["--scaling-horizons", _ints(s.horizons), "--alpha", _num(s.alpha)]
+
+
+def garch_argv(g: GarchSettings | None) -> list[str]:
+    if g is None:
+        return []
+    models = "all" if tuple(g.models) == tuple(MODEL_REGISTRY) else ",".join(g.models)
+    out = ["--with-garch", "--model", models, "--dist", g.dist, "--mean", g.mean,
+           "--garch-horizons", _ints(g.horizons), "--seed", str(g.seed), "--simulations", str(g.simulations)]
+    return out + (["--max-iterations", str(g.max_iterations)] if g.max_iterations is not None else [])
+
+
+def option_argv(o: OptionSettings | None) -> list[str]:
+    if o is None:
+        return []
+    out = ["--pricing-vol", _num(o.pricing_vol), "--days", str(o.days)]
+    for flag, value in (("--strike", o.strike), ("--spot", o.spot)):
+        out += [flag, _num(value)] if value is not None else []
+    out += ["--rate", _num(o.rate), "--dividend-yield", _num(o.dividend_yield), "--type", o.kind]
+    return out + (["--candidate-window", str(o.window)] if o.window is not None else [])
+
+
+def decision_argv(d: DecisionSettings | None) -> list[str]:
+    if d is None:
+        return []
+    out = ["--decision-vol", _num(d.vol)] if d.vol is not None else []
+    out += ["--rationale", d.rationale] if d.rationale else []
+    return out + (["--prepared-by", d.prepared_by] if d.prepared_by else [])
+
+
 # ---------------------------------------------------------------------------- the groups
 @dataclass(frozen=True)
 class OptionGroup:
     """A settings group on the command line: the :class:`Settings` field it fills, the helper
-    that adds its options to a parser, the one that builds its object from the arguments, and
-    whether every data command takes it (added by ``add_file_options``)."""
+    that adds its options to a parser, the one that builds its object from the arguments,
+    whether every data command takes it (added by ``add_file_options``), and ``argv``: the
+    export command's flags for a group object (the equivalent command a replay runs)."""
 
     field: str
     add: Callable[..., None]
     build: Callable[..., object]
     every: bool = False
+    argv: Callable[..., list[str]] | None = None
+
+    NOT_ON_EXPORT: ClassVar[frozenset[str]] = frozenset({"garch.processes"})
+    """Settings that change how the work is spread, never a number: not recorded as flags."""
 
 
 GROUPS: dict[str, OptionGroup] = {
     g.field: g for g in (
-        OptionGroup("import_options", add_import, import_from_args, every=True),
-        OptionGroup("estimation", add_estimation, estimation_from_args),
-        OptionGroup("cone", add_cone, cone_from_args),
-        OptionGroup("scaling", add_scaling, scaling_from_args),
-        OptionGroup("garch", add_garch, garch_from_args),
-        OptionGroup("option", add_option, option_from_args),
+        OptionGroup("import_options", add_import, import_from_args, every=True, argv=import_argv),
+        OptionGroup("estimation", add_estimation, estimation_from_args, argv=estimation_argv),
+        OptionGroup("cone", add_cone, cone_from_args, argv=cone_argv),
+        OptionGroup("scaling", add_scaling, scaling_from_args, argv=scaling_argv),
+        OptionGroup("garch", add_garch, garch_from_args, argv=garch_argv),
+        OptionGroup("option", add_option, option_from_args, argv=option_argv),
+        OptionGroup("decision", add_decision, decision_from_args, argv=decision_argv),
     )
 }
 """Every settings group the command line knows, by :class:`Settings` field."""
@@ -299,3 +441,15 @@ def settings_from_args(args: argparse.Namespace) -> Settings:
     for name, config in registered.items():  # in the order the command added them
         built[name] = GROUPS[name].build(args, **config)
     return Settings(**built)
+
+
+def export_argv(settings: Settings, files) -> list[str]:
+    """The ``volbench export`` arguments (after ``export``) that rebuild ``settings`` on ``files``
+    (absolute paths): every group's flags, every value written out. ``--to`` is left to the caller."""
+    out = [str(f) for f in files]
+    for name in group_types():
+        group = GROUPS.get(name)
+        if group is None or group.argv is None:
+            raise VolbenchError(f"settings group {name!r} has no export flags (add its argv to GROUPS)")
+        out += group.argv(getattr(settings, name))
+    return out

@@ -17,8 +17,10 @@ from typing import Any
 import pandas as pd
 
 from volbench import __version__, analysis, validate
+from volbench import provenance as prov
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
+from volbench.export import layout
 from volbench.export import sections as sec
 from volbench.export.schema import (
     ESTIMATES_PERCENT,
@@ -29,11 +31,11 @@ from volbench.export.schema import (
 from volbench.export.sections import SectionStatus
 from volbench.settings import Settings
 
-SECTIONS: tuple[str, ...] = ("estimates", "cone", "scaling", "garch", "comparison")
+SECTIONS: tuple[str, ...] = ("estimates", "cone", "scaling", "garch", "comparison", "decision")
 """Sections in export order; each always has a sheet in an XLSX file."""
 
 TABLE_ORDER: tuple[str, ...] = (
-    "estimates", "cone", "scaling", "scaling_summary", "garch", "garch_term", "comparison", "notes",
+    "estimates", "cone", "scaling", "scaling_summary", "garch", "garch_term", "comparison", "decision", "notes",
     "findings", "inputs",
 )
 """Every table a bundle can hold, in the order writers lay them out."""
@@ -88,6 +90,7 @@ def build_bundle(
     *,
     given: Mapping[str, Mapping[str, Any]] | None = None,
     progress: Callable[[int, int, str], None] | None = None,
+    command: Sequence[str] | None = None,
 ) -> ExportBundle:
     """Collect estimates, cone, scaling check, GARCH, comparison and provenance for an export.
 
@@ -107,6 +110,10 @@ def build_bundle(
         sections cone, scaling, garch, comparison; used instead of recomputing.
     progress
         ``progress(done, total, section)`` after each section.
+    command
+        The command line as typed (arguments after ``volbench``), recorded beside the equivalent
+        export command built from ``settings`` (:func:`volbench.provenance.command_record`);
+        ``None`` from the window.
 
     Returns
     -------
@@ -169,6 +176,9 @@ def build_bundle(
     else:
         built["comparison"] = sec.not_requested("give --pricing-vol and --days")
     step(5, "comparison")
+    built["decision"] = (sec.decision_section(cut, settings, built) if settings.decision is not None
+                         else sec.not_requested("give --decision-vol, --rationale or --prepared-by"))
+    step(6, "decision")
 
     statuses = {name: built[name].status for name in SECTIONS}
     provenance = {
@@ -177,6 +187,7 @@ def build_bundle(
         "series": [_series_provenance(src, rep) for src, rep in zip(histories, reports)],
         "sections": {k: v.text for k, v in statuses.items()},
         "note": DISCLAIMER,
+        **prov.record(settings, histories, command),
     }
     tables: dict[str, pd.DataFrame] = {}
     percent: dict[str, tuple[str, ...]] = {}
@@ -188,7 +199,7 @@ def build_bundle(
     tables["notes"] = pd.DataFrame(notes, columns=list(sec.NOTE_COLUMNS))
     tables["findings"] = findings_table(histories)
     tables["inputs"] = inputs_table(provenance)
-    ordered = {k: tables[k] for k in TABLE_ORDER if k in tables}
+    ordered = {k: layout.conform(k, tables[k]) for k in TABLE_ORDER if k in tables}
     return ExportBundle(
         tables=MappingProxyType(ordered), provenance=MappingProxyType(provenance),
         sections=MappingProxyType(statuses),
@@ -246,6 +257,7 @@ def inputs_table(provenance: Mapping[str, Any]) -> pd.DataFrame:
     ]
     for path, value in _flatten(provenance["settings"]):
         rows.append(("setting", "", path, value))
+    rows += _provenance_rows(provenance)
     for p in provenance["series"]:
         for k in ("source_file", "source", "sha256", "price_basis", "rows", "first_date", "last_date",
                   "as_of", "rows_up_to_as_of", "flagged_rows", "excluded_lines", "findings", "adjustments"):
@@ -272,3 +284,31 @@ def _flatten(d: Mapping, prefix: str = "") -> list[tuple[str, Any]]:
         else:
             out.append((key, "" if v is None else v))
     return out
+
+
+def _provenance_rows(provenance: Mapping[str, Any]) -> list[tuple[str, str, str, Any]]:
+    """Environment, command, sources and every effective setting (when the record holds them)."""
+    import json
+
+    rows: list[tuple[str, str, str, Any]] = []
+    if "environment" in provenance:
+        env = dict(provenance["environment"])
+        blas = env.pop("blas", [])
+        for path, value in _flatten(env):
+            rows.append(("environment", "", path, value))
+        for i, lib in enumerate(blas):
+            rows.append(("environment", "", f"blas[{i}]",
+                         f"{lib['library']} {lib['version']} ({lib['api']}, {lib['threads']} threads, {lib['file']})"))
+    if "command" in provenance:
+        c = provenance["command"]
+        rows += [("command", "", "typed", c["typed_text"] or "(from the window)"),
+                 ("command", "", "equivalent", c["equivalent_text"]),
+                 ("command", "", "equivalent_argv (JSON)", json.dumps(c["equivalent_argv"])),
+                 ("command", "", "working directory", c["working_directory"]),
+                 ("command", "", "executable", c["executable"])]
+    for src in provenance.get("sources", ()):
+        rows.append(("source", src["series"], "absolute_path", src["path"] or ""))
+        rows.append(("source", src["series"], "size_bytes", "" if src["size"] is None else src["size"]))
+    for path, value in provenance.get("effective_settings", {}).items():
+        rows.append(("effective setting", "", path, value))
+    return rows

@@ -319,3 +319,26 @@ def comparison_section(histories: Sequence[PriceHistory], settings: Settings,
         table["days"] = table["days"].astype("Int64")
     return _finish("comparison", results, failed, {"comparison": table},
                    {"comparison": ("pricing_vol", "rate", "dividend_yield", "vol", "ci_low", "ci_high")}, notes)
+
+
+# ---------------------------------------------------------------------------------- decision
+def decision_section(histories: Sequence[PriceHistory], settings: Settings,
+                     built: Mapping[str, SectionResult]) -> SectionResult:
+    """The decision record per series (:func:`volbench.analysis.decision_for`): the chosen vol
+    against every candidate with its interval, its cone percentile, the scaling verdicts that bear
+    on it, the rationale, who prepared it and the caution; uses the comparison and scaling check
+    already built."""
+    from volbench.pricing.decision import DECISION_COLUMNS
+
+    def compute(h: PriceHistory):
+        comp = built["comparison"].results.get(h.name) if "comparison" in built else None
+        scaling = built["scaling"].outcome(h.name) if "scaling" in built else None
+        return analysis.decision_for(h, settings, comp, scaling=scaling)
+
+    results, failed = _run("decision", histories, compute, None)
+    table = _concat([r.table() for r in results.values()])
+    if table is not None:
+        table = table[list(DECISION_COLUMNS)]
+    notes = [_note("decision", name, "reading", t) for name, r in results.items() for t in r.lines]
+    return _finish("decision", results, failed, {"decision": table},
+                   {"decision": ("decision_vol", "vol", "ci_low", "ci_high")}, notes)

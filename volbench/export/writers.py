@@ -8,9 +8,11 @@ that is not available saying why; JSON holds every table as records plus the pro
 from __future__ import annotations
 
 import csv
+import datetime
 import io
 import json
 import os
+import re
 from collections.abc import Callable
 from pathlib import Path
 from typing import BinaryIO
@@ -19,8 +21,9 @@ import pandas as pd
 
 from volbench import __version__
 from volbench.errors import VolbenchError
+from volbench.export import layout
 from volbench.export.atomic import atomic_write
-from volbench.export.bundle import SECTIONS, TABLE_ORDER, ExportBundle
+from volbench.export.bundle import TABLE_ORDER, ExportBundle
 from volbench.export.safety import escape_controls, neutralise
 from volbench.export.schema import SCHEMA_VERSION
 from volbench.export.tsv import cell_value
@@ -29,6 +32,8 @@ FORMATS: tuple[str, ...] = (".csv", ".json", ".xlsx")
 """File suffixes :func:`write_export` understands."""
 
 PERCENT_FORMAT = "0.00%"
+DATE_FORMAT = "yyyy-mm-dd"
+_ISO_DATE = re.compile(r"\d{4}-\d{2}-\d{2}")
 _MAX_WIDTH = 60
 
 
@@ -148,8 +153,7 @@ def _xlsx_payload(bundle: ExportBundle) -> Callable[[BinaryIO], None]:
             if name in bundle.tables:
                 df = bundle.tables[name]
             else:
-                df = pd.DataFrame({"section": [name], "status": [bundle.sections[name].status],
-                                   "reason": [bundle.sections[name].reason]})
+                df = _missing_sheet(bundle, name)
             _fill_sheet(ws, df, bundle.percent_columns.get(name, ()), bold)
         wb.properties.creator = f"volbench {__version__}"
         wb.properties.title = "volbench export"
@@ -161,8 +165,23 @@ def _xlsx_payload(bundle: ExportBundle) -> Callable[[BinaryIO], None]:
 
 
 def _sheet_order(bundle: ExportBundle) -> list[str]:
-    """Tables in :data:`TABLE_ORDER`; a missing section keeps its sheet (holding a note)."""
-    return [n for n in TABLE_ORDER if n in bundle.tables or n in SECTIONS]
+    """Every table of :data:`TABLE_ORDER` (one not in the export keeps its sheet, holding a note),
+    then any other table of the bundle."""
+    return list(TABLE_ORDER) + [n for n in bundle.tables if n not in TABLE_ORDER]
+
+
+def _missing_sheet(bundle: ExportBundle, name: str) -> pd.DataFrame:
+    """One row ``section, status, reason`` for a table that is not in the export."""
+    section = layout.SECTION_OF.get(name, name)
+    status = bundle.sections.get(section)
+    if status is None:
+        what, why = "not available", "not produced by this export"
+    elif status.status in ("included", "partial"):
+        what, why = "not available", f"the {section} section produced no {name} rows"
+    else:
+        what, why = status.status, status.reason
+    return pd.DataFrame({"section": [section], "status": [what], "reason": [why]},
+                        columns=list(layout.NOTE_SHEET_COLUMNS))
 
 
 def _fill_sheet(ws, df: pd.DataFrame, percent: tuple[str, ...], bold) -> None:
@@ -173,6 +192,7 @@ def _fill_sheet(ws, df: pd.DataFrame, percent: tuple[str, ...], bold) -> None:
     for cell in ws[1]:
         cell.font = bold
     pct = {j for j, col in enumerate(headers, start=1) if col in percent}
+    dates = {j for j, col in enumerate(headers, start=1) if col in layout.DATE_COLUMNS}
     for i, row in enumerate(df.itertuples(index=False, name=None), start=2):
         for j, raw in enumerate(row, start=1):
             v = cell_value(raw)
@@ -184,6 +204,9 @@ def _fill_sheet(ws, df: pd.DataFrame, percent: tuple[str, ...], bold) -> None:
                 # bit of a double; the shortest round-trip text, marked numeric, is stored as is.
                 cell.value = repr(v)
                 cell.data_type = "n"
+            elif j in dates and isinstance(v, str) and _ISO_DATE.fullmatch(v):
+                cell.value = datetime.date.fromisoformat(v)  # a real date (a number to the spreadsheet)
+                cell.number_format = DATE_FORMAT
             elif isinstance(v, str):
                 # always a string cell: text from the user's files is never stored as a formula
                 cell.value = escape_controls(v)

@@ -36,6 +36,7 @@ from volbench.models.checks import (
 )
 from volbench.models.family import DIST_REGISTRY, MODEL_REGISTRY, ModelSpec
 from volbench.settings import GarchSettings
+from volbench.threads import single_threaded
 from volbench.types import DEFAULT_ANNUALIZATION, DEFAULT_TERM_HORIZONS, check_annualization
 
 MIN_RETURNS = 250
@@ -265,6 +266,7 @@ def candidate_set(fits, preferred: str | None, days: int) -> CandidateSet:
 
 
 # ---------------------------------------------------------------------------------- fitting
+@single_threaded
 def fit_garch(
     history: PriceHistory,
     model: str = "garch",

@@ -35,6 +35,13 @@ from volbench.types import (
 REFERENCE_ESTIMATORS = ("yang_zhang", "close_to_close")
 """Estimator the reading compares against first: the most efficient one available, else close-to-close."""
 
+REFERENCE_WHY = {
+    "yang_zhang": "the reference estimator: the most efficient one here that uses every price of the bar "
+                  "and allows for opening jumps",
+    "close_to_close": "the reference estimator: Yang-Zhang needs open, high and low, which this file lacks",
+}
+"""Why the reading measures the gap against each reference estimator (said in the reading)."""
+
 FAR_MONEYNESS = (0.2, 5.0)
 """Strike/spot outside this range draws a units check in the reading (common practice, no source)."""
 
@@ -312,7 +319,7 @@ def compare(
         comp = replace(comp, promises=promises_for(comp, history))
     except VolbenchError as exc:
         comp = replace(comp, unavailable={**comp.unavailable, "bands": str(exc)})
-    return _with_reading(comp, [cs for cs in sets[1:] if cs.headline is not None])
+    return _with_reading(comp, [cs for cs in sets[1:] if cs.headline is not None], sources)
 
 
 def _row(c: Candidate, default_note: str) -> dict:
@@ -339,11 +346,13 @@ def _reference_lines(c: Comparison, cand: pd.DataFrame) -> list[str]:
     ref = next((cand[cand["key"] == k].iloc[0] for k in REFERENCE_ESTIMATORS if (cand["key"] == k).any()),
                cand.iloc[0])
     name, rv = ref["label"], pct(ref["vol"], 1)
+    why = REFERENCE_WHY.get(ref["key"], "the first candidate, as neither Yang-Zhang nor close-to-close is available")
     gap = -float(ref["gap_points"])
     if abs(gap) < 0.05:
-        return [f"the pricing vol matches {name} ({rv}) within 0.1 vol point"]
+        return [f"the pricing vol matches {name} ({rv}; {why}) within 0.1 vol point"]
     span = f" over the last {c.window} bars" if ref["source"] == "estimator" else ""
-    lines = [f"the pricing vol is {points(abs(gap))} vol points {'above' if gap > 0 else 'below'} {name} ({rv}{span})"]
+    lines = [(f"the pricing vol is {points(abs(gap))} vol points {'above' if gap > 0 else 'below'} {name} "
+             f"({rv}{span}; {why})")]
     if float(c.table["price"].max()) < 0.005:
         lines.append(f"the {c.kind} is worth under 0.01 at every vol here, so the choice of vol barely moves its price")
     else:
@@ -354,15 +363,29 @@ def _reference_lines(c: Comparison, cand: pd.DataFrame) -> list[str]:
     return lines
 
 
+def distinct_candidates(cand: pd.DataFrame) -> pd.DataFrame:
+    """The candidates with a number repeated by a later one (a fallback giving another candidate's
+    vol, e.g. a GARCH fit falling back to EWMA) counted once: later exact repeats are dropped."""
+    vols = cand["vol"].to_numpy(dtype=float)
+    keep = [i for i in range(len(vols)) if not any(abs(vols[i] - vols[j]) <= 1e-12 * max(1.0, abs(vols[j]))
+                                                   for j in range(i))]
+    return cand.iloc[keep]
+
+
 def _range_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
     lo, hi = cand.loc[cand["vol"].idxmin()], cand.loc[cand["vol"].idxmax()]
+    repeated = len(cand) - len(distinct := distinct_candidates(cand))
+    cand = distinct
     n_below = int((cand["vol"] < c.pricing_vol).sum())
+    of = f"{len(cand)} distinct vols" if repeated else f"{len(cand)}"
     if n_below == len(cand):
-        pos = f"the pricing vol is above all {len(cand)} of them"
+        pos = f"the pricing vol is above all {of}" + ("" if repeated else " of them")
     elif n_below == 0:
-        pos = f"the pricing vol is below all {len(cand)} of them"
+        pos = f"the pricing vol is below all {of}" + ("" if repeated else " of them")
     else:
-        pos = f"the pricing vol is above {n_below} of {len(cand)}"
+        pos = f"the pricing vol is above {n_below} of {of}"
+    if repeated:
+        pos += f" ({repeated} repeating another candidate's number, such as a fallback, counted once)"
     return [(f"candidate vols run from {pct(lo['vol'], 1)} ({lo['label']}) to "
             f"{pct(hi['vol'], 1)} ({hi['label']}); {pos}")]
 
@@ -386,11 +409,23 @@ def _moneyness_line(c: Comparison) -> list[str]:
     return [f"strike {c.strike:g} is {100 * m:.3g}% of spot {c.spot:g}; check that both are in the same units"]
 
 
-def _with_reading(c: Comparison, headlined: Sequence[CandidateSet] = ()) -> Comparison:
+def _verdict_lines(sources: Sequence[CandidateSource]) -> list[str]:
+    """Rejected scaling verdicts (any source with ``verdicts``): they bear on every candidate."""
+    lines = []
+    for src in sources:
+        for v in getattr(src, "verdicts", ()) or ():
+            if getattr(v, "status", None) == "rejected":
+                lines.append(f"the scaling check rejects {v.property.replace('_', ' ')}: {v.message}")
+    return lines
+
+
+def _with_reading(c: Comparison, headlined: Sequence[CandidateSet] = (),
+                  sources: Sequence[CandidateSource] = ()) -> Comparison:
     cand = c.candidates
     lines = _moneyness_line(c) + _cone_line(c)
     if len(cand):
         lines += _reference_lines(c, cand) + _range_line(c, cand)
         for cs in headlined:
             lines += _headline_line(c, cs)
+    lines += _verdict_lines(sources)
     return replace(c, reading=tuple(lines))
