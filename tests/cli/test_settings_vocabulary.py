@@ -62,7 +62,7 @@ def _variant(cls, group: str, names: tuple[str, ...]):
             else:
                 inner = dataclasses.replace(getattr(default, names[0]), **{names[1]: sample})
                 obj = cls(**{**base, names[0]: inner})
-        except Exception:  # noqa: BLE001 - not a value this field accepts; try the next
+        except Exception:  # noqa: BLE001, S112 - not a value this field accepts; try the next
             continue
         if obj != default:
             return obj
