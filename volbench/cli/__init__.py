@@ -36,12 +36,13 @@ def command_modules() -> tuple[ModuleType, ...]:
         cmd_implied,
         cmd_pricing,
         cmd_realized,
+        cmd_replay,
         cmd_scaling,
         cmd_survey,
     )
 
     return (cmd_estimate, cmd_export, cmd_garch, cmd_gui, cmd_hindsight, cmd_implied, cmd_pricing, cmd_realized,
-            cmd_scaling, cmd_survey)
+            cmd_replay, cmd_scaling, cmd_survey)
 
 
 def build_parser() -> argparse.ArgumentParser:
