@@ -13,6 +13,7 @@ differences: they say where the numbers were made, not what they are.
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import math
 import os
@@ -244,10 +245,11 @@ def replay(path: str | os.PathLike, sources: Sequence[str | os.PathLike] = ()) -
         except SystemExit:
             raise VolbenchError(f"{path}: the recorded command is not one this volbench accepts: "
                                 f"{' '.join(argv)[:200]}") from None
-        created = datetime.fromisoformat(rec.created.replace("Z", "+00:00"))
-        settings = settings_from_args(args)
-        settings = type(settings)(**{**{f: getattr(settings, f) for f in settings.__dataclass_fields__},
-                                     "created": created})
+        try:
+            created = datetime.fromisoformat(rec.created)
+        except ValueError:
+            raise VolbenchError(f"{path}: the recorded creation time {rec.created!r} is not an ISO time") from None
+        settings = dataclasses.replace(settings_from_args(args), created=created)
         histories = load_many(files, settings.import_options)
         changes = []
         recorded_hash = {s["series"]: s.get("sha256") for s in rec.sources}
