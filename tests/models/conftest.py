@@ -9,6 +9,17 @@ from arch import arch_model
 from arch.univariate import Normal, StudentsT
 
 from volbench.data.history import PriceHistory
+from volbench.threads import FIT_THREADS
+
+
+@pytest.fixture(autouse=True)
+def _reference_fits_on_fit_threads():
+    """Reference ``arch`` fits in these tests run on the BLAS threads volbench's fits use
+    (volbench.threads), so an optimizer compared at 1e-8 starts from the same rounding."""
+    from threadpoolctl import threadpool_limits
+
+    with threadpool_limits(limits=FIT_THREADS):
+        yield
 
 _SPECS = {
     "garch": {"vol": "GARCH", "p": 1, "o": 0, "q": 1},
