@@ -73,3 +73,18 @@ def test_a_bad_decision_vol_exits_2(sample_dir, tmp_path, capsys):
     assert code == 2
     assert "decision vol must be a decimal below 5 (0.25 means 25%), got 27; it looks like a percent: did you mean " \
            "0.27?" in capsys.readouterr().err
+
+
+def test_a_csv_export_writes_the_decision_beside_the_estimates(sample_dir, tmp_path, capsys):
+    import csv
+
+    out = tmp_path / "sheet.csv"
+    args = ["export", str(sample_dir / "kestrel_orchards.csv"), "--to", str(out), "--pricing-vol", "0.25",
+            "--days", "21", "--no-scaling", *DECISION]
+    assert main(args) == 0
+    rows = list(csv.DictReader((tmp_path / "sheet.decision.csv").open(encoding="utf-8")))
+    assert rows[0]["kind"] == "record" and rows[1]["text"] == "desk B" and rows[-1]["kind"] == "caution"
+    (tmp_path / "sheet.csv").unlink()  # the second file exists: nothing is written without --force
+    capsys.readouterr()
+    assert main(args) == 2
+    assert "sheet.decision.csv" in capsys.readouterr().err and not (tmp_path / "sheet.csv").exists()

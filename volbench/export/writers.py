@@ -22,7 +22,7 @@ import pandas as pd
 from volbench import __version__
 from volbench.errors import VolbenchError
 from volbench.export import layout
-from volbench.export.atomic import atomic_write
+from volbench.export.atomic import atomic_write, check_destination
 from volbench.export.bundle import TABLE_ORDER, ExportBundle
 from volbench.export.safety import escape_controls, neutralise
 from volbench.export.schema import SCHEMA_VERSION
@@ -89,8 +89,27 @@ def _csv_cell(v) -> str:
 
 def write_csv(path: str | os.PathLike, bundle: ExportBundle, *, overwrite: bool = False,
               table: str = "estimates") -> Path:
-    """Write one table of ``bundle`` (default the estimates table) as UTF-8 CSV."""
-    return atomic_write(path, csv_text(bundle.table(table)), overwrite=overwrite)
+    """Write one table of ``bundle`` (default the estimates table) as UTF-8 CSV.
+
+    With the estimates table, a decision record in the bundle goes to a second file beside it,
+    ``<name>.decision.csv`` (:func:`decision_csv_path`); both destinations are checked before
+    either is written.
+    """
+    text = csv_text(bundle.table(table))
+    if table == "estimates" and "decision" in bundle.tables:
+        second = decision_csv_path(path)
+        check_destination(path, overwrite=overwrite)
+        check_destination(second, overwrite=overwrite)
+        written = atomic_write(path, text, overwrite=overwrite)
+        atomic_write(second, csv_text(bundle.table("decision")), overwrite=overwrite)
+        return written
+    return atomic_write(path, text, overwrite=overwrite)
+
+
+def decision_csv_path(path: str | os.PathLike) -> Path:
+    """Where a .csv export puts its decision record: ``pricing.csv`` -> ``pricing.decision.csv``."""
+    p = Path(path)
+    return p.with_name(f"{p.stem}.decision{p.suffix}")
 
 
 # ---------------------------------------------------------------------------------- JSON
