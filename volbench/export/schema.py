@@ -18,7 +18,7 @@ from volbench import __version__
 from volbench.data.history import PriceHistory
 from volbench.estimators import REGISTRY, EstimateReport
 
-SCHEMA_VERSION = "1"
+SCHEMA_VERSION = "2"
 """Version of the export layout (estimates columns and the JSON envelope)."""
 
 
