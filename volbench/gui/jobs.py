@@ -37,7 +37,7 @@ from volbench.pricing.bands import band_fan
 from volbench.pricing.compare import Comparison
 from volbench.pricing.cone import Cone, ConePlacement
 from volbench.scaling import ScalingResult
-from volbench.settings import Settings
+from volbench.settings import DecisionSettings, Settings
 
 Progress = Callable[[int, int, str], None]
 Cancel = Callable[[], bool]
@@ -144,6 +144,7 @@ class ExportRequest:
     views: tuple[PriceHistory, ...]
     overwrite: bool = False
     given: Mapping[str, Mapping[str, Any]] = field(default_factory=dict)
+    decision: DecisionSettings | None = None
 
 
 @dataclass(frozen=True)
@@ -225,7 +226,8 @@ def _export(ctx: Context, progress: Progress, cancel: Cancel):
         progress(done, total, f"Exporting: {text}")
 
     _checkpoint(cancel)
-    bundle: ExportBundle = build_bundle(r.views, ctx.settings, given=r.given, progress=step)
+    settings = ctx.settings if r.decision is None else ctx.settings.with_groups(decision=r.decision)
+    bundle: ExportBundle = build_bundle(r.views, settings, given=r.given, progress=step)
     _checkpoint(cancel)
     return write_export(r.path, bundle, overwrite=r.overwrite)
 

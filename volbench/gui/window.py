@@ -75,6 +75,7 @@ class MainWindow(QMainWindow):
         self.setWindowTitle("volbench: volatility workbench")
         self.setAcceptDrops(True)
         self.settings = settings or Settings()
+        self.decision = None  # DecisionSettings exports carry (set from File > Decision record)
         self.state = WorkbenchState(choices or self.settings.load_choices() or Choices(), self)
         self.results = Results(self)
         self.dispatcher = Dispatcher(synchronous=synchronous, parent=self)
@@ -158,6 +159,7 @@ class MainWindow(QMainWindow):
         self.recent_menu.aboutToShow.connect(self._fill_recent)
         f.addSeparator()
         self._action(f, "&Export results…", self.ask_export, "Ctrl+E", "export_action")
+        self._action(f, "&Decision record…", self.ask_decision, None, "decision_action")
         self._action(f, "Save current &plot as PNG or SVG…", self.save_current_plot, None, "save_plot_action")
         f.addSeparator()
         self._action(f, "&Save session…", self.ask_save_session, QKeySequence.StandardKey.Save,
@@ -406,6 +408,20 @@ class MainWindow(QMainWindow):
             name += ".csv" if "csv" in flt.lower() else ".json" if "json" in flt.lower() else ".xlsx"
         self.export_to(name)
 
+    def ask_decision(self) -> None:
+        """The decision-record dialog, pre-filled; exports made afterwards carry the record."""
+        from volbench.gui.decision_dialog import DecisionDialog
+
+        dialog = DecisionDialog(self.decision, self)
+        if dialog.exec() == DecisionDialog.DialogCode.Accepted:
+            self.set_decision(dialog.decision())
+
+    def set_decision(self, decision) -> None:
+        """Record the decision exports carry (``None``: no record)."""
+        self.decision = decision
+        self.show_status("Decision record cleared." if decision is None else
+                         "Exports now carry the decision record.")
+
     def export_to(self, path) -> None:
         """Build the export bundle in the background and write ``path`` atomically.
 
@@ -431,7 +447,7 @@ class MainWindow(QMainWindow):
                 if value is not None:
                     given.setdefault(section, {})[view.name] = value
         self.show_status(f"Exporting to {path.name}…")
-        self.controller.run("export", ExportRequest(path, tuple(views), overwrite, given))
+        self.controller.run("export", ExportRequest(path, tuple(views), overwrite, given, decision=self.decision))
 
     def fit_all_series(self) -> None:
         views = self.state.views()
