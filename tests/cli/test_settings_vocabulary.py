@@ -114,3 +114,10 @@ def test_every_setting_has_an_inputs_row(sample_dir):
     items = set(inputs.loc[inputs["group"] == "effective setting", "item"])
     wanted = {path for group, cls in group_types().items() for path, _ in _field_paths(cls, group)}
     assert wanted <= items, sorted(wanted - items)
+
+
+def test_free_text_that_looks_like_an_option_survives(tmp_path):
+    from volbench.settings import DecisionSettings
+
+    settings = Settings(decision=DecisionSettings(vol=0.2, rationale="-2 points: --the desk's view", prepared_by="-B"))
+    assert _round_trip(settings, tmp_path).decision == settings.decision

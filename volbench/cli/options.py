@@ -330,7 +330,7 @@ def import_argv(o: ImportOptions) -> list[str]:
         out += ["--delimiter", "tab" if o.delimiter == "\t" else o.delimiter]
     for flag, value in (("--decimal", o.decimal), ("--thousands", o.thousands), ("--date-format", o.date_format)):
         if value is not None:
-            out += [flag, str(value)]
+            out += [f"{flag}={value}"]
     for flag, on in (("--adjusted", o.use_adjusted), ("--adjust-splits", o.adjust_splits),
                      ("--exclude-flagged", o.exclude_flagged)):
         out += [flag] if on else []
@@ -386,8 +386,8 @@ def decision_argv(d: DecisionSettings | None) -> list[str]:
     if d is None:
         return []
     out = ["--decision-vol", _num(d.vol)] if d.vol is not None else []
-    out += ["--rationale", d.rationale] if d.rationale else []
-    return out + (["--prepared-by", d.prepared_by] if d.prepared_by else [])
+    out += [f"--rationale={d.rationale}"] if d.rationale else []  # "=": text may start with "-"
+    return out + ([f"--prepared-by={d.prepared_by}"] if d.prepared_by else [])
 
 
 # ---------------------------------------------------------------------------- the groups
