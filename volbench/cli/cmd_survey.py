@@ -15,7 +15,7 @@ from volbench.cli.common import (
     add_file_options,
     render_table,
 )
-from volbench.cli.options import settings_from_args
+from volbench.cli.options import add_cone, add_garch, add_scaling, settings_from_args
 from volbench.errors import VolbenchError
 from volbench.format import pct
 
@@ -53,11 +53,13 @@ def register(sub) -> None:
                       help="one proposed pricing vol for every series, decimal (0.25 = 25%%)")
     vols.add_argument("--pricing-vols", default=None, metavar="FILE",
                       help="CSV of symbol,pricing_vol lines (a header line is allowed): a pricing vol per series")
-    p.add_argument("--with-garch", action="store_true",
-                   help="fit GARCH and report its forward vol over --days bars (slower: a fit per series)")
+    add_garch(p, switch="--with-garch",
+              help_switch="fit GARCH and report its forward vol over --days bars (slower: a fit per series)")
     p.add_argument("--garch-model", default="garch", metavar="MODEL|all",
                    help="model fitted with --with-garch (a registered GARCH-type model: garch, gjr, egarch, ...); "
                         "'all' ranks them all by BIC (default garch)")
+    add_cone(p, windows=True)
+    add_scaling(p, full=True)
     p.add_argument("--jobs", type=int, default=None, metavar="N",
                    help="worker processes on this machine (default: one per CPU; 1 runs in this process)")
     p.add_argument("--scheduler", default=None, metavar="ADDRESS",
@@ -72,15 +74,18 @@ def register(sub) -> None:
 
 
 def _settings(args: argparse.Namespace):
-    from volbench.survey import DEFAULT_DAYS, SurveySettings, read_pricing_vols
+    """The survey's settings: the run's settings groups, built and validated as for every command
+    (a group added for every data command comes along), plus the survey's own option life and
+    pricing vols."""
+    from volbench.survey import DEFAULT_DAYS, SURVEY_GARCH, SurveySettings, read_pricing_vols
 
-    base = settings_from_args(args)  # the groups every data command shares, validated as everywhere
+    base = settings_from_args(args)
+    changes = {"estimation": base.estimation.with_changes(window=args.window)}
+    if base.garch is not None:
+        changes["garch"] = SURVEY_GARCH.with_changes(models=args.garch_model)
     per_series = read_pricing_vols(args.pricing_vols) if args.pricing_vols else {}
-    return SurveySettings(
-        window=args.window, days=DEFAULT_DAYS if args.days is None else args.days,
-        annualization=base.annualization, pricing_vol=args.pricing_vol, pricing_vols=per_series,
-        with_garch=args.with_garch, garch_models=args.garch_model, import_options=base.import_options,
-    )
+    return SurveySettings(groups=base.with_groups(**changes), days=DEFAULT_DAYS if args.days is None else args.days,
+                          pricing_vol=args.pricing_vol, pricing_vols=per_series)
 
 
 class _Bar:
