@@ -39,8 +39,11 @@ def test_survey_a_folder_shows_every_series_with_the_survey_numbers(make_window,
     assert result.settings.estimate_window == 30 and result.settings.days == 21
     by_name = {row[0]: row for row in _rows(table)}
     k = next(r for r in expected.records if r.name == "kestrel_orchards")
-    assert by_name["kestrel_orchards"][5] == f"{k.cone_percentile:.0f}"
-    assert by_name["kestrel_orchards"][6] == f"{k.pricing_vol_percentile:.0f}"
+    row = by_name["kestrel_orchards"]
+    assert row[3] == f"{100 * k.estimates['close_to_close'].vol:.2f}%"
+    assert row[6] == f"{k.cone_percentile:.0f}" and row[7] == f"{k.pricing_vol_percentile:.0f}"
+    assert table.horizontalHeaderItem(3).text() == "vol (30 bars)"
+    assert [r[0] for r in _rows(table)] == sorted(by_name)  # sorted by name at first
     assert "no estimate possible" in by_name["broken"][-1]
 
 
@@ -49,7 +52,7 @@ def test_sorting_and_filters(make_window, book):
     pane = w.panes["survey"]
     pane.survey([book])
     table = pane.table
-    table.sortItems(5, Qt.SortOrder.AscendingOrder)  # cone percentile, numbers first, blanks last
+    table.sortItems(6, Qt.SortOrder.AscendingOrder)  # cone percentile, numbers first, blanks last
     pcts = [pane.record_at(r).cone_percentile for r in range(table.rowCount())]
     numbers = [p for p in pcts if p is not None]
     assert numbers == sorted(numbers) and pcts[-1] is None

@@ -34,8 +34,9 @@ from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
 from volbench.survey import SurveyResult
 
-COLUMNS = ["series", "rows", "as of", "current vol", "95% interval", "cone pctl", "pricing vol pctl", "verdicts",
-           "forward vol", "findings e/w/i", "not available / error"]
+COLUMNS = ["series", "rows", "as of", "vol", "95% interval", "vol over life", "cone pctl", "pricing vol pctl",
+           "verdicts", "forward vol", "findings e/w/i", "not available / error"]
+FORWARD = COLUMNS.index("forward vol")
 VERDICT_ORDER = ("variance_proportional_to_horizon", "normal_increments", "independent_increments",
                  "negligible_drift")
 MARKS = {"consistent": "+", "doubtful": "?", "rejected": "x"}
@@ -48,9 +49,9 @@ FILTERS = {
     "every verdict consistent": lambda r: bool(r.verdicts) and set(r.verdicts.values()) == {"consistent"},
 }
 """Verdict filters of the table, by the label shown."""
-CAPTION = ("current vol: the cone estimator over the option's life ending at the as-of date; interval: the "
-           "estimator's 95% interval over the estimation window; cone pctl: where the current vol (and the "
-           "pricing vol) sits in the series' own cone at the option's life; verdicts: variance proportional "
+CAPTION = ("vol and interval: the cone estimator over the estimation window ending at the as-of date, with "
+           "its 95% interval; vol over life: the same estimator over the option's life, and cone pctl where it "
+           "(and the pricing vol) sits in the series' own cone at the option's life; verdicts: variance proportional "
            "to horizon, normal, independent increments, negligible drift (+ consistent, ? doubtful, x rejected, "
            "- not available). Estimates are statistical and carry model risk; they are not advice.")
 
@@ -140,6 +141,7 @@ class SurveyPane(Pane):
         self.table.setAlternatingRowColors(True)
         self.table.verticalHeader().setVisible(False)
         self.table.horizontalHeader().setStretchLastSection(True)
+        self.table.sortByColumn(0, Qt.SortOrder.AscendingOrder)
         self.table.cellDoubleClicked.connect(self._on_double_click)
         self.caption = QLabel(CAPTION)
         self.caption.setObjectName("survey_caption")
@@ -243,8 +245,9 @@ class SurveyPane(Pane):
                 _Item(r.name, r.name.lower()),
                 _Item("" if r.rows is None else f"{r.rows:,}", r.rows),
                 _Item(r.as_of or "", r.as_of),
+                _Item(pct(e.vol) if e else "n/a", _num(e.vol) if e else None),
+                _Item(f"{pct(e.ci_low)} - {pct(e.ci_high)}" if e else "n/a", _num(e.ci_low) if e else None),
                 _Item(pct(r.current_vol), _num(r.current_vol)),
-                _Item(f"{pct(e.ci_low)} - {pct(e.ci_high)}" if e else "n/a", _num(e.vol) if e else None),
                 _Item(_p(r.cone_percentile), _num(r.cone_percentile)),
                 _Item(_p(r.pricing_vol_percentile) if r.pricing_vol is not None else "",
                       _num(r.pricing_vol_percentile)),
@@ -256,10 +259,14 @@ class SurveyPane(Pane):
             ]
             cells[0].setData(Qt.ItemDataRole.UserRole, i)
             if r.forward_vol_source:
-                cells[8].setToolTip(r.forward_vol_source)
+                cells[FORWARD].setToolTip(r.forward_vol_source)
             cells[-1].setToolTip(missing)
             for col, item in enumerate(cells):
                 self.table.setItem(i, col, item)
+        self.table.setHorizontalHeaderLabels([
+            f"vol ({s.estimate_window} bars)" if c == "vol" else f"vol over life ({s.days} bars)"
+            if c == "vol over life" else c for c in COLUMNS])
+        self.table.setColumnHidden(FORWARD, not s.with_garch)
         self.table.setSortingEnabled(True)
         self.table.resizeColumnsToContents()
         self.apply_filter()
