@@ -412,12 +412,12 @@ def vol_cone(
     qs = np.fromiter(PERCENTILES.values(), dtype=float)
     kept, dropped = _columns(h, spec, ws, a)
     for w, rv in kept.items():
-        vals = rv.values.to_numpy()
+        vals = rv.vols
         n = len(vals)
         if rv.invalid_dates:
             notes.append(f"window {w}: {len(rv.invalid_dates)} rolling value(s) left out because bars have "
                          "high below low or prices outside their range; exclude flagged rows")
-        last = rv.values.index.values[-1]
+        last = rv.dates[-1]
         if last != h.dates[-1]:
             notes.append(f"window {w}: current value is from {_iso(last)}, "
                          f"the last valid window before {h.last_date}")
@@ -512,6 +512,6 @@ def place_in_cone(
     kept, _ = _columns(history, spec, ws, a)
 
     def rank(vol: float, window: int) -> float:
-        return rank_unsorted(kept[window].values.to_numpy(), vol)
+        return rank_unsorted(kept[window].vols, vol)
 
     return tuple(None if v is None else place_vol(v, days, tuple(kept), rank, spec.label) for v in vols)

@@ -83,9 +83,9 @@ def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> Su
 
     current = cone_pct = pv_pct = None
     try:  # the cone's own definition of "today's" vol: the last value of the rolling series
-        values = rolling_vol(h, s.cone_estimator, days, annualization=a).values
-        if values.index.values[-1] == h.dates[-1]:
-            current = float(values.to_numpy()[-1])
+        rolled = rolling_vol(h, s.cone_estimator, days, annualization=a)
+        if rolled.dates.size and rolled.dates[-1] == h.dates[-1]:
+            current = float(rolled.vols[-1])
         else:
             unavailable["current_vol"] = (f"{s.cone_estimator} over the last {days} bars is undefined: bars in it "
                                           "have high below low or prices outside their range; exclude flagged rows")
