@@ -156,6 +156,14 @@ def _timed_cold(fn, hs: list[PriceHistory]) -> float:
     return time.perf_counter() - t0
 
 
+def _timed_cold_both(fn, hs: list[PriceHistory]) -> tuple[float, float]:
+    """Wall and CPU seconds of ``fn`` on new history objects."""
+    fresh = _fresh(hs)
+    c, t0 = time.process_time(), time.perf_counter()
+    fn(fresh)
+    return time.perf_counter() - t0, time.process_time() - c
+
+
 def test_bench_rolling_estimators():
     hs = _histories()
     closes = [pd.Series(h.close, index=h.index) for h in hs]
@@ -180,12 +188,12 @@ def test_bench_rolling_estimators():
     # all six against the floor, alternating run by run, every run on new history objects
     runs_all, runs_floor, cpu_all, cpu_floor = [], [], [], []
     for _ in range(7):
-        c = time.process_time()
-        runs_floor.append(_timed_cold(_floor, hs))
-        cpu_floor.append(time.process_time() - c)
-        c = time.process_time()
-        runs_all.append(_timed_cold(lambda fresh: [rolling_all(fresh_h, WINDOW) for fresh_h in fresh], hs))
-        cpu_all.append(time.process_time() - c)
+        wall, cpu = _timed_cold_both(_floor, hs)
+        runs_floor.append(wall)
+        cpu_floor.append(cpu)
+        wall, cpu = _timed_cold_both(lambda fresh: [rolling_all(fresh_h, WINDOW) for fresh_h in fresh], hs)
+        runs_all.append(wall)
+        cpu_all.append(cpu)
     all_six = (statistics.median(runs_all), min(runs_all))
     floor = (statistics.median(runs_floor), min(runs_floor))
     ratio_floor = statistics.median(o / f for o, f in zip(runs_all, runs_floor))
