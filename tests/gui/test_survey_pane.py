@@ -92,3 +92,30 @@ def test_a_failed_survey_says_why(make_window, tmp_path):
     pane.survey([tmp_path / "no_such_folder"])
     result = w.results.get("survey")
     assert result is not None and result.records[0].error and pane.table.rowCount() == 1
+
+
+def test_the_survey_saves_as_the_command_line_writes_it(make_window, book, tmp_path_factory, capsys):
+    import csv
+    import json
+
+    from volbench.cli import main
+    from volbench.survey.report import survey_csv
+
+    tmp_path = tmp_path_factory.mktemp("saved")  # not inside the surveyed folder
+    w = make_window()
+    pane = w.panes["survey"]
+    assert pane.save(tmp_path / "none.csv") is None  # nothing surveyed yet
+    pane.survey([book])
+    result = w.results.get("survey")
+    written = pane.save(tmp_path / "book.json")
+    data = json.loads(written.read_text())
+    assert [s["name"] for s in data["series"]] == [r.name for r in result.records]
+    assert pane.save(tmp_path / "book.json") is None  # never over an existing file without consent
+    table = pane.save(tmp_path / "book.csv").read_text()
+    assert table == survey_csv(result)
+    # the command line's CSV of the same survey (settings from the same groups): the same rows
+    c = w.state.choices
+    assert main(["survey", str(book), "--window", str(c.window), "--days", str(c.days), "--pricing-vol",
+                 str(c.pricing_vol), "--jobs", "1", "--format", "csv"]) == 0
+    cli_rows = list(csv.reader(capsys.readouterr().out.splitlines()))
+    assert cli_rows == list(csv.reader(table.splitlines()))

@@ -3,14 +3,10 @@
 from __future__ import annotations
 
 import argparse
-import csv
-import io
-import json
 import sys
 import time
 
 from volbench.cli.common import (
-    _clean,
     add_annualization,
     add_file_options,
     render_table,
@@ -18,11 +14,10 @@ from volbench.cli.common import (
 from volbench.cli.options import add_cone, add_garch, add_scaling, settings_from_args
 from volbench.errors import VolbenchError
 from volbench.format import pct
+from volbench.survey.report import VERDICT_ORDER
 
 CAUTION = "Estimates are statistical and carry model risk; they are not advice."
 VERDICT_MARKS = {"consistent": "+", "doubtful": "?", "rejected": "x"}
-VERDICT_ORDER = ("variance_proportional_to_horizon", "normal_increments", "independent_increments",
-                 "negligible_drift")
 
 
 def register(sub) -> None:
@@ -148,47 +143,13 @@ def run_survey_command(args: argparse.Namespace) -> int:
 # ---------------------------------------------------------------------------- output
 def render(result, fmt: str) -> str:
     """The survey as table, JSON or CSV text."""
+    from volbench.survey.report import survey_csv, survey_json
+
     if fmt == "json":
-        return json.dumps(_clean(result.as_dict()), indent=2, allow_nan=False) + "\n"
+        return survey_json(result)
     if fmt == "csv":
-        return _csv(result)
+        return survey_csv(result)
     return _table(result)
-
-
-def _keys():
-    from volbench.estimators import REGISTRY
-
-    return REGISTRY
-
-
-def _csv(result) -> str:
-    keys = list(_keys())
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    head = ["series", "source", "rows", "as_of", "window", "days"]
-    for k in keys:
-        head += [f"{k}_vol", f"{k}_ci_low", f"{k}_ci_high", f"{k}_n"]
-    head += ["current_vol", "cone_percentile", "pricing_vol", "pricing_vol_percentile"]
-    head += [f"verdict_{p}" for p in VERDICT_ORDER]
-    head += ["forward_vol", "forward_vol_source", "findings_error", "findings_warning", "findings_info",
-             "unavailable", "error"]
-    w.writerow(head)
-
-    def num(x):
-        return "" if x is None else f"{x:.10g}"
-
-    for r in result.records:
-        row = [r.name, r.source or "", "" if r.rows is None else r.rows, r.as_of or "", r.window or "", r.days or ""]
-        for k in keys:
-            e = r.estimates.get(k)
-            row += ["", "", "", ""] if e is None else [num(e.vol), num(e.ci_low), num(e.ci_high), e.n]
-        row += [num(r.current_vol), num(r.cone_percentile), num(r.pricing_vol), num(r.pricing_vol_percentile)]
-        row += [r.verdicts.get(p, "") for p in VERDICT_ORDER]
-        row += [num(r.forward_vol), r.forward_vol_source or ""]
-        row += [r.findings.get(s, "") if r.ok or r.findings else "" for s in ("error", "warning", "info")]
-        row += ["; ".join(f"{k}: {v}" for k, v in r.unavailable.items()), r.error or ""]
-        w.writerow(row)
-    return buf.getvalue()
 
 
 def _table(result) -> str:

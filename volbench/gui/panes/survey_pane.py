@@ -27,18 +27,18 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from volbench.errors import VolbenchError
 from volbench.format import pct
 from volbench.gui.controller import Results
 from volbench.gui.jobs import SurveyRequest
 from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
 from volbench.survey import SurveyResult
+from volbench.survey.report import VERDICT_ORDER, survey_csv, survey_json
 
 COLUMNS = ["series", "rows", "as of", "vol", "95% interval", "vol over life", "cone pctl", "pricing vol pctl",
            "verdicts", "forward vol", "findings e/w/i", "not available / error"]
 FORWARD = COLUMNS.index("forward vol")
-VERDICT_ORDER = ("variance_proportional_to_horizon", "normal_increments", "independent_increments",
-                 "negligible_drift")
 MARKS = {"consistent": "+", "doubtful": "?", "rejected": "x"}
 FILTERS = {
     "every series": lambda r: True,
@@ -106,8 +106,14 @@ class SurveyPane(Pane):
         self.status = QLabel("Choose a folder to survey every series in it with the current settings.")
         self.status.setObjectName("survey_status")
         self.status.setWordWrap(True)
+        self.save_button = QPushButton("Save table…")
+        self.save_button.setObjectName("survey_save_button")
+        self.save_button.setToolTip("Write every series of the survey (not only the rows shown) as CSV or JSON, "
+                                    "as 'volbench survey --format csv|json' does")
+        self.save_button.clicked.connect(self.ask_save)
+        self.save_button.setEnabled(False)
         top = QHBoxLayout()
-        for w in (self.folder_button, self.loaded_button, self.garch_box):
+        for w in (self.folder_button, self.loaded_button, self.garch_box, self.save_button):
             top.addWidget(w)
         top.addWidget(self.status, 1)
 
@@ -219,8 +225,34 @@ class SurveyPane(Pane):
         if "histories" in names and self._pending_select is not None:
             self._after_load()
 
+    def ask_save(self) -> None:
+        path, _filter = QFileDialog.getSaveFileName(self, "Save the survey", "survey.csv",
+                                                   "CSV (*.csv);;JSON (*.json)")
+        if path:  # the dialog asked before replacing a file
+            self.save(path, overwrite=True)
+
+    def save(self, path, *, overwrite: bool = False):
+        """Write the survey to ``path`` (``.json``: JSON, else CSV), atomically; returns the path."""
+        from pathlib import Path
+
+        from volbench.export.atomic import atomic_write
+
+        result = self.results.get("survey")
+        if not isinstance(result, SurveyResult):
+            self.notice.emit("Nothing to save yet: run a survey first.")
+            return None
+        text = survey_json(result) if Path(path).suffix.lower() == ".json" else survey_csv(result)
+        try:
+            written = atomic_write(path, text, overwrite=overwrite)
+        except VolbenchError as exc:
+            self.notice.emit(str(exc))
+            return None
+        self.notice.emit(f"Saved the survey of {len(result.records)} series to {written}.")
+        return written
+
     def render(self) -> None:
         result = self.results.get("survey")
+        self.save_button.setEnabled(isinstance(result, SurveyResult))
         if not isinstance(result, SurveyResult):
             self.table.setRowCount(0)
             problem = self.results.problem("survey")
