@@ -83,7 +83,7 @@ _WORKER = """
 import resource, sys, time
 from volbench.survey import SurveySettings, survey_paths
 days = int(sys.argv[2])
-s = SurveySettings(window=days, days=days, annualization=252 * 390,
+s = SurveySettings.build(window=days, days=days, annualization=252 * 390,
                    cone_windows=(390, 1950, 8190, 16380, 24570, 49140))
 t = time.perf_counter()
 rec = survey_paths([sys.argv[1]], s)[0][0]

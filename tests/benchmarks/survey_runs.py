@@ -147,12 +147,12 @@ def dask(book):
 
 def garch(book):
     files = book[:GARCH_FILES]
-    run_survey(files[:2], SurveySettings(with_garch=True), jobs=1)
+    run_survey(files[:2], SurveySettings.build(with_garch=True), jobs=1)
     t = time.perf_counter()
     run_survey(files, SurveySettings(), jobs=2, mp_context=FORK)
     plain = time.perf_counter() - t
     t = time.perf_counter()
-    result = run_survey(files, SurveySettings(with_garch=True), jobs=2, mp_context=FORK)
+    result = run_survey(files, SurveySettings.build(with_garch=True), jobs=2, mp_context=FORK)
     with_garch = time.perf_counter() - t
     assert all(r.forward_vol is not None for r in result.records)
     print(f"--with-garch, {GARCH_FILES} files x {BARS:,} bars on 2 workers: {with_garch:.2f} s "

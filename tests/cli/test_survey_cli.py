@@ -118,3 +118,53 @@ def test_bad_settings_are_one_line_errors(capsys, folder):
                           (["--jobs", "0"], "--jobs must be a whole number of workers >= 1, got 0")):
         code, out, err = run(capsys, "survey", folder, *argv)
         assert code == 2 and message in err and out == "", argv
+
+
+def test_settings_come_from_the_shared_groups(capsys, sample_dir):
+    # the cone, scaling and estimation options are the groups every command builds, so the
+    # survey's figures follow them and equal the core's for the same group objects
+    from volbench.data import load_prices
+    from volbench.settings import ConeSettings, EstimationSettings, ScalingSettings
+    from volbench.survey import SurveySettings, survey_groups, survey_history
+
+    f = sample_dir / "kestrel_orchards.csv"
+    code, out, _ = run(capsys, "survey", f, "--cone-estimator", "parkinson", "--windows", "10,21,63",
+                       "--horizons", "2,4", "--alpha", "0.01", "--window", "30", "--annualization", "260",
+                       "--jobs", "1", "--format", "json")
+    assert code == 0
+    d = json.loads(out)
+    s = d["settings"]
+    assert (s["cone_estimator"], s["cone_windows"], s["horizons"], s["alpha"], s["window"], s["annualization"]) == (
+        "parkinson", [10, 21, 63], [1, 2, 4], 0.01, 30, 260.0)
+    groups = survey_groups(estimation=EstimationSettings(window=30, annualization=260),
+                           cone=ConeSettings(estimator="parkinson", windows=(10, 21, 63)),
+                           scaling=ScalingSettings(horizons=(2, 4), alpha=0.01))
+    expected = survey_history(load_prices(f)[0], SurveySettings(groups=groups)).as_dict()
+    row = d["series"][0]
+    assert row["cone_percentile"] == expected["cone_percentile"]
+    assert row["verdicts"] == expected["verdicts"]
+    assert row["estimates"]["parkinson"] == expected["estimates"]["parkinson"]
+    assert row["estimates"]["parkinson"]["n"] == 30
+
+
+def test_survey_settings_pickle_with_every_group():
+    import pickle
+
+    from volbench.survey import SurveySettings
+
+    s = SurveySettings.build(window=30, days=10, pricing_vols={"a": 0.2}, with_garch=True, garch_models="all")
+    back = pickle.loads(pickle.dumps(s))
+    assert back == s and back.groups == s.groups and back.garch.models == s.garch.models
+    assert back.pricing_vol_for("a") == 0.2
+
+
+@pytest.mark.parametrize("argv, message", [
+    (("--windows", "0"), "--windows must be positive whole numbers"),
+    (("--horizons", "x"), "horizons must be whole numbers separated by commas"),
+    (("--cone-estimator", "nope"), "unknown estimator 'nope'"),
+    (("--window", "1"), "window must be >= 2 bars, got 1"),
+])
+def test_bad_group_values_get_the_shared_messages(capsys, sample_dir, argv, message):
+    code, out, err = run(capsys, "survey", sample_dir / "kestrel_orchards.csv", *argv, "--jobs", "1")
+    assert code == 2 and out == ""
+    assert message in err

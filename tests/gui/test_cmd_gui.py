@@ -71,11 +71,12 @@ def test_gui_opens_the_window_with_the_given_files(monkeypatch):
 
     opened = []
     monkeypatch.setenv("QT_QPA_PLATFORM", "offscreen")
-    monkeypatch.setattr(app, "run", lambda files: opened.append(list(files)) or 0)
+    monkeypatch.setattr(app, "run", lambda files, samples_when_empty: opened.append((list(files), samples_when_empty))
+                        or 0)
     assert main(["gui", "a.csv", "b.csv"]) == 0
     assert main(["gui"]) == 0
-    assert opened[0] == ["a.csv", "b.csv"]
-    assert opened[1] == sample_files()
+    assert opened[0] == (["a.csv", "b.csv"], True)
+    assert opened[1] == ([], True)  # app.run reads sample_files() after the first paint
 
 
 def test_default_files_are_the_bundled_samples(monkeypatch, sample_dir):

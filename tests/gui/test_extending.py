@@ -19,6 +19,7 @@ from volbench.gui.jobs import (
     ExportRequest,
     Job,
     LoadRequest,
+    SurveyRequest,
 )
 from volbench.gui.panes.base import Pane
 from volbench.models import MODEL_REGISTRY, ModelSpec
@@ -89,6 +90,7 @@ def _context(kind: str, h, sample_dir: Path, tmp_path: Path) -> Context:
         "load": LoadRequest((str(sample_dir / "kestrel_orchards.csv"),), Settings().import_options),
         "export": ExportRequest(tmp_path / "x.json", (h,)),
         "garch_all": BatchRequest((h,), 1),
+        "survey": SurveyRequest((str(sample_dir),), 1),
     }
     from volbench.gui.state import Choices
 

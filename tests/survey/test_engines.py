@@ -50,7 +50,7 @@ def loopback_cluster():
 
 
 def test_process_pool_serial_and_dask_give_identical_json(folder, loopback_cluster):
-    settings = SurveySettings(days=10, pricing_vol=0.2, with_garch=True)
+    settings = SurveySettings.build(days=10, pricing_vol=0.2, with_garch=True)
     serial = run_survey([folder], settings, jobs=1)
     pool = run_survey([folder], settings, jobs=2)
     dask = run_survey([folder], settings, scheduler=loopback_cluster.scheduler_address)

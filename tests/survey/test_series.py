@@ -174,11 +174,11 @@ def test_settings_are_validated_once(tmp_path):
     with pytest.raises(VolbenchError, match="days must be a whole number of bars >= 1, got 0"):
         SurveySettings(days=0)
     with pytest.raises(VolbenchError, match="window must be >= 2 bars, got 1"):
-        SurveySettings(window=1)
+        SurveySettings.build(window=1)
     with pytest.raises(VolbenchError, match="pricing vol must be a decimal below 5"):
         SurveySettings(pricing_vol=20)
     with pytest.raises(VolbenchError, match="unknown model 'arma'"):
-        SurveySettings(garch_models=("arma",))
+        SurveySettings.build(with_garch=True, garch_models=("arma",))
     with pytest.raises(VolbenchError, match="pricing-vol file not found"):
         read_pricing_vols(tmp_path / "nope.csv")
     s = SurveySettings(days=30)

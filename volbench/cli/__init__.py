@@ -45,7 +45,28 @@ def command_modules() -> tuple[ModuleType, ...]:
             cmd_replay, cmd_scaling, cmd_survey)
 
 
-def build_parser() -> argparse.ArgumentParser:
+COMMAND_HELP: dict[str, str] = {
+    "estimate": "point estimates of every volatility estimator",
+    "check": "data-quality findings for price files",
+    "export": "write the numbers behind a pricing vol to .xlsx, .csv or .json",
+    "garch": "GARCH-family fits and forward vols over an option's life",
+    "gui": "open the desktop workbench window",
+    "hindsight": "how each candidate vol would have forecast the vol that followed",
+    "implied": "implied vol of a premium, or of every quote in an option-quotes file",
+    "cone": "volatility cone: percentiles of rolling realized vol per window",
+    "compare": "set a proposed pricing vol against the history and reprice the option",
+    "price": "Black-Scholes-Merton price and greeks of a call and a put",
+    "realized": "realized vol, signature plot, jump days and HAR forecast from intraday bars",
+    "scaling": "check that returns scale like Brownian motion (variance ratio, normality, ...)",
+    "survey": "survey many series at once: estimates, cone, scaling verdicts (and GARCH)",
+}
+"""Every command word and its help line, in help order: ``volbench --help`` (and ``--version``)
+lists them without importing the commands, whose modules load pandas and scipy. A command
+missing here still runs (any command word builds the full parser); tests/cli/test_startup.py
+checks this table against the commands' own parsers."""
+
+
+def _top_parser() -> argparse.ArgumentParser:
     parser = _Parser(
         prog="volbench",
         description="Estimate, check and defend the volatility used to price an option, from price CSVs.",
@@ -53,11 +74,53 @@ def build_parser() -> argparse.ArgumentParser:
                "Your firm's model-validation policy governs their use.",
     )
     parser.add_argument("--version", action="version", version=f"volbench {__version__}")
+    return parser
+
+
+def _subparsers(parser: argparse.ArgumentParser):
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     sub.required = True
+    return sub
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """The full parser: every command module imported and registered."""
+    parser = _top_parser()
+    sub = _subparsers(parser)
     for module in command_modules():
         module.register(sub)
     return parser
+
+
+def light_parser() -> argparse.ArgumentParser:
+    """The top-level parser alone (commands listed from :data:`COMMAND_HELP`, none imported): what
+    ``volbench``, ``volbench --help`` and ``volbench --version`` need."""
+    parser = _top_parser()
+    sub = _subparsers(parser)
+    for name, text in COMMAND_HELP.items():
+        sub.add_parser(name, help=text, add_help=False)
+    return parser
+
+
+def light_command_modules() -> tuple[ModuleType, ...]:
+    """Command modules that import no heavy library when loaded: their commands are parsed without
+    importing the others (the window paints its frame before pandas and scipy load)."""
+    from volbench.cli import cmd_gui
+
+    return (cmd_gui,)
+
+
+def parser_for(argv: list[str]) -> argparse.ArgumentParser:
+    """The parser ``argv`` needs: the light one for help, version or a light command's word, else
+    the full one."""
+    word = next((a for a in argv if not a.startswith("-")), None)
+    if word is None:
+        return light_parser()
+    parser = _top_parser()
+    sub = _subparsers(parser)
+    for module in light_command_modules():
+        module.register(sub)
+    return parser if word in sub.choices else build_parser()
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -67,7 +130,8 @@ def main(argv: list[str] | None = None) -> int:
             stream.reconfigure(errors="backslashreplace")
         except (AttributeError, ValueError):
             pass
-    parser = build_parser()
+    words = sys.argv[1:] if argv is None else list(argv)
+    parser = parser_for(words)
     try:
         args = parser.parse_args(argv)
     except SystemExit as exc:

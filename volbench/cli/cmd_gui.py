@@ -10,7 +10,6 @@ from collections.abc import Callable
 
 from volbench.cli import EXIT_BAD_INPUT
 from volbench.gui import qt_problem
-from volbench.samples import sample_files
 
 HEADLESS_PLATFORMS = ("offscreen", "minimal")
 
@@ -78,4 +77,4 @@ def run_gui(args: argparse.Namespace) -> int:
         return EXIT_BAD_INPUT
     from volbench.gui.app import run  # Qt is imported only when the window opens
 
-    return run(args.files or sample_files())
+    return run(args.files, samples_when_empty=True)  # the sample list is read after the first paint

@@ -3,26 +3,21 @@
 from __future__ import annotations
 
 import argparse
-import csv
-import io
-import json
 import sys
 import time
 
 from volbench.cli.common import (
-    _clean,
     add_annualization,
     add_file_options,
     render_table,
 )
-from volbench.cli.options import settings_from_args
+from volbench.cli.options import add_cone, add_garch, add_scaling, settings_from_args
 from volbench.errors import VolbenchError
 from volbench.format import pct
+from volbench.survey.report import VERDICT_ORDER
 
 CAUTION = "Estimates are statistical and carry model risk; they are not advice."
 VERDICT_MARKS = {"consistent": "+", "doubtful": "?", "rejected": "x"}
-VERDICT_ORDER = ("variance_proportional_to_horizon", "normal_increments", "independent_increments",
-                 "negligible_drift")
 
 
 def register(sub) -> None:
@@ -53,11 +48,13 @@ def register(sub) -> None:
                       help="one proposed pricing vol for every series, decimal (0.25 = 25%%)")
     vols.add_argument("--pricing-vols", default=None, metavar="FILE",
                       help="CSV of symbol,pricing_vol lines (a header line is allowed): a pricing vol per series")
-    p.add_argument("--with-garch", action="store_true",
-                   help="fit GARCH and report its forward vol over --days bars (slower: a fit per series)")
+    add_garch(p, switch="--with-garch",
+              help_switch="fit GARCH and report its forward vol over --days bars (slower: a fit per series)")
     p.add_argument("--garch-model", default="garch", metavar="MODEL|all",
                    help="model fitted with --with-garch (a registered GARCH-type model: garch, gjr, egarch, ...); "
                         "'all' ranks them all by BIC (default garch)")
+    add_cone(p, windows=True)
+    add_scaling(p, full=True)
     p.add_argument("--jobs", type=int, default=None, metavar="N",
                    help="worker processes on this machine (default: one per CPU; 1 runs in this process)")
     p.add_argument("--scheduler", default=None, metavar="ADDRESS",
@@ -72,15 +69,18 @@ def register(sub) -> None:
 
 
 def _settings(args: argparse.Namespace):
-    from volbench.survey import DEFAULT_DAYS, SurveySettings, read_pricing_vols
+    """The survey's settings: the run's settings groups, built and validated as for every command
+    (a group added for every data command comes along), plus the survey's own option life and
+    pricing vols."""
+    from volbench.survey import DEFAULT_DAYS, SURVEY_GARCH, SurveySettings, read_pricing_vols
 
-    base = settings_from_args(args)  # the groups every data command shares, validated as everywhere
+    base = settings_from_args(args)
+    changes = {"estimation": base.estimation.with_changes(window=args.window)}
+    if base.garch is not None:
+        changes["garch"] = SURVEY_GARCH.with_changes(models=args.garch_model)
     per_series = read_pricing_vols(args.pricing_vols) if args.pricing_vols else {}
-    return SurveySettings(
-        window=args.window, days=DEFAULT_DAYS if args.days is None else args.days,
-        annualization=base.annualization, pricing_vol=args.pricing_vol, pricing_vols=per_series,
-        with_garch=args.with_garch, garch_models=args.garch_model, import_options=base.import_options,
-    )
+    return SurveySettings(groups=base.with_groups(**changes), days=DEFAULT_DAYS if args.days is None else args.days,
+                          pricing_vol=args.pricing_vol, pricing_vols=per_series)
 
 
 class _Bar:
@@ -143,47 +143,13 @@ def run_survey_command(args: argparse.Namespace) -> int:
 # ---------------------------------------------------------------------------- output
 def render(result, fmt: str) -> str:
     """The survey as table, JSON or CSV text."""
+    from volbench.survey.report import survey_csv, survey_json
+
     if fmt == "json":
-        return json.dumps(_clean(result.as_dict()), indent=2, allow_nan=False) + "\n"
+        return survey_json(result)
     if fmt == "csv":
-        return _csv(result)
+        return survey_csv(result)
     return _table(result)
-
-
-def _keys():
-    from volbench.estimators import REGISTRY
-
-    return REGISTRY
-
-
-def _csv(result) -> str:
-    keys = list(_keys())
-    buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    head = ["series", "source", "rows", "as_of", "window", "days"]
-    for k in keys:
-        head += [f"{k}_vol", f"{k}_ci_low", f"{k}_ci_high", f"{k}_n"]
-    head += ["current_vol", "cone_percentile", "pricing_vol", "pricing_vol_percentile"]
-    head += [f"verdict_{p}" for p in VERDICT_ORDER]
-    head += ["forward_vol", "forward_vol_source", "findings_error", "findings_warning", "findings_info",
-             "unavailable", "error"]
-    w.writerow(head)
-
-    def num(x):
-        return "" if x is None else f"{x:.10g}"
-
-    for r in result.records:
-        row = [r.name, r.source or "", "" if r.rows is None else r.rows, r.as_of or "", r.window or "", r.days or ""]
-        for k in keys:
-            e = r.estimates.get(k)
-            row += ["", "", "", ""] if e is None else [num(e.vol), num(e.ci_low), num(e.ci_high), e.n]
-        row += [num(r.current_vol), num(r.cone_percentile), num(r.pricing_vol), num(r.pricing_vol_percentile)]
-        row += [r.verdicts.get(p, "") for p in VERDICT_ORDER]
-        row += [num(r.forward_vol), r.forward_vol_source or ""]
-        row += [r.findings.get(s, "") if r.ok or r.findings else "" for s in ("error", "warning", "info")]
-        row += ["; ".join(f"{k}: {v}" for k, v in r.unavailable.items()), r.error or ""]
-        w.writerow(row)
-    return buf.getvalue()
 
 
 def _table(result) -> str:

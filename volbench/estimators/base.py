@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass, field
+from functools import cached_property
 from typing import Any, Literal
 
 import numpy as np
@@ -110,21 +111,37 @@ class Estimate:
         return {"vol": self.vol, "ci_low": self.ci_low, "ci_high": self.ci_high, "n": self.n}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class RollingVol:
     """Rolling annualized volatility of one estimator over windows of ``window`` bars.
 
-    ``values`` is indexed by date and starts at the first date where the window fits; any later
-    date where the variance is undefined (inconsistent OHLC kept in the data) is listed in
-    ``invalid_dates`` and left out of ``values``.
+    ``vols`` (read-only) holds the vol at each of ``dates``, which start at the first date where
+    the window fits; any later date where the variance is undefined (inconsistent OHLC kept in the
+    data) is listed in ``invalid_dates`` and left out. ``values`` is the same as a date-indexed
+    pandas Series, built on first use: a caller that reads the arrays (a survey, a cone) never pays
+    for the Series.
     """
 
     key: str
     label: str
     window: int
     annualization: float
-    values: pd.Series
+    vols: np.ndarray
+    dates: np.ndarray
     invalid_dates: tuple[str, ...] = field(default=())
+
+    @classmethod
+    def from_series(cls, key: str, label: str, window: int, annualization: float, values: pd.Series,
+                    invalid_dates: tuple[str, ...] = ()) -> RollingVol:
+        """From a date-indexed Series of vols (kept as the :attr:`values`)."""
+        out = cls(key, label, window, annualization, values.to_numpy(), values.index.to_numpy(), invalid_dates)
+        out.__dict__["values"] = values
+        return out
+
+    @cached_property
+    def values(self) -> pd.Series:
+        """The vols as a Series indexed by ``date``, named after the estimator."""
+        return pd.Series(self.vols, index=pd.DatetimeIndex(self.dates, name="date"), name=self.key, copy=False)
 
 
 # ---------------------------------------------------------------------- O(n) rolling helpers

@@ -10,7 +10,6 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
-import pandas as pd
 
 from volbench import validate
 from volbench.candidates import Candidate, CandidateSet
@@ -220,6 +219,13 @@ def _form(spec: EstimatorSpec, options: dict) -> SumForm | None:
 Job = tuple[EstimatorSpec, int]
 
 
+def _frozen(a: np.ndarray) -> np.ndarray:
+    """A read-only view of ``a`` (results are never mutated by their readers)."""
+    v = a.view()
+    v.flags.writeable = False
+    return v
+
+
 def _rolling_many(history: PriceHistory, jobs: list[Job], a: float, options: dict) -> list[RollingVol | str]:
     """Rolling vol of each (spec, window) job (settings validated), or why it is unavailable.
 
@@ -244,13 +250,6 @@ def _rolling_many(history: PriceHistory, jobs: list[Job], a: float, options: dic
             form_rows.append(row)
     if form_jobs:
         evaluate(history, form_jobs, form_rows)
-    indexes: dict[int, pd.DatetimeIndex] = {}
-
-    def index_from(first: int) -> pd.DatetimeIndex:
-        if first not in indexes:
-            indexes[first] = history.index[first:]
-        return indexes[first]
-
     fast = []
     for r, i in enumerate(ready):
         spec, w = jobs[i]
@@ -269,14 +268,13 @@ def _rolling_many(history: PriceHistory, jobs: list[Job], a: float, options: dic
         np.logical_not(bad, out=bad)  # negative or NaN
         if empty is not None:
             bad |= empty
-        idx = index_from(first)
+        dates = history.dates[first:]
         if not bad.any():
-            values = pd.Series(np.sqrt(seg * a), index=idx, name=spec.key, copy=False)
-            out[i] = RollingVol(spec.key, spec.label, w, a, values, ())
+            out[i] = RollingVol(spec.key, spec.label, w, a, _frozen(np.sqrt(seg * a)), dates, ())
             continue
-        values = pd.Series(np.sqrt(np.where(bad, np.nan, seg) * a), index=idx, name=spec.key, copy=False)
-        invalid = tuple(_iso(d) for d in history.dates[first:][bad])
-        out[i] = RollingVol(spec.key, spec.label, w, a, values[~bad], invalid)
+        good = ~bad
+        invalid = tuple(_iso(d) for d in dates[bad])
+        out[i] = RollingVol(spec.key, spec.label, w, a, _frozen(np.sqrt(seg[good] * a)), dates[good], invalid)
     if len(fast) == len(ready):
         np.multiply(block, a, out=block)
         np.sqrt(block, out=block)
@@ -286,8 +284,7 @@ def _rolling_many(history: PriceHistory, jobs: list[Job], a: float, options: dic
             np.sqrt(block[r], out=block[r])
     for r, i, first in fast:
         spec, w = jobs[i]
-        values = pd.Series(block[r, first:], index=index_from(first), name=spec.key, copy=False)
-        out[i] = RollingVol(spec.key, spec.label, w, a, values, ())
+        out[i] = RollingVol(spec.key, spec.label, w, a, _frozen(block[r, first:]), history.dates[first:], ())
     return out
 
 

@@ -37,7 +37,8 @@ from volbench.pricing.bands import band_fan
 from volbench.pricing.compare import Comparison
 from volbench.pricing.cone import Cone, ConePlacement
 from volbench.scaling import ScalingResult
-from volbench.settings import DecisionSettings, Settings
+from volbench.settings import DecisionSettings, GarchSettings, Settings
+from volbench.survey import DEFAULT_DAYS, SurveyResult, SurveySettings, run_survey
 
 Progress = Callable[[int, int, str], None]
 Cancel = Callable[[], bool]
@@ -153,6 +154,25 @@ class BatchRequest:
     processes: int | None = None
 
 
+@dataclass(frozen=True)
+class SurveyRequest:
+    """Survey ``paths`` (files, folders, patterns) with the window's settings; ``workers`` local
+    processes (``None``: one per CPU; 1: in the worker thread); ``with_garch`` adds the GARCH fits."""
+
+    paths: tuple[str, ...]
+    workers: int | None = None
+    with_garch: bool = False
+
+
+def survey_settings(settings: Settings, with_garch: bool = False) -> SurveySettings:
+    """The survey the window's settings ask for: every group as chosen (GARCH only when asked),
+    the option's life and its pricing vol for every series."""
+    o = settings.option
+    groups = settings.with_groups(garch=(settings.garch or GarchSettings()) if with_garch else None)
+    return SurveySettings(groups=groups, days=o.days if o is not None else DEFAULT_DAYS,
+                          pricing_vol=o.pricing_vol if o is not None else None)
+
+
 # ------------------------------------------------------------------------ job functions
 def _checkpoint(cancel: Cancel) -> None:
     if cancel():
@@ -247,6 +267,14 @@ def _garch_all(ctx: Context, progress: Progress, cancel: Cancel):
     return BatchFits(days, tuple(comps), tuple(forward))
 
 
+def _survey(ctx: Context, progress: Progress, cancel: Cancel):
+    r: SurveyRequest = ctx.request
+    _checkpoint(cancel)
+    settings = survey_settings(ctx.settings, r.with_garch)
+    return run_survey(r.paths, settings, jobs=r.workers, progress=lambda done, total, name: progress(
+        done, total, f"Surveying: {done} of {total} files ({name})"), cancel=cancel)
+
+
 # ------------------------------------------------------------------------ the table
 @dataclass(frozen=True)
 class Job:
@@ -303,6 +331,7 @@ JOBS: dict[str, Job] = {j.kind: j for j in (
     _job("export", (), _export, Path, background=True, on_demand=True, busy="Exporting to {file}…"),
     _job("garch_all", (), _garch_all, BatchFits, background=True, on_demand=True,
          busy="Fitting {count} series…"),
+    _job("survey", (), _survey, SurveyResult, background=True, on_demand=True, busy="Surveying {count} files…"),
 )}
 """Every job of the window, each listed after the jobs it depends on. Add a job with one entry."""
 

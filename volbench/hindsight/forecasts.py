@@ -66,10 +66,10 @@ class Forecast:
 def aligned(history: PriceHistory, key: str, window: int, annualization: float) -> np.ndarray:
     """Rolling vol of ``key`` at every bar of ``history`` (NaN where undefined), one O(n) pass."""
     rv = rolling_vol(history, key, window, annualization=annualization)
-    vals = rv.values.to_numpy()
+    vals = rv.vols
     out = np.full(history.n, np.nan)
-    if rv.invalid_dates:  # bars with inconsistent OHLC are missing from the series
-        out[history.index.get_indexer(rv.values.index)] = vals
+    if rv.invalid_dates:  # bars with inconsistent OHLC are missing from the series (dates sorted, unique)
+        out[np.searchsorted(history.dates, rv.dates)] = vals
     else:  # the series runs contiguously to the last bar
         out[history.n - vals.size:] = vals
     return out

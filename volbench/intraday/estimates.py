@@ -152,4 +152,4 @@ def realized_rolling(
         raise EstimatorUnavailable(key, f"window {w} needs {w} days with intraday returns, has {len(v)}")
     m = np.maximum(rolling_mean(v.to_numpy(), w)[w - 1:], 0.0)
     values = pd.Series(np.sqrt(a * m), index=v.index[w - 1:], name=key)
-    return RollingVol(key, label, w, a, values, ())
+    return RollingVol.from_series(key, label, w, a, values, ())

@@ -7,7 +7,7 @@ A pricing vol is placed by its percentile in the cone column matching the option
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -16,7 +16,7 @@ import pandas as pd
 from volbench import validate
 from volbench.data.history import PriceHistory, _iso
 from volbench.errors import VolbenchError
-from volbench.estimators import get_spec, rolling_windows
+from volbench.estimators import RollingVol, get_spec, rolling_windows
 from volbench.frames import frame, labels
 from volbench.types import (
     DEFAULT_ANNUALIZATION,
@@ -238,7 +238,7 @@ class Cone:
     table: pd.DataFrame
     dropped: dict[int, str] = field(default_factory=dict)
     notes: tuple[str, ...] = ()
-    rolling: dict[int, pd.Series] = field(default_factory=dict, repr=False)
+    rolling: Mapping[int, pd.Series] = field(default_factory=dict, repr=False)
 
     @property
     def windows(self) -> tuple[int, ...]:
@@ -246,7 +246,8 @@ class Cone:
 
     def _sample(self, window: int, adjusted: bool) -> np.ndarray:
         """The column's values, in date order (stretched about the mean under Hodges-Tompkins)."""
-        x = self.rolling[window].to_numpy()
+        r = self.rolling
+        x = r.vols(window) if isinstance(r, RollingColumns) else r[window].to_numpy()
         if adjusted:
             mean = float(self.table.at[window, "mean"])
             x = mean + float(self.table.at[window, "ht_factor"]) * (x - mean)
@@ -407,17 +408,17 @@ def vol_cone(
     h = select_range(history, start, end)
     obs = h.n - spec.extra_bars
     rows: dict[int, dict] = {}
-    rolling: dict[int, pd.Series] = {}
+    rolling: dict[int, RollingVol] = {}
     notes: list[str] = []
     qs = np.fromiter(PERCENTILES.values(), dtype=float)
     kept, dropped = _columns(h, spec, ws, a)
     for w, rv in kept.items():
-        vals = rv.values.to_numpy()
+        vals = rv.vols
         n = len(vals)
         if rv.invalid_dates:
             notes.append(f"window {w}: {len(rv.invalid_dates)} rolling value(s) left out because bars have "
                          "high below low or prices outside their range; exclude flagged rows")
-        last = rv.values.index.values[-1]
+        last = rv.dates[-1]
         if last != h.dates[-1]:
             notes.append(f"window {w}: current value is from {_iso(last)}, "
                          f"the last valid window before {h.last_date}")
@@ -439,7 +440,7 @@ def vol_cone(
             row["ht_factor"] = f
             row.update(zip((f"{k}_adj" for k in PERCENTILES), np.maximum(adj, 0.0).tolist()))
         rows[w] = row
-        rolling[w] = rv.values
+        rolling[w] = rv
     if spec.memory == "all":
         note = spec.candidate_note({}) if spec.candidate_note is not None else "every past return counts"
         notes.append(f"{spec.short or spec.label} weighs {note.replace('all past returns', 'every past return')}; "
@@ -451,7 +452,27 @@ def vol_cone(
                   pd.Index(np.fromiter(rows, dtype=np.int64, count=len(rows)), name="window"))
     return Cone(name=h.name, estimator=spec.key, label=spec.label, annualization=a, start=h.first_date,
                 end=h.last_date, rows=h.n, hodges_tompkins=bool(hodges_tompkins), table=table,
-                dropped=dropped, notes=tuple(notes), rolling=rolling)
+                dropped=dropped, notes=tuple(notes), rolling=RollingColumns(rolling))
+
+
+class RollingColumns(Mapping):
+    """Window -> the rolling vol Series behind a cone column, each built from its arrays on first use."""
+
+    def __init__(self, columns: Mapping[int, RollingVol]) -> None:
+        self._columns = dict(columns)
+
+    def __getitem__(self, window: int) -> pd.Series:
+        return self._columns[window].values
+
+    def __iter__(self):
+        return iter(self._columns)
+
+    def __len__(self) -> int:
+        return len(self._columns)
+
+    def vols(self, window: int) -> np.ndarray:
+        """The column's values as a read-only array (no Series built)."""
+        return self._columns[window].vols
 
 
 def _columns(h: PriceHistory, spec, ws: tuple[int, ...], a: float) -> tuple[dict, dict[int, str]]:
@@ -464,7 +485,7 @@ def _columns(h: PriceHistory, spec, ws: tuple[int, ...], a: float) -> tuple[dict
         if w in reasons:
             dropped[w] = reasons[w]
             continue
-        n = len(series[w].values)
+        n = len(series[w].vols)
         if n < 2:
             dropped[w] = (f"window {w} gives {n} rolling value{'s' if n != 1 else ''}; a cone column needs "
                           f"at least 2, i.e. {spec.bars_needed(w) + 1} rows, history has {h.n}")
@@ -512,6 +533,6 @@ def place_in_cone(
     kept, _ = _columns(history, spec, ws, a)
 
     def rank(vol: float, window: int) -> float:
-        return rank_unsorted(kept[window].values.to_numpy(), vol)
+        return rank_unsorted(kept[window].vols, vol)
 
     return tuple(None if v is None else place_vol(v, days, tuple(kept), rank, spec.label) for v in vols)

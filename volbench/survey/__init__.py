@@ -18,12 +18,19 @@ from volbench.survey.engines import (
 from volbench.survey.paths import expand_paths
 from volbench.survey.record import SurveyRecord
 from volbench.survey.series import survey_file, survey_history, survey_paths
-from volbench.survey.settings import DEFAULT_DAYS, SurveySettings, read_pricing_vols
+from volbench.survey.settings import (
+    DEFAULT_DAYS,
+    SURVEY_GARCH,
+    SurveySettings,
+    read_pricing_vols,
+    survey_groups,
+)
 
 __all__ = [
     "DEFAULT_DAYS",
     "ENGINES",
     "SCHEDULER_ENV",
+    "SURVEY_GARCH",
     "SurveyCancelled",
     "SurveyRecord",
     "SurveyResult",
@@ -34,6 +41,7 @@ __all__ = [
     "resolve_engine",
     "run_survey",
     "survey_file",
+    "survey_groups",
     "survey_history",
     "survey_paths",
 ]

@@ -8,6 +8,7 @@ same numbers whichever engine, worker or task ran it.
 from __future__ import annotations
 
 from collections.abc import Sequence
+from dataclasses import replace
 from pathlib import Path
 
 from threadpoolctl import threadpool_limits
@@ -69,8 +70,8 @@ def _count(history: PriceHistory) -> dict[str, int]:
 
 
 def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> SurveyRecord:
-    a, days, window = s.annualization, s.days, s.estimate_window
-    report = estimate_all(h, window, annualization=a)
+    a, days, window, e = s.annualization, s.days, s.estimate_window, s.estimation
+    report = estimate_all(h, window, as_of=e.as_of, annualization=a, confidence=e.confidence, **e.options)
     unavailable = dict(report.unavailable)
     if not report.estimates:
         reasons = "; ".join(f"{k}: {r}" for k, r in report.unavailable.items())
@@ -82,9 +83,9 @@ def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> Su
 
     current = cone_pct = pv_pct = None
     try:  # the cone's own definition of "today's" vol: the last value of the rolling series
-        values = rolling_vol(h, s.cone_estimator, days, annualization=a).values
-        if values.index.values[-1] == h.dates[-1]:
-            current = float(values.to_numpy()[-1])
+        rolled = rolling_vol(h, s.cone_estimator, days, annualization=a)
+        if rolled.dates.size and rolled.dates[-1] == h.dates[-1]:
+            current = float(rolled.vols[-1])
         else:
             unavailable["current_vol"] = (f"{s.cone_estimator} over the last {days} bars is undefined: bars in it "
                                           "have high below low or prices outside their range; exclude flagged rows")
@@ -101,7 +102,7 @@ def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> Su
     verdicts: dict[str, str] = {}
     try:
         verdicts = {v.property: v.status  # scaling_check's verdicts, without its tables
-                    for v in scaling_verdicts(h, s.horizons, alpha=s.alpha, annualization=a)}
+                    for v in scaling_verdicts(h, s.scaling.horizons, alpha=s.scaling.alpha, annualization=a)}
     except VolbenchError as exc:
         unavailable["verdicts"] = str(exc)
 
@@ -117,19 +118,11 @@ def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> Su
     )
 
 
-def garch_horizons(days: int) -> tuple[int, ...]:
-    """Term-structure horizons of the survey's fits: ``volbench garch``'s defaults, plus ``days``."""
-    from volbench.models import DEFAULT_TERM_HORIZONS
-
-    return tuple(sorted(set(DEFAULT_TERM_HORIZONS) | {days}))
-
-
 def _forward_vol(h: PriceHistory, s: SurveySettings, unavailable: dict) -> tuple[float | None, str | None]:
     from volbench.models import DIST_REGISTRY, FALLBACK, fit_models
-    from volbench.settings import GarchSettings
 
-    try:
-        settings = GarchSettings(models=s.garch_models, dist=s.garch_dist, horizons=garch_horizons(s.days))
+    try:  # the garch group's fits, with the option's life among the forecast horizons
+        settings = replace(s.garch, horizons=tuple(sorted(set(s.garch.horizons) | {s.days})))
         comp = fit_models(h, settings, annualization=s.annualization)
         vol = comp.forward_vol(s.days)
     except VolbenchError as exc:

@@ -1,5 +1,12 @@
 """What a survey computes for every series: one frozen, validated settings object.
 
+A survey's settings are the run's settings groups (:class:`volbench.settings.Settings`: how files
+are read, the estimation window and annualization, the cone, the scaling check, the GARCH fits and
+any group added later) plus what only a survey has: the option's life and a pricing vol for
+every series or per series. The command line builds the groups with the same helpers as every
+other command (``volbench.cli.options``), so a group added for every data command reaches each
+survey worker without a change here.
+
 The same object travels to every worker (a process of the local pool or a Dask worker), so it
 holds plain values only and pickles cheaply.
 """
@@ -10,21 +17,37 @@ import csv
 import io
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from types import MappingProxyType
 
 from volbench import validate
 from volbench.data.options import ImportOptions
 from volbench.errors import VolbenchError
-from volbench.estimators import get_spec
-from volbench.pricing.bsm import check_pricing_vol
-from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, _check_days, _check_windows
-from volbench.scaling.check import DEFAULT_HORIZONS, check_alpha, check_horizons
-from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_window
+from volbench.settings import (
+    ConeSettings,
+    EstimationSettings,
+    GarchSettings,
+    ScalingSettings,
+    Settings,
+    group_types,
+)
+from volbench.types import DEFAULT_ANNUALIZATION, DEFAULT_CONE_WINDOWS
 
 DEFAULT_DAYS = 21
 """Option life in bars when none is given: about one calendar month of trading days (common practice)."""
+
+SURVEY_GARCH = GarchSettings(models=("garch",))
+"""The fits of ``--with-garch`` when no model is named: GARCH(1,1), normal innovations (one fit a series)."""
+
+KNOWN_GROUPS = ("import_options", "estimation", "cone", "scaling", "garch", "option")
+"""Groups the survey reads field by field; any other group is recorded as it is (:meth:`SurveySettings.as_dict`)."""
+
+
+def survey_groups(**groups) -> Settings:
+    """The survey's default groups (estimation, cone, scaling; no GARCH), with ``groups`` replaced."""
+    return Settings(**{"estimation": EstimationSettings(), "cone": ConeSettings(), "scaling": ScalingSettings(),
+                       "garch": None, **groups})
 
 
 @dataclass(frozen=True)
@@ -33,67 +56,59 @@ class SurveySettings:
 
     Attributes
     ----------
-    window
-        Bars in the estimation window of the point estimates; ``None`` means ``days`` (the
-        window that matches the option's life, as ``volbench compare`` uses).
+    groups
+        The run's settings groups (:class:`volbench.settings.Settings`): ``estimation`` (window,
+        annualization, interval level, estimator options; a window of ``None`` means ``days``,
+        the window that matches the option's life, as ``volbench compare`` uses), ``cone``
+        (estimator and windows), ``scaling`` (horizons, level), ``garch`` (``None``: no fits;
+        else the models ranked by BIC as ``volbench garch`` does, the preferred model's forward
+        vol over ``days`` bars), ``import_options`` and any group added later.
     days
         Option life in bars: the cone column the vols are placed in and the GARCH forward-vol
         horizon.
-    annualization
-        Bars per year.
     pricing_vol
         One proposed pricing vol for every series (decimal), or ``None``.
     pricing_vols
         Pricing vol per series name (symbol, or file stem for a one-series file); read with
         :func:`read_pricing_vols`. Takes precedence over ``pricing_vol`` for the names it holds.
-    with_garch, garch_models, garch_dist
-        Fit GARCH-family models (all of ``garch_models``, ranked by BIC as ``volbench garch`` does)
-        and report the preferred model's forward vol over ``days`` bars.
-    cone_estimator, cone_windows
-        Estimator and windows of the volatility cone (the defaults of ``volbench cone``).
-    horizons, alpha
-        Horizons and significance level of the scaling check (the defaults of ``volbench scaling``).
-    import_options
-        How files are read (:class:`volbench.data.ImportOptions`), as for every data command.
     """
 
-    window: int | None = None
+    groups: Settings = field(default_factory=survey_groups)
     days: int = DEFAULT_DAYS
-    annualization: float = DEFAULT_ANNUALIZATION
     pricing_vol: float | None = None
     pricing_vols: Mapping[str, float] = field(default_factory=dict)
-    with_garch: bool = False
-    garch_models: tuple[str, ...] = ("garch",)
-    garch_dist: str = "normal"
-    cone_estimator: str = "close_to_close"
-    cone_windows: tuple[int, ...] = DEFAULT_CONE_WINDOWS
-    horizons: tuple[int, ...] = DEFAULT_HORIZONS
-    alpha: float = 0.05
-    import_options: ImportOptions = field(default_factory=ImportOptions)
 
     def __post_init__(self) -> None:
         set_ = object.__setattr__
-        days = _check_days(self.days)
-        set_(self, "days", days)
-        if self.window is not None:
-            w = check_window(self.window, minimum=2)
-            if w is None:
-                raise VolbenchError("a survey window must be a number of bars (>= 2), not 'all'")
-            set_(self, "window", w)
-        set_(self, "annualization", check_annualization(self.annualization))
+        if not isinstance(self.groups, Settings):
+            raise VolbenchError(f"groups must be Settings, got {type(self.groups).__name__}")
+        set_(self, "days", validate.days(self.days))
+        window = self.groups.estimation.window
+        if window is not None and window < 2:
+            raise VolbenchError(f"window must be >= 2 bars, got {window}")
         if self.pricing_vol is not None:
-            set_(self, "pricing_vol", check_pricing_vol(self.pricing_vol))
-        vols = {str(k): check_pricing_vol(v, f"pricing vol of {k!r}") for k, v in dict(self.pricing_vols).items()}
+            set_(self, "pricing_vol", validate.pricing_vol(self.pricing_vol))
+        vols = {str(k): validate.pricing_vol(v, f"pricing vol of {k!r}") for k, v in dict(self.pricing_vols).items()}
         set_(self, "pricing_vols", MappingProxyType(vols))
-        set_(self, "with_garch", bool(self.with_garch))
-        set_(self, "garch_models", validate.models(self.garch_models))
-        set_(self, "garch_dist", validate.distribution(self.garch_dist))
-        set_(self, "cone_estimator", get_spec(self.cone_estimator).key)
-        set_(self, "cone_windows", _check_windows(self.cone_windows))
-        set_(self, "horizons", check_horizons(self.horizons))
-        set_(self, "alpha", check_alpha(self.alpha))
-        if not isinstance(self.import_options, ImportOptions):
-            raise VolbenchError(f"import_options must be ImportOptions, got {type(self.import_options).__name__}")
+
+    @classmethod
+    def build(cls, *, window: int | None = None, days: int = DEFAULT_DAYS,
+              annualization: float = DEFAULT_ANNUALIZATION, pricing_vol: float | None = None,
+              pricing_vols: Mapping[str, float] | None = None, with_garch: bool = False,
+              garch_models=("garch",), garch_dist: str = "normal", cone_estimator: str = "close_to_close",
+              cone_windows=DEFAULT_CONE_WINDOWS, horizons=None, alpha: float = 0.05,
+              import_options: ImportOptions | None = None, **groups) -> SurveySettings:
+        """Settings from plain values (a script's or the window's way), each checked by its group.
+
+        ``groups`` replaces or adds whole groups by :class:`~volbench.settings.Settings` field.
+        """
+        garch = replace(SURVEY_GARCH, models=garch_models, dist=garch_dist) if with_garch else None
+        base = {"import_options": import_options or ImportOptions(),
+                "estimation": EstimationSettings(window=window, annualization=annualization),
+                "cone": ConeSettings(estimator=cone_estimator, windows=cone_windows),
+                "scaling": ScalingSettings(horizons=horizons, alpha=alpha), "garch": garch}
+        return cls(groups=survey_groups(**{**base, **groups}), days=days, pricing_vol=pricing_vol,
+                   pricing_vols=pricing_vols or {})
 
     def __reduce__(self):  # MappingProxyType does not pickle: rebuild from a plain dict
         return (_rebuild, (self._fields(),))
@@ -102,6 +117,47 @@ class SurveySettings:
         out = {name: getattr(self, name) for name in self.__dataclass_fields__}
         out["pricing_vols"] = dict(self.pricing_vols)
         return out
+
+    # ---- what the per-series survey reads, from the groups
+    @property
+    def estimation(self) -> EstimationSettings:
+        return self.groups.estimation
+
+    @property
+    def cone(self) -> ConeSettings:
+        return self.groups.cone or ConeSettings()
+
+    @property
+    def scaling(self) -> ScalingSettings:
+        return self.groups.scaling or ScalingSettings()
+
+    @property
+    def garch(self) -> GarchSettings | None:
+        return self.groups.garch
+
+    @property
+    def import_options(self) -> ImportOptions:
+        return self.groups.import_options
+
+    @property
+    def annualization(self) -> float:
+        return self.groups.annualization
+
+    @property
+    def window(self) -> int | None:
+        return self.estimation.window
+
+    @property
+    def with_garch(self) -> bool:
+        return self.garch is not None
+
+    @property
+    def cone_estimator(self) -> str:
+        return self.cone.estimator
+
+    @property
+    def cone_windows(self) -> tuple[int, ...]:
+        return self.cone.windows
 
     @property
     def estimate_window(self) -> int:
@@ -113,13 +169,21 @@ class SurveySettings:
         return self.pricing_vols.get(name, self.pricing_vol)
 
     def as_dict(self) -> dict:
-        return {"window": self.estimate_window, "days": self.days, "annualization": self.annualization,
-                "pricing_vol": self.pricing_vol, "pricing_vols": len(self.pricing_vols),
-                "with_garch": self.with_garch, "garch_models": list(self.garch_models),
-                "garch_dist": self.garch_dist, "cone_estimator": self.cone_estimator,
-                "cone_windows": list(self.cone_windows), "horizons": list(self.horizons), "alpha": self.alpha,
-                "import": self.import_options.as_dict(),
-                "flagged_rows": "excluded" if self.import_options.exclude_flagged else "kept"}
+        g = self.garch
+        out = {"window": self.estimate_window, "days": self.days, "annualization": self.annualization,
+               "confidence": self.estimation.confidence,
+               "estimator_options": {"zero_mean": self.estimation.zero_mean, "ewma_lambda": self.estimation.lam},
+               "pricing_vol": self.pricing_vol, "pricing_vols": len(self.pricing_vols),
+               "with_garch": g is not None, "garch_models": list(g.models) if g else [],
+               "garch_dist": g.dist if g else None, "cone_estimator": self.cone_estimator,
+               "cone_windows": list(self.cone_windows), "horizons": list(self.scaling.horizons),
+               "alpha": self.scaling.alpha, "import": self.import_options.as_dict(),
+               "flagged_rows": "excluded" if self.import_options.exclude_flagged else "kept"}
+        for name in group_types():  # groups added later, recorded as they are
+            group = getattr(self.groups, name)
+            if name not in KNOWN_GROUPS and group is not None:
+                out[name] = group.as_dict()
+        return out
 
 
 def _rebuild(fields: dict) -> SurveySettings:
@@ -171,7 +235,7 @@ def read_pricing_vols(path: str | Path) -> dict[str, float]:
         if not symbol:
             raise VolbenchError(f"{p}: line {number}, column 1: symbol is empty; fill in the series name")
         try:
-            vol = check_pricing_vol(value, f"pricing vol of {symbol!r}")
+            vol = validate.pricing_vol(value, f"pricing vol of {symbol!r}")
         except VolbenchError as exc:
             raise VolbenchError(f"{p}: line {number}, column 2: {exc}") from None
         if symbol in out:

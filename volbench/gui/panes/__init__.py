@@ -9,6 +9,7 @@ from volbench.gui.panes.model_pane import ModelPane
 from volbench.gui.panes.price_pane import PricePane
 from volbench.gui.panes.rolling_pane import RollingPane
 from volbench.gui.panes.scaling_pane import ScalingPane
+from volbench.gui.panes.survey_pane import SurveyPane
 
 PANES: list[type[Pane]] = [
     DataPane,
@@ -19,6 +20,7 @@ PANES: list[type[Pane]] = [
     ModelPane,
     ControlsPane,
     ComparisonPane,
+    SurveyPane,
 ]
 """Every pane class; the window builds them in this order (tabs in this order, docks by place)."""
 
