@@ -29,6 +29,7 @@ from volbench.estimators import (
 from volbench.models import GarchComparison, fit_models
 from volbench.pricing.compare import Comparison, OptionSpec, compare
 from volbench.pricing.cone import Cone, vol_cone
+from volbench.pricing.daycount import OptionLife
 from volbench.scaling import ScalingResult, scaling_check
 from volbench.settings import ConeSettings, GarchSettings, OptionSettings, ScalingSettings, Settings
 
@@ -101,6 +102,30 @@ def option_spec(option: OptionSettings) -> OptionSpec:
                       kind=option.kind, spot=option.spot)
 
 
+def life_for(history: PriceHistory, settings: Settings) -> OptionLife | None:
+    """The option's life from the history's last date (the as-of date of a comparison) to the
+    expiry, counted in calendar days, ACT/365 years and trading days (``None`` without a life group).
+
+    Raises
+    ------
+    VolbenchError
+        An expiry on or before the history's last date, an empty history.
+    """
+    if settings.life is None:
+        return None
+    if not history.n:
+        raise VolbenchError(f"{history.name}: no rows, so no as-of date to count the option's life from")
+    return settings.life.life(history.last_date)
+
+
+def option_days(history: PriceHistory, settings: Settings) -> int | None:
+    """The option's life in bars for ``history``: its trading days with a life group, else ``option.days``."""
+    life = life_for(history, settings)
+    if life is not None:
+        return life.trading_days
+    return None if settings.option is None else settings.option.days
+
+
 def comparison_for(history: PriceHistory, settings: Settings, *,
                    given: Mapping[str, CandidateSource | str | None] | None = None,
                    cone: Cone | None = None) -> Comparison:
@@ -125,6 +150,13 @@ def comparison_for(history: PriceHistory, settings: Settings, *,
     o = settings.option
     if o is None:
         raise VolbenchError("a comparison needs a pricing vol and the option's life in days")
+    life = life_for(history, settings)
+    if life is None and o.days is None:
+        raise VolbenchError("a comparison needs the option's life: days, or an expiry date")
+    if life is not None and life.trading_days < 1:
+        raise VolbenchError(f"no trading day between {life.as_of} and the expiry {life.expiry}: the option sees "
+                            "no more price moves, so no historical vol applies; choose a later expiry")
+    days = o.days if life is None else life.trading_days
     given = dict(given or {})
     sources: list[CandidateSource] = []
     for name, run in CANDIDATE_PARTS.items():
@@ -141,6 +173,6 @@ def comparison_for(history: PriceHistory, settings: Settings, *,
             except VolbenchError as exc:
                 sources.append(CandidateSet.missing(name, str(exc)))
     c = settings.cone or ConeSettings()
-    return compare(history, o.pricing_vol, o.days, option=option_spec(o), annualization=settings.annualization,
+    return compare(history, o.pricing_vol, days, option=option_spec(o), annualization=settings.annualization,
                    window=o.window, sources=sources, cone_estimator=c.estimator, cone_windows=c.windows, cone=cone,
-                   estimator_options=settings.estimation.options)
+                   estimator_options=settings.estimation.options, life=life)

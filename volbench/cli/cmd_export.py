@@ -33,7 +33,7 @@ def register(sub) -> None:
     p.add_argument("--to", required=True, metavar="PATH",
                    help=f"output file; its suffix picks the format ({', '.join(FORMATS)})")
     add_estimation(p, window="all", as_of="last date used by every table (default: last row of each file)")
-    add_option(p, required=False, title="pricing vol comparison (needs both --pricing-vol and --days)")
+    add_option(p, required=False, title="pricing vol comparison (needs --pricing-vol and --days or --expiry)")
     s = p.add_argument_group("sections")
     add_cone(s)
     add_garch(s, switch="--with-garch", help_switch="add GARCH, GJR and EGARCH fits (takes a few seconds per series)")

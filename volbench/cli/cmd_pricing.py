@@ -18,8 +18,10 @@ from volbench.cli.options import (
     add_cone,
     add_estimation,
     add_garch,
+    add_life,
     add_option,
     add_scaling,
+    life_from_args,
     settings_from_args,
 )
 from volbench.errors import VolbenchError
@@ -73,7 +75,11 @@ def register(sub) -> None:
     p.add_argument("--rate", required=True, metavar="R", help="risk-free rate, continuous, decimal (0.05 = 5%%)")
     p.add_argument("--vol", required=True, metavar="V", type=validate.pricing_vol,
                    help="volatility, decimal below 5 (0.25 = 25%%)")
-    p.add_argument("--years", required=True, metavar="T", help="years to expiry")
+    p.add_argument("--years", default=None, metavar="T",
+                   help="years to expiry (or --expiry / --days with --as-of: years = calendar days / 365)")
+    p.add_argument("--as-of", metavar="YYYY-MM-DD", default=None,
+                   help="valuation date the life is counted from (with --expiry or --days)")
+    add_life(p, title="the option's life by date (instead of --years)")
     p.add_argument("--dividend-yield", default="0", metavar="Q", help="dividend yield, continuous, decimal (default 0)")
     add_format(p)
     p.set_defaults(func=run_price)
@@ -157,7 +163,13 @@ def run_compare(args: argparse.Namespace) -> int:
     atm = " (at the money)" if math.isclose(comp.strike, comp.spot) else ""
     print(f"{h.name}  as of {comp.as_of}  ({h.source.name if h.source else ''}: {h.n} rows"
           f", flagged rows {'excluded' if h.exclude_flagged else 'kept'}{_findings_hint(h)})")
-    print(f"{comp.kind} {comp.days} bars = {comp.years:.4f} years at {comp.annualization:g} bars/year; "
+    if comp.life is None:
+        life = f"{comp.days} bars = {comp.years:.4f} years at {comp.annualization:g} bars/year"
+    else:
+        lf = comp.life
+        life = (f"expiring {lf.expiry}: {lf.calendar_days} calendar days = {lf.years:.4f} years (ACT/365), "
+                f"{lf.trading_days} trading days")
+    print(f"{comp.kind} {life}; "
           f"spot {comp.spot:g}{' (last close)' if settings.option.spot is None else ''}, strike {comp.strike:g}{atm}, "
           f"rate {pct(comp.rate)}, dividend yield {pct(comp.dividend_yield)}")
     print()
@@ -172,6 +184,11 @@ def run_compare(args: argparse.Namespace) -> int:
                        rows, "lrrrrrrl"))
     print(f"estimators over the last {comp.window} bars; gap = candidate - pricing vol; price diff = exact "
           "repricing; vega approx = vega x gap")
+    if comp.life is not None:
+        print(f"history's vols x {comp.basis_factor:.4f} = sqrt(({comp.days} trading days / {comp.annualization:g}) "
+              f"/ {comp.years:.4f} years): the same variance on the ACT/365 basis of the pricing vol")
+        for note in comp.life.notes:
+            print(f"note: {note}")
     missing = dict(comp.unavailable)
     labels = {**{k: REGISTRY[k].label for k in REGISTRY}, "garch": "GARCH", "scaling": "scaling check",
               "bands": "price bands"}
@@ -197,10 +214,27 @@ def run_compare(args: argparse.Namespace) -> int:
 
 
 # ---------------------------------------------------------------------------- price
+def _price_life(args: argparse.Namespace):
+    """Years to expiry and the life by date: --years T, or --expiry / --days (with --day-basis) and --as-of."""
+    life_settings = life_from_args(args)
+    if (args.years is None) == (life_settings is None):
+        got = [o for o, v in (("--years", args.years), ("--expiry", args.expiry), ("--days", args.days)) if v]
+        raise VolbenchError("give the option's life one way: --years T, or --expiry YYYY-MM-DD or --days N "
+                            "(with --day-basis) and --as-of" + (f"; got {', '.join(got)}" if got else ""))
+    if life_settings is None:
+        return _number(args.years, "--years"), None
+    if args.as_of is None:
+        raise VolbenchError(f"{'--expiry' if args.expiry else '--days'} needs --as-of YYYY-MM-DD, the date "
+                            "the life is counted from")
+    validate.date(args.as_of, "as-of date")
+    life = life_settings.life(args.as_of)
+    return life.years, life
+
+
 def run_price(args: argparse.Namespace) -> int:
     spot = _number(args.spot, "--spot")
     strike = _number(args.strike, "--strike")
-    years = _number(args.years, "--years")
+    years, life = _price_life(args)
     vol = args.vol
     rate = check_rate(_number(args.rate, "--rate"), "--rate")
     q = check_rate(_number(args.dividend_yield, "--dividend-yield"), "--dividend-yield")
@@ -210,6 +244,11 @@ def run_price(args: argparse.Namespace) -> int:
             **{k: g.as_dict() for k, g in out.items()},
             "inputs": {"spot": spot, "strike": strike, "years": years, "rate": rate, "vol": vol,
                        "dividend_yield": q},
+            "expiry": None if life is None else life.expiry,
+            "calendar_days": None if life is None else life.calendar_days,
+            "trading_days": None if life is None else life.trading_days,
+            "years": years,
+            "life": None if life is None else life.as_dict(),
             "units": {"vega": "per 1.00 of vol", "vega_point": "per vol point (0.01)",
                       "theta": "per year", "theta_day": "per calendar day (theta / 365)",
                       "rho": "per 1.00 of rate"},
@@ -217,6 +256,11 @@ def run_price(args: argparse.Namespace) -> int:
         return 0
     print(f"Black-Scholes-Merton: spot {spot:g}, strike {strike:g}, {years:g} years, rate {pct(rate)}, "
           f"dividend yield {pct(q)}, vol {pct(vol)}")
+    if life is not None:
+        print(f"life: {life.as_of} to {life.expiry}, {life.calendar_days} calendar days (years = days / 365), "
+              f"{life.trading_days} trading days")
+        for note in life.notes:
+            print(f"note: {note}")
     names = [("price", "price"), ("delta", "delta"), ("gamma", "gamma"), ("vega", "vega (per 1.00 vol)"),
              ("vega_point", "vega (per vol point)"), ("theta", "theta (per year)"),
              ("theta_day", "theta (per calendar day)"), ("rho", "rho (per 1.00 rate)")]
