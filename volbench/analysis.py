@@ -89,11 +89,74 @@ def garch_for(history: PriceHistory, settings: Settings, progress: Progress | No
                       progress=progress, cancel=cancel)
 
 
+def market_for(history: PriceHistory, settings: Settings):
+    """The quotes file's implied vols at the history's last date, and the at-the-money implied vol
+    for the option's expiry (:class:`volbench.market.candidate.MarketView`), with every quoted
+    expiry set against the history (:func:`volbench.market.versus_history`; left out with a note
+    when it cannot be computed).
+
+    The quotes are solved at the option's spot (default the last close), rate and dividend yield.
+    """
+    from volbench.market import implied_surface, versus_history
+    from volbench.market.candidate import market_view
+    from volbench.pricing.daycount import option_life
+
+    q, o = settings.quotes, settings.option
+    if q is None or o is None:
+        raise VolbenchError("market quotes need a comparison: a pricing vol and the option's life")
+    life = life_for(history, settings)
+    if life is None:
+        life = option_life(str(history.last_date)[:10], days=o.days, basis="trading")
+    spot = float(history.close[-1]) if o.spot is None else o.spot
+    holidays = None if settings.life is None else settings.life.holidays
+    surface = implied_surface(q.file, spot=spot, rate=o.rate, as_of=life.as_of, dividend_yield=o.dividend_yield,
+                              holidays=holidays)
+    c = settings.cone or ConeSettings()
+    try:
+        versus = versus_history(surface, history, annualization=settings.annualization, model=q.model,
+                                cone_estimator=c.estimator, cone_windows=c.windows)
+    except VolbenchError:
+        versus = None
+    return market_view(surface, life, versus)
+
+
 CANDIDATE_PARTS: dict[str, Callable[[PriceHistory, Settings], CandidateSource]] = {
     "garch": garch_for,
     "scaling": scaling_for,
+    "quotes": market_for,
 }
 """Parts of a run whose results offer comparison candidates, by :class:`Settings` field, in table order."""
+
+
+def candidate_parts(history: PriceHistory, settings: Settings) -> dict[str, CandidateSource | str | None]:
+    """Every requested candidate part computed once (its result, or the reason it failed), ``None``
+    for a part not requested: pass it as ``given`` to :func:`comparison_for` and to
+    :func:`market_comparison_for`."""
+    out: dict[str, CandidateSource | str | None] = {}
+    for name, run in CANDIDATE_PARTS.items():
+        if getattr(settings, name) is None:
+            out[name] = None
+            continue
+        try:
+            out[name] = run(history, settings)
+        except VolbenchError as exc:
+            out[name] = str(exc)
+    return out
+
+
+def market_comparison_for(comparison: Comparison, parts: Mapping[str, CandidateSource | str | None],
+                          cone: Cone | None = None):
+    """The market's implied vol against the comparison (:func:`volbench.market.candidate.market_comparison`),
+    with the GARCH-family headline forward vol as the forecast when it was fitted (else EWMA);
+    ``None`` without a market view in ``parts``."""
+    from volbench.market.candidate import MarketView, market_comparison
+
+    view = parts.get("quotes")
+    if not isinstance(view, MarketView):
+        return None
+    garch = parts.get("garch")
+    forecast = garch.candidates(comparison.days).headline if isinstance(garch, CandidateSource) else None
+    return market_comparison(comparison, view, forecast=forecast, cone=cone)
 
 
 def option_spec(option: OptionSettings) -> OptionSpec:

@@ -336,6 +336,36 @@ class LifeSettings(_Group):
 
 
 @dataclass(frozen=True)
+class QuotesSettings(_Group):
+    """A market quotes file for the comparison: its at-the-money implied vol becomes a candidate.
+
+    Attributes
+    ----------
+    file
+        Option-quotes CSV (:func:`volbench.market.quotes.read_quotes`), read once when the
+        settings are built; afterwards the :class:`~volbench.market.quotes.OptionQuotes` read.
+    date_format
+        ``strftime`` format of the expiry column when it is not ISO.
+    model
+        GARCH-family model fitted for each quoted expiry's forecast (the per-expiry market table).
+    """
+
+    file: Any
+    date_format: str | None = None
+    model: str = "garch"
+
+    def __post_init__(self) -> None:
+        from volbench.market.quotes import OptionQuotes, read_quotes
+
+        _set(self, "model", validate.model(self.model))
+        if not isinstance(self.file, OptionQuotes):
+            _set(self, "file", read_quotes(self.file, date_format=self.date_format))
+
+    def as_dict(self) -> dict:
+        return {**self.file.provenance(), "date_format": self.date_format, "model": self.model}
+
+
+@dataclass(frozen=True)
 class Settings:
     """One run's settings: a group object per part, ``None`` for a part not requested.
 
@@ -350,6 +380,8 @@ class Settings:
     life
         The option's life as an expiry date or days on a basis (``None``: the life is
         ``option.days`` bars, years = days / annualization).
+    quotes
+        A market quotes file whose at-the-money implied vol joins the comparison (``None``: none).
     created
         Time stamped on outputs (default: now, UTC).
     """
@@ -361,6 +393,7 @@ class Settings:
     garch: GarchSettings | None = None
     option: OptionSettings | None = None
     life: LifeSettings | None = None
+    quotes: QuotesSettings | None = None
     created: datetime | None = None
 
     def __post_init__(self) -> None:

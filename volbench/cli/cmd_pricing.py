@@ -155,9 +155,17 @@ def _pick_series(histories, name):
 def run_compare(args: argparse.Namespace) -> int:
     settings = settings_from_args(args)
     history = _pick_series(load_from_args(args, settings), args.series)
-    comp = analysis.comparison_for(history, settings)
+    given = analysis.candidate_parts(history, settings)
+    try:
+        cone = analysis.cone_for(history, settings)
+    except VolbenchError:  # the comparison says why
+        cone = None
+    comp = analysis.comparison_for(history, settings, given=given, cone=cone)
+    market = analysis.market_comparison_for(comp, given, cone)
     if args.format == "json":
-        print_json(with_import(comp.as_dict(), history))
+        doc = with_import(comp.as_dict(), history)
+        doc["market"] = None if market is None else _market_json(market, given["quotes"])
+        print_json(doc)
         return 0
     h = history
     atm = " (at the money)" if math.isclose(comp.strike, comp.spot) else ""
@@ -191,8 +199,8 @@ def run_compare(args: argparse.Namespace) -> int:
             print(f"note: {note}")
     missing = dict(comp.unavailable)
     labels = {**{k: REGISTRY[k].label for k in REGISTRY}, "garch": "GARCH", "scaling": "scaling check",
-              "bands": "price bands"}
-    hints = {"garch": "add --with-garch", "scaling": "add --with-scaling"}
+              "bands": "price bands", "market": "market implied vol", "quotes": "market implied vol"}
+    hints = {"garch": "add --with-garch", "scaling": "add --with-scaling", "quotes": "add --quotes FILE"}
     if missing:
         parts = []
         for k, why in missing.items():
@@ -209,8 +217,48 @@ def run_compare(args: argparse.Namespace) -> int:
         print(f"- {line}")
     for line in comp.caveats:
         print(f"note: {line}")
+    if market is not None:
+        _print_market(market, given["quotes"])
     print(f"\n{CAUTION}")
     return 0
+
+
+def _market_json(market, view) -> dict:
+    """The market comparison with the quotes' term structure and each quoted expiry against the history."""
+    surface = view.surface
+    return {**market.as_dict(), "term_method": view.as_dict()["term_method"],
+            "atm_method": surface.method, "source": dict(surface.source),
+            "term_structure": [e.as_dict() for e in surface.expiries],
+            "versus_history": None if view.versus is None else [r.as_dict() for r in view.versus.rows],
+            "findings": [f.as_dict() for f in surface.findings]}
+
+
+def _print_market(market, view) -> None:
+    print()
+    print(f"market: at-the-money implied vol from {view.surface.source.get('source_file')} "
+          f"(vols on the ACT/365 basis; gaps in vol points)")
+    rows = [["ATM implied", pct(market.atm_implied_vol), ""]]
+    if market.atm_implied_vol is not None:
+        rows.append(["implied - pricing vol", "", f"{market.implied_minus_pricing_points:+.2f}"])
+        if market.realized_vol is not None:
+            rows.append([f"implied - realized ({market.realized_label})", pct(market.realized_vol),
+                         f"{market.implied_minus_realized_points:+.2f}"])
+        if market.forecast_vol is not None:
+            rows.append([f"implied - forecast ({market.forecast_label})", pct(market.forecast_vol),
+                         f"{market.spread_points:+.2f}"])
+        rows.append(["implied vol's cone percentile", "",
+                     "n/a" if market.cone_percentile is None else f"{market.cone_percentile:.0f}"])
+    print(render_table(["", "vol", "gap (pts)"], rows, "lrr"))
+    term = [[e.expiry, e.life.trading_days, f"{e.life.years:.4f}", pct(e.atm_implied_vol),
+             "" if e.forward_implied_vol is None else pct(e.forward_implied_vol),
+             "CALENDAR ARBITRAGE" if e.calendar_arbitrage else ""] for e in view.surface.expiries]
+    print("implied term structure (years = calendar days / 365; forward vol from the previous expiry):")
+    print(render_table(["expiry", "trading days", "years", "ATM vol", "forward vol", ""], term, "lrrrrl"))
+    for line in market.reading:
+        print(f"- {line}")
+    n = sum(f.severity == "error" for f in view.surface.findings)
+    if n:
+        print(f"note: {n} quote row{'s' if n != 1 else ''} left out; 'volbench implied' lists them")
 
 
 # ---------------------------------------------------------------------------- price

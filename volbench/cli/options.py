@@ -29,6 +29,7 @@ from volbench.settings import (
     GarchSettings,
     LifeSettings,
     OptionSettings,
+    QuotesSettings,
     ScalingSettings,
     Settings,
     group_types,
@@ -235,6 +236,7 @@ def add_option(p: argparse.ArgumentParser, *, required: bool = True, window: boo
                        help="bars behind each estimator's candidate vol (default: the option's life in trading days)")
     _register(p, "option", required=required)
     add_life(p, title="the option's life (docs/METHODS.md, Day counts and the option's life)")
+    add_quotes(p)
 
 
 def _life_given(args: argparse.Namespace) -> bool:
@@ -291,6 +293,29 @@ def life_from_args(args: argparse.Namespace) -> LifeSettings | None:
                         holidays=args.holidays)
 
 
+# ---------------------------------------------------------------------------- market quotes
+def add_quotes(p: argparse.ArgumentParser) -> None:
+    """--quotes FILE (an option-quotes CSV whose at-the-money implied vol joins the comparison)."""
+    g = p.add_argument_group("market quotes (docs/METHODS.md, Implied vol and option quotes)")
+    g.add_argument("--quotes", metavar="FILE", default=None,
+                   help="option quotes (expiry, strike, type, mid or bid/ask) taken at the as-of date: adds the "
+                        "at-the-money implied vol for the option's expiry as a candidate and sets it against "
+                        "the realized vol and the forecast (implied minus forecast: the variance risk premium)")
+    g.add_argument("--quotes-date-format", metavar="FMT", default=None,
+                   help="strftime format of the quotes' expiry column when it is not ISO")
+    _register(p, "quotes")
+
+
+def quotes_from_args(args: argparse.Namespace) -> QuotesSettings | None:
+    if args.quotes is None:
+        if args.quotes_date_format is not None:
+            raise VolbenchError("--quotes-date-format describes a quotes file: also give --quotes FILE")
+        return None
+    if getattr(args, "pricing_vol", None) is None:
+        raise VolbenchError("--quotes joins a comparison: also give --pricing-vol and --days (or --expiry)")
+    return QuotesSettings(file=args.quotes, date_format=args.quotes_date_format)
+
+
 # ---------------------------------------------------------------------------- the groups
 @dataclass(frozen=True)
 class OptionGroup:
@@ -313,6 +338,7 @@ GROUPS: dict[str, OptionGroup] = {
         OptionGroup("garch", add_garch, garch_from_args),
         OptionGroup("option", add_option, option_from_args),
         OptionGroup("life", add_life, life_from_args),
+        OptionGroup("quotes", add_quotes, quotes_from_args),
     )
 }
 """Every settings group the command line knows, by :class:`Settings` field."""

@@ -303,13 +303,25 @@ def comparison_section(histories: Sequence[PriceHistory], settings: Settings,
     offer candidates (GARCH, scaling), so nothing is computed twice.
     """
 
+    markets: dict[str, Any] = {}
+
     def compute(h: PriceHistory):
         offered = {name: part.outcome(h.name) for name, part in parts.items()}
-        return analysis.comparison_for(h, settings, given=offered)
+        if settings.quotes is not None:  # the market's implied vol: a candidate, and its own reading
+            try:
+                offered["quotes"] = analysis.market_for(h, settings)
+            except VolbenchError as exc:
+                offered["quotes"] = str(exc)
+        comp = analysis.comparison_for(h, settings, given=offered)
+        markets[h.name] = analysis.market_comparison_for(comp, offered)
+        return comp
 
     results, failed = _run("comparison", histories, compute, given)
     frames, notes = [], []
     for name, c in results.items():
+        market = markets.get(name)
+        if market is not None:
+            notes += [_note("comparison", name, "market", t) for t in market.reading]
         front = {k: getattr(c, k) for k in COMPARISON_FRONT[1:]}
         front["cone_percentile"] = np.nan if c.cone_percentile is None else float(c.cone_percentile)
         front.update(expiry=None if c.life is None else c.life.expiry,  # the option's life by date

@@ -357,6 +357,8 @@ def _row(c: Candidate, default_note: str, factor: float = 1.0) -> dict:
     def scaled(v):
         return None if v is None else v * factor
 
+    if c.on_pricing_basis:  # an implied vol is already on the pricing vol's basis
+        factor = 1.0
     return {"source": c.source, "key": c.key, "label": c.label, "window": c.window, "vol": c.vol * factor,
             "ci_low": scaled(c.ci_low), "ci_high": scaled(c.ci_high), "note": c.note or default_note}
 
@@ -413,12 +415,13 @@ def _range_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
 def _headline_line(c: Comparison, cs: CandidateSet) -> list[str]:
     """A source's lead candidate (e.g. the preferred fit); a fallback's number is named as such."""
     head = cs.headline
-    vol = head.vol * c.basis_factor  # on the pricing vol's basis, as in the table
+    vol = head.vol * (1.0 if head.on_pricing_basis else c.basis_factor)  # on the pricing vol's basis, as in the table
     gap_points = 100.0 * (vol - c.pricing_vol)
     side = "below" if gap_points < 0 else "above"
     gap = f"{points(abs(gap_points))} vol points {side} the pricing vol"
     if head.fallback is None:
-        return [f"{head.label} {cs.what} over {c.days} bars is {pct(vol, 1)}, {gap}"]
+        over = f"for {c.life.expiry}" if head.on_pricing_basis and c.life is not None else f"over {c.days} bars"
+        return [f"{head.label} {cs.what} {over} is {pct(vol, 1)}, {gap}"]
     return [(f"no {cs.title} gave a usable forecast, so the {cs.what} over {c.days} bars is a fallback's: "
              f"{pct(vol, 1)} from {head.fallback}; {gap}")]
 
