@@ -233,6 +233,8 @@ class OptionSettings(_Group):
         ``"call"`` or ``"put"``.
     window
         Bars behind each estimator's candidate vol; ``None`` uses the option's life (``days``).
+    premium
+        An observed premium of this option, to solve for its implied vol (``None``: none).
     """
 
     pricing_vol: float
@@ -243,8 +245,10 @@ class OptionSettings(_Group):
     dividend_yield: float = 0.0
     kind: OptionType = "call"
     window: int | None = None
+    premium: float | None = None
 
     def __post_init__(self) -> None:
+        _set(self, "premium", validate.price(self.premium, "premium"))
         _set(self, "pricing_vol", validate.pricing_vol(self.pricing_vol))
         if self.days is not None:
             _set(self, "days", validate.days(self.days))

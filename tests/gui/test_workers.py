@@ -99,18 +99,21 @@ def test_synchronous_mode_runs_the_job_before_submit_returns(qtbot):
     assert got == [(1, 1, "done"), threading.get_ident()]
 
 
-EVERYTHING = ["rolling", "estimates", "cone", "placement", "scaling", "garch", "forward", "comparison", "bands"]
+EVERYTHING = ["rolling", "estimates", "cone", "life", "placement", "scaling", "garch", "forward", "comparison",
+              "bands", "implied"]
 
 
 @pytest.mark.parametrize(("changed", "expected"), [
     ({"window"}, ["rolling", "estimates"]),
-    ({"days"}, ["placement", "forward", "comparison", "bands"]),
-    ({"pricing_vol"}, ["placement", "comparison", "bands"]),
-    ({"garch_dist"}, ["garch", "forward", "comparison", "bands"]),
-    ({"annualization"}, EVERYTHING),
+    ({"days"}, ["life", "placement", "forward", "comparison", "bands", "implied"]),
+    ({"expiry"}, ["life", "placement", "forward", "comparison", "bands", "implied"]),
+    ({"premium"}, ["implied"]),
+    ({"pricing_vol"}, ["placement", "comparison", "bands", "implied"]),
+    ({"garch_dist"}, ["garch", "forward", "comparison", "bands", "implied"]),
+    ({"annualization"}, [k for k in EVERYTHING if k != "life"]),  # the life counts days, not bars a year
     ({"exclude_flagged"}, EVERYTHING),
     ({"estimators"}, []),
-    ({"cone_estimator"}, ["cone", "placement", "comparison", "bands"]),
+    ({"cone_estimator"}, ["cone", "placement", "comparison", "bands", "implied"]),
 ])
 def test_a_change_recomputes_only_what_depends_on_it(changed, expected):
     assert jobs_for(frozenset(changed)) == expected
