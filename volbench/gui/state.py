@@ -38,6 +38,7 @@ from volbench.settings import (
     Settings,
 )
 
+
 @dataclass(frozen=True)
 class LifeChoice:
     """The window's option life: days on a basis, or an expiry date, which wins when set.

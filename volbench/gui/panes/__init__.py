@@ -5,6 +5,7 @@ from volbench.gui.panes.comparison_pane import ComparisonPane
 from volbench.gui.panes.cone_pane import ConePane
 from volbench.gui.panes.controls import ControlsPane
 from volbench.gui.panes.data_pane import DataPane
+from volbench.gui.panes.life_pane import LifePane
 from volbench.gui.panes.model_pane import ModelPane
 from volbench.gui.panes.price_pane import PricePane
 from volbench.gui.panes.rolling_pane import RollingPane
@@ -18,6 +19,7 @@ PANES: list[type[Pane]] = [
     ConePane,
     ModelPane,
     ControlsPane,
+    LifePane,
     ComparisonPane,
 ]
 """Every pane class; the window builds them in this order (tabs in this order, docks by place)."""

@@ -102,7 +102,7 @@ class ComparisonPane(Pane):
             elif kind in c.unavailable and c.unavailable[kind] != "not requested":
                 missing.append(f"{words}: {c.unavailable[kind]}")
         for key, why in c.unavailable.items():
-            if key not in PENDING_WORDS and key != "cone":
+            if key not in PENDING_WORDS and key != "cone" and why != "not requested":
                 missing.append(f"{key.replace('_', ' ')}: {why}")
         extra = ("<p style='color:#5A5F56'>Not shown: " + "; ".join(missing) + "</p>") if missing else ""
         self.reading.setText("<b>Reading</b><ul style='margin-left:-20px'>" + "".join(lines) + "</ul>" + extra
