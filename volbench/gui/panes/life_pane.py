@@ -37,13 +37,13 @@ def _combo(name: str, items) -> QComboBox:
 
 
 class LifePane(Pane):
-    key, title, place = "life", "Option life and implied vol", "left"
+    key, title, place = "life", "Option life and implied vol", "tab"
 
     def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
         super().__init__(state, results, parent)
         self.bindings: list[Binding] = []
         outer = QVBoxLayout(self)
-        outer.setContentsMargins(6, 6, 6, 6)
+        outer.setContentsMargins(12, 12, 12, 12)
 
         g1 = QGroupBox("Option life")
         f1 = QFormLayout(g1)
@@ -68,8 +68,8 @@ class LifePane(Pane):
         self.summary = QLabel()
         self.summary.setObjectName("life_summary")
         self.summary.setWordWrap(True)
-        f1.addRow(self.summary)
         outer.addWidget(g1)
+        outer.addWidget(self.summary)
 
         g2 = QGroupBox("Solve for vol from a premium")
         f2 = QFormLayout(g2)
@@ -82,17 +82,21 @@ class LifePane(Pane):
         self.premium.setKeyboardTracking(False)
         self.premium.setToolTip("An observed premium of the option above (its strike, type, rate, yield and life)")
         f2.addRow("Premium", self.premium)
-        self.implied = QLabel()
-        self.implied.setObjectName("implied_result")
-        self.implied.setWordWrap(True)
-        f2.addRow(self.implied)
         self.use = QPushButton("Use as pricing vol")
         self.use.setObjectName("use_implied_button")
         self.use.setToolTip("Take this implied vol as the pricing vol of the comparison")
         self.use.clicked.connect(self._use_implied)
         f2.addRow(self.use)
+        self.implied = QLabel()
+        self.implied.setObjectName("implied_result")
+        self.implied.setWordWrap(True)
         outer.addWidget(g2)
+        outer.addWidget(self.implied)
+        outer.addWidget(QLabel("Statistical estimates with model risk, not advice; your firm's validation policy "
+                               "governs their use."))
         outer.addStretch(1)
+        for box in (g1, g2, self.summary, self.implied):
+            box.setMaximumWidth(760)
 
         self._bind("days", self.days, self.days.valueChanged, self.days.value, self.days.setValue)
         self._bind("day_basis", self.basis, self.basis.currentIndexChanged, self.basis.currentData,
@@ -168,6 +172,10 @@ class LifePane(Pane):
                       "horizon).")]
             lines += [f"Note: {n}." for n in life.notes]
             self.summary.setText(" ".join(lines))
+            if self.state.expiry is None:  # days mode: show the expiry the days reach (no state change)
+                self.expiry.blockSignals(True)
+                self._write_expiry(life.expiry)
+                self.expiry.blockSignals(False)
         iv = self.results.get("implied")
         self.use.setEnabled(iv is not None and iv.ok)
         if iv is None:
