@@ -99,21 +99,23 @@ def test_synchronous_mode_runs_the_job_before_submit_returns(qtbot):
     assert got == [(1, 1, "done"), threading.get_ident()]
 
 
-EVERYTHING = ["rolling", "estimates", "cone", "life", "placement", "scaling", "garch", "forward", "comparison",
-              "bands", "implied"]
+EVERYTHING = ["rolling", "estimates", "cone", "life", "placement", "scaling", "garch", "forward", "quotes",
+              "comparison", "market", "bands", "implied"]
+AFTER_COMPARISON = ["comparison", "market", "bands", "implied"]
 
 
 @pytest.mark.parametrize(("changed", "expected"), [
     ({"window"}, ["rolling", "estimates"]),
-    ({"days"}, ["life", "placement", "forward", "comparison", "bands", "implied"]),
-    ({"expiry"}, ["life", "placement", "forward", "comparison", "bands", "implied"]),
+    ({"days"}, ["life", "placement", "forward", "quotes", *AFTER_COMPARISON]),
+    ({"expiry"}, ["life", "placement", "forward", "quotes", *AFTER_COMPARISON]),
     ({"premium"}, ["implied"]),
-    ({"pricing_vol"}, ["placement", "comparison", "bands", "implied"]),
-    ({"garch_dist"}, ["garch", "forward", "comparison", "bands", "implied"]),
+    ({"quotes_file"}, ["quotes", *AFTER_COMPARISON]),
+    ({"pricing_vol"}, ["placement", *AFTER_COMPARISON]),
+    ({"garch_dist"}, ["garch", "forward", *AFTER_COMPARISON]),
     ({"annualization"}, [k for k in EVERYTHING if k != "life"]),  # the life counts days, not bars a year
     ({"exclude_flagged"}, EVERYTHING),
     ({"estimators"}, []),
-    ({"cone_estimator"}, ["cone", "placement", "comparison", "bands", "implied"]),
+    ({"cone_estimator"}, ["cone", "placement", "quotes", *AFTER_COMPARISON]),
 ])
 def test_a_change_recomputes_only_what_depends_on_it(changed, expected):
     assert jobs_for(frozenset(changed)) == expected

@@ -25,6 +25,7 @@ from typing import Any
 import pandas as pd
 
 from volbench import analysis
+from volbench.candidates import CandidateSet
 from volbench.data.history import PriceHistory
 from volbench.data.load import Loaded
 from volbench.data.options import ImportOptions
@@ -32,6 +33,7 @@ from volbench.errors import Cancelled, VolbenchError
 from volbench.estimators import EstimateReport
 from volbench.export import ExportBundle, build_bundle, write_export
 from volbench.gui.loading import load_files
+from volbench.market.candidate import MarketComparison, MarketView
 from volbench.models import GarchComparison, fit_many
 from volbench.pricing.bands import band_fan
 from volbench.pricing.compare import Comparison
@@ -128,6 +130,14 @@ def forward_vols(fits, days: int) -> ForwardVols:
         except VolbenchError as exc:
             reasons[f.model] = str(exc)
     return ForwardVols(days, MappingProxyType(vols), MappingProxyType(reasons))
+
+
+@dataclass(frozen=True)
+class Absent:
+    """A result not asked for (no premium entered, no quotes file open): the pane shows ``reason``,
+    the status line stays quiet (it is not a failure)."""
+
+    reason: str
 
 
 # ------------------------------------------------------------------------ requests
@@ -236,9 +246,31 @@ def _implied(ctx: Context, progress: Progress, cancel: Cancel):
     """The implied vol of the option's observed premium, on the comparison's spot, strike and years."""
     premium = ctx.settings.option.premium
     if premium is None:
-        raise VolbenchError("enter the option's premium to solve for its implied vol")
+        return Absent("Enter the option's premium to solve for its implied vol.")
     c = ctx.result("comparison", Comparison)
     return solve_implied_vol(premium, c.spot, c.strike, c.years, c.rate, c.dividend_yield, c.kind)
+
+
+def _quotes(ctx: Context, progress: Progress, cancel: Cancel):
+    """The quotes file's implied vols at the view's last date and the ATM vol for the option's expiry."""
+    if ctx.settings.quotes is None:
+        return CandidateSet.missing("quotes", "not requested")
+    _checkpoint(cancel)
+    progress(0, 1, f"Solving the quotes' implied vols against {ctx.view.name}")
+    view = analysis.market_for(ctx.view, ctx.settings)
+    _checkpoint(cancel)
+    return view
+
+
+def _market(ctx: Context, progress: Progress, cancel: Cancel):
+    view = ctx.result("quotes", (MarketView, CandidateSet))
+    if not isinstance(view, MarketView):
+        return Absent("Open a quotes file to compare with the market's implied vols.")
+    garch = ctx.results.get("garch")
+    cone = ctx.results.get("cone")
+    return analysis.market_comparison_for(ctx.result("comparison", Comparison),
+                                          {"quotes": view, "garch": garch if isinstance(garch, GarchComparison)
+                                           else None}, cone if isinstance(cone, Cone) else None)
 
 
 def _load(ctx: Context, progress: Progress, cancel: Cancel):
@@ -325,10 +357,13 @@ JOBS: dict[str, Job] = {j.kind: j for j in (
     _job("garch", ("view", "annualization", "garch_model", "garch_dist"), _garch, GarchComparison,
          background=True, busy="Fitting GARCH models to {name}…"),
     _job("forward", ("garch", "life"), _forward, ForwardVols),
-    _job("comparison", ("view", "annualization", *OPTION, "cone_estimator", "cone", "scaling", "garch"),
+    _job("quotes", ("view", "annualization", "quotes_file", *LIFE, "rate", "dividend_yield", "cone_estimator"), _quotes,
+         (MarketView, CandidateSet), background=True, busy="Solving the quotes' implied vols for {name}…"),
+    _job("comparison", ("view", "annualization", *OPTION, "cone_estimator", "cone", "scaling", "garch", "quotes"),
          _comparison, Comparison),
+    _job("market", ("comparison", "quotes"), _market, (MarketComparison, Absent)),
     _job("bands", ("comparison",), _bands, BandFans),
-    _job("implied", ("comparison", "premium"), _implied, ImpliedVol),
+    _job("implied", ("comparison", "premium"), _implied, (ImpliedVol, Absent)),
     _job("load", (), _load, Loaded, background=True, on_demand=True, busy="Reading {files}…"),
     _job("export", (), _export, Path, background=True, on_demand=True, busy="Exporting to {file}…"),
     _job("garch_all", (), _garch_all, BatchFits, background=True, on_demand=True,

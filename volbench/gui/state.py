@@ -17,7 +17,7 @@ the command line's message, word for word.
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 from PySide6.QtCore import QObject, Signal
@@ -34,6 +34,7 @@ from volbench.settings import (
     GarchSettings,
     LifeSettings,
     OptionSettings,
+    QuotesSettings,
     ScalingSettings,
     Settings,
 )
@@ -66,6 +67,25 @@ class LifeChoice:
         return LifeSettings(days=self.days, basis=self.basis)
 
 
+@dataclass(frozen=True)
+class QuotesChoice:
+    """The window's market quotes file (``None``: none), read once when chosen; :meth:`settings`
+    gives the :class:`~volbench.settings.QuotesSettings` jobs run with (``None`` without a file)."""
+
+    file: str | None = None
+    read: Any = field(default=None, compare=False, repr=False)
+
+    def __post_init__(self) -> None:
+        if self.file is not None and self.read is None:
+            object.__setattr__(self, "read", QuotesSettings(file=self.file))
+
+    def with_changes(self, **changes: Any) -> QuotesChoice:
+        return QuotesChoice(**{"file": self.file, **changes})
+
+    def settings(self) -> QuotesSettings | None:
+        return self.read
+
+
 GROUPS: dict[str, Callable[[], Any]] = {
     "import_options": ImportOptions,
     "estimation": lambda: EstimationSettings(window=20),
@@ -74,6 +94,7 @@ GROUPS: dict[str, Callable[[], Any]] = {
     "garch": GarchSettings,
     "option": lambda: OptionSettings(pricing_vol=0.25),
     "life": LifeChoice,
+    "quotes": QuotesChoice,
 }
 """The settings groups the window holds, with the window's defaults (the option's life in
 :class:`LifeChoice`, given to jobs as :class:`~volbench.settings.LifeSettings`)."""
@@ -121,6 +142,7 @@ FIELDS: dict[str, Field] = {
     "day_basis": Field("life", "basis"),
     "expiry": Field("life", "expiry", _optional_text),
     "premium": Field("option", "premium", _optional_text),
+    "quotes_file": Field("quotes", "file", _optional_text),
     "strike": Field("option", "strike", _strike),
     "rate": Field("option", "rate"),
     "dividend_yield": Field("option", "dividend_yield"),
@@ -177,7 +199,8 @@ class Choices:
 
     def settings(self) -> Settings:
         """Every group as the one :class:`Settings` a job runs with (the same object the CLI builds)."""
-        groups = {k: (g.settings() if isinstance(g, LifeChoice) else g) for k, g in self._groups.items()}
+        groups = {k: (g.settings() if isinstance(g, (LifeChoice, QuotesChoice)) else g)
+                  for k, g in self._groups.items()}
         return Settings(**groups)
 
     def import_options(self) -> ImportOptions:

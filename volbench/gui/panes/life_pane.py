@@ -21,9 +21,11 @@ from PySide6.QtWidgets import (
 from volbench.format import number, pct
 from volbench.gui.binding import Binding
 from volbench.gui.controller import Results
+from volbench.gui.jobs import Absent
 from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
 from volbench.pricing.daycount import DAY_BASES
+from volbench.pricing.implied import ImpliedVol
 
 MODES = (("days", "Days on a basis"), ("expiry", "Expiry date"))
 
@@ -154,7 +156,7 @@ class LifePane(Pane):
 
     def _use_implied(self) -> None:
         iv = self.results.get("implied")
-        if iv is not None and iv.ok:
+        if isinstance(iv, ImpliedVol) and iv.ok:
             self.state.set("pricing_vol", iv.implied_vol)
 
     # ------------------------------------------------------------------ rendering
@@ -177,8 +179,10 @@ class LifePane(Pane):
                 self._write_expiry(life.expiry)
                 self.expiry.blockSignals(False)
         iv = self.results.get("implied")
-        self.use.setEnabled(iv is not None and iv.ok)
-        if iv is None:
+        self.use.setEnabled(isinstance(iv, ImpliedVol) and iv.ok)
+        if isinstance(iv, Absent):
+            self.implied.setText(iv.reason)
+        elif iv is None:
             self.implied.setText(self.results.problem("implied") or "")
         elif iv.ok:
             self.implied.setText(f"Implied vol {pct(iv.implied_vol, 2)} (Black-Scholes-Merton {iv.kind}, "
