@@ -29,6 +29,7 @@ from volbench.estimators import (
 from volbench.models import GarchComparison, fit_models
 from volbench.pricing.compare import Comparison, OptionSpec, compare
 from volbench.pricing.cone import Cone, vol_cone
+from volbench.pricing.daycount import OptionLife
 from volbench.scaling import ScalingResult, scaling_check
 from volbench.settings import ConeSettings, GarchSettings, OptionSettings, ScalingSettings, Settings
 
@@ -88,17 +89,104 @@ def garch_for(history: PriceHistory, settings: Settings, progress: Progress | No
                       progress=progress, cancel=cancel)
 
 
+def market_for(history: PriceHistory, settings: Settings):
+    """The quotes file's implied vols at the history's last date, and the at-the-money implied vol
+    for the option's expiry (:class:`volbench.market.candidate.MarketView`), with every quoted
+    expiry set against the history (:func:`volbench.market.versus_history`; left out with a note
+    when it cannot be computed).
+
+    The quotes are solved at the option's spot (default the last close), rate and dividend yield.
+    """
+    from volbench.market import implied_surface, versus_history
+    from volbench.market.candidate import market_view
+    from volbench.pricing.daycount import option_life
+
+    q, o = settings.quotes, settings.option
+    if q is None or o is None:
+        raise VolbenchError("market quotes need a comparison: a pricing vol and the option's life")
+    life = life_for(history, settings)
+    if life is None:
+        life = option_life(str(history.last_date)[:10], days=o.days, basis="trading")
+    spot = float(history.close[-1]) if o.spot is None else o.spot
+    holidays = None if settings.life is None else settings.life.holidays
+    surface = implied_surface(q.file, spot=spot, rate=o.rate, as_of=life.as_of, dividend_yield=o.dividend_yield,
+                              holidays=holidays)
+    c = settings.cone or ConeSettings()
+    try:
+        versus = versus_history(surface, history, annualization=settings.annualization, model=q.model,
+                                cone_estimator=c.estimator, cone_windows=c.windows)
+    except VolbenchError:
+        versus = None
+    return market_view(surface, life, versus)
+
+
 CANDIDATE_PARTS: dict[str, Callable[[PriceHistory, Settings], CandidateSource]] = {
     "garch": garch_for,
     "scaling": scaling_for,
+    "quotes": market_for,
 }
 """Parts of a run whose results offer comparison candidates, by :class:`Settings` field, in table order."""
+
+
+def candidate_parts(history: PriceHistory, settings: Settings) -> dict[str, CandidateSource | str | None]:
+    """Every requested candidate part computed once (its result, or the reason it failed), ``None``
+    for a part not requested: pass it as ``given`` to :func:`comparison_for` and to
+    :func:`market_comparison_for`."""
+    out: dict[str, CandidateSource | str | None] = {}
+    for name, run in CANDIDATE_PARTS.items():
+        if getattr(settings, name) is None:
+            out[name] = None
+            continue
+        try:
+            out[name] = run(history, settings)
+        except VolbenchError as exc:
+            out[name] = str(exc)
+    return out
+
+
+def market_comparison_for(comparison: Comparison, parts: Mapping[str, CandidateSource | str | None],
+                          cone: Cone | None = None):
+    """The market's implied vol against the comparison (:func:`volbench.market.candidate.market_comparison`),
+    with the GARCH-family headline forward vol as the forecast when it was fitted (else EWMA);
+    ``None`` without a market view in ``parts``."""
+    from volbench.market.candidate import MarketView, market_comparison
+
+    view = parts.get("quotes")
+    if not isinstance(view, MarketView):
+        return None
+    garch = parts.get("garch")
+    forecast = garch.candidates(comparison.days).headline if isinstance(garch, CandidateSource) else None
+    return market_comparison(comparison, view, forecast=forecast, cone=cone)
 
 
 def option_spec(option: OptionSettings) -> OptionSpec:
     """The option of the settings as the pricing core takes it."""
     return OptionSpec(strike=option.strike, rate=option.rate, dividend_yield=option.dividend_yield,
                       kind=option.kind, spot=option.spot)
+
+
+def life_for(history: PriceHistory, settings: Settings) -> OptionLife | None:
+    """The option's life from the history's last date (the as-of date of a comparison) to the
+    expiry, counted in calendar days, ACT/365 years and trading days (``None`` without a life group).
+
+    Raises
+    ------
+    VolbenchError
+        An expiry on or before the history's last date, an empty history.
+    """
+    if settings.life is None:
+        return None
+    if not history.n:
+        raise VolbenchError(f"{history.name}: no rows, so no as-of date to count the option's life from")
+    return settings.life.life(history.last_date)
+
+
+def option_days(history: PriceHistory, settings: Settings) -> int | None:
+    """The option's life in bars for ``history``: its trading days with a life group, else ``option.days``."""
+    life = life_for(history, settings)
+    if life is not None:
+        return life.trading_days
+    return None if settings.option is None else settings.option.days
 
 
 def comparison_for(history: PriceHistory, settings: Settings, *,
@@ -125,6 +213,13 @@ def comparison_for(history: PriceHistory, settings: Settings, *,
     o = settings.option
     if o is None:
         raise VolbenchError("a comparison needs a pricing vol and the option's life in days")
+    life = life_for(history, settings)
+    if life is None and o.days is None:
+        raise VolbenchError("a comparison needs the option's life: days, or an expiry date")
+    if life is not None and life.trading_days < 1:
+        raise VolbenchError(f"no trading day between {life.as_of} and the expiry {life.expiry}: the option sees "
+                            "no more price moves, so no historical vol applies; choose a later expiry")
+    days = o.days if life is None else life.trading_days
     given = dict(given or {})
     sources: list[CandidateSource] = []
     for name, run in CANDIDATE_PARTS.items():
@@ -141,9 +236,9 @@ def comparison_for(history: PriceHistory, settings: Settings, *,
             except VolbenchError as exc:
                 sources.append(CandidateSet.missing(name, str(exc)))
     c = settings.cone or ConeSettings()
-    return compare(history, o.pricing_vol, o.days, option=option_spec(o), annualization=settings.annualization,
+    return compare(history, o.pricing_vol, days, option=option_spec(o), annualization=settings.annualization,
                    window=o.window, sources=sources, cone_estimator=c.estimator, cone_windows=c.windows, cone=cone,
-                   estimator_options=settings.estimation.options)
+                   estimator_options=settings.estimation.options, life=life)
 
 
 def decision_for(history: PriceHistory, settings: Settings, comparison: Comparison | None = None, *,

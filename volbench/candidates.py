@@ -42,6 +42,10 @@ class Candidate:
         The source's lead candidate (e.g. the preferred fit): the reading names it.
     fallback
         When the number is a fallback's rather than the model's own: what it falls back to and why.
+    on_pricing_basis
+        True when ``vol`` is already a Black-Scholes-Merton vol over ACT/365 years (an implied
+        vol); False for a vol annualized over trading bars, which a comparison with an option life
+        by date rescales (docs/METHODS.md, "Day counts and the option's life").
     """
 
     source: str
@@ -54,6 +58,7 @@ class Candidate:
     note: str = ""
     headline: bool = False
     fallback: str | None = None
+    on_pricing_basis: bool = False
 
     def __post_init__(self) -> None:
         v = float(self.vol)

@@ -223,7 +223,8 @@ class OptionSettings(_Group):
     pricing_vol
         Proposed annualized vol, a decimal below 5.
     days
-        Option life in bars; years = days / annualization.
+        Option life in bars; years = days / annualization. ``None`` when the life comes from a
+        :class:`LifeSettings` group (an expiry date, or days on a stated basis), resolved per history.
     strike, spot
         ``None``: at the money; the last close.
     rate, dividend_yield
@@ -232,20 +233,25 @@ class OptionSettings(_Group):
         ``"call"`` or ``"put"``.
     window
         Bars behind each estimator's candidate vol; ``None`` uses the option's life (``days``).
+    premium
+        An observed premium of this option, to solve for its implied vol (``None``: none).
     """
 
     pricing_vol: float
-    days: int
+    days: int | None = None
     strike: float | None = None
     spot: float | None = None
     rate: float = 0.0
     dividend_yield: float = 0.0
     kind: OptionType = "call"
     window: int | None = None
+    premium: float | None = None
 
     def __post_init__(self) -> None:
+        _set(self, "premium", validate.price(self.premium, "premium"))
         _set(self, "pricing_vol", validate.pricing_vol(self.pricing_vol))
-        _set(self, "days", validate.days(self.days))
+        if self.days is not None:
+            _set(self, "days", validate.days(self.days))
         _set(self, "strike", validate.price(self.strike, "strike"))
         _set(self, "spot", validate.price(self.spot, "spot"))
         _set(self, "rate", validate.rate(self.rate, "rate"))
@@ -297,6 +303,105 @@ class DecisionSettings(_Group):
 
 
 @dataclass(frozen=True)
+class LifeSettings(_Group):
+    """The option's life: an expiry date, or a number of days on a stated basis, and holidays.
+
+    Resolved against a history's as-of date by :meth:`life` into a
+    :class:`~volbench.pricing.daycount.OptionLife`: calendar days and years = calendar days / 365
+    (ACT/365, the Black-Scholes-Merton time and discounting), and trading days (weekdays after the
+    as-of date up to the expiry, less holidays: the variance horizon in bars). See
+    docs/METHODS.md, "Day counts and the option's life".
+
+    Attributes
+    ----------
+    expiry
+        Expiry date (ISO ``YYYY-MM-DD``); give it or ``days``, not both.
+    days
+        Whole number of days >= 1 on ``basis``.
+    basis
+        ``"trading"`` (default: what a number of days has always meant here, bars of daily data)
+        or ``"calendar"``.
+    holidays
+        Holidays file (read once, when the settings are built), a
+        :class:`~volbench.pricing.daycount.Holidays`, or ``None``.
+    """
+
+    expiry: str | None = None
+    days: int | None = None
+    basis: str = "trading"
+    holidays: Any = None
+
+    def __post_init__(self) -> None:
+        from pathlib import Path
+
+        from volbench.pricing.daycount import Holidays, read_holidays
+
+        if (self.expiry is None) == (self.days is None):
+            raise VolbenchError("give the option's life either as an expiry date or as a number of days, not "
+                                + ("both" if self.expiry is not None else "neither"))
+        _set(self, "expiry", validate.expiry(self.expiry))
+        if self.days is not None:
+            _set(self, "days", validate.days(self.days))
+        _set(self, "basis", validate.day_basis(self.basis))
+        if isinstance(self.holidays, (str, Path)):
+            _set(self, "holidays", read_holidays(self.holidays))
+        elif self.holidays is not None and not isinstance(self.holidays, Holidays):
+            raise VolbenchError(f"holidays must be a file or None, got {type(self.holidays).__name__}")
+
+    def life(self, as_of):
+        """The :class:`~volbench.pricing.daycount.OptionLife` from ``as_of`` (a date) to the expiry.
+
+        Raises
+        ------
+        VolbenchError
+            An expiry on or before ``as_of``; a life longer than a hundred years.
+        """
+        from volbench.pricing.daycount import option_life
+
+        return option_life(str(as_of)[:10], expiry=self.expiry, days=self.days, basis=self.basis,
+                           holidays=self.holidays)
+
+    def as_dict(self) -> dict:
+        from volbench.pricing.daycount import CONVENTION
+
+        h = self.holidays
+        return {"expiry": self.expiry, "days": self.days, "day_basis": self.basis,
+                "holidays": None if h is None else {"source": str(h.source) if h.source else None,
+                                                    "count": len(h), "findings": len(h.findings)},
+                "convention": CONVENTION}
+
+
+@dataclass(frozen=True)
+class QuotesSettings(_Group):
+    """A market quotes file for the comparison: its at-the-money implied vol becomes a candidate.
+
+    Attributes
+    ----------
+    file
+        Option-quotes CSV (:func:`volbench.market.quotes.read_quotes`), read once when the
+        settings are built; afterwards the :class:`~volbench.market.quotes.OptionQuotes` read.
+    date_format
+        ``strftime`` format of the expiry column when it is not ISO.
+    model
+        GARCH-family model fitted for each quoted expiry's forecast (the per-expiry market table).
+    """
+
+    file: Any
+    date_format: str | None = None
+    model: str = "garch"
+
+    def __post_init__(self) -> None:
+        from volbench.market.quotes import OptionQuotes, read_quotes
+
+        _set(self, "model", validate.model(self.model))
+        if not isinstance(self.file, OptionQuotes):
+            _set(self, "file", read_quotes(self.file, date_format=self.date_format))
+
+    def as_dict(self) -> dict:
+        return {**self.file.provenance(), "date_format": self.date_format, "model": self.model}
+
+
+@dataclass(frozen=True)
 class Settings:
     """One run's settings: a group object per part, ``None`` for a part not requested.
 
@@ -310,6 +415,11 @@ class Settings:
         ``None`` when not requested.
     decision
         The decision record (chosen vol, rationale, preparer); ``None`` when none is made.
+    life
+        The option's life as an expiry date or days on a basis (``None``: the life is
+        ``option.days`` bars, years = days / annualization).
+    quotes
+        A market quotes file whose at-the-money implied vol joins the comparison (``None``: none).
     created
         Time stamped on outputs (default: now, UTC).
     """
@@ -321,6 +431,8 @@ class Settings:
     garch: GarchSettings | None = None
     option: OptionSettings | None = None
     decision: DecisionSettings | None = None
+    life: LifeSettings | None = None
+    quotes: QuotesSettings | None = None
     created: datetime | None = None
 
     def __post_init__(self) -> None:

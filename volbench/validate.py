@@ -314,3 +314,16 @@ def rate(value, what: str = "rate") -> float:
         raise VolbenchError(f"{what} must be a decimal between -1 and 1 (0.05 means 5%), got {x:g}; "
                             f"it looks like a percent: did you mean {x / 100:g}?")
     return x
+
+
+def day_basis(value) -> str:
+    """What a number of days counts: ``"trading"`` or ``"calendar"`` (case-insensitive)."""
+    from volbench.pricing.daycount import check_day_basis
+
+    return check_day_basis(value)
+
+
+def expiry(value) -> str | None:
+    """The option's expiry date: ISO ``YYYY-MM-DD``; ``None`` stays ``None``."""
+    ts = date(value, "expiry date")
+    return None if ts is None else ts.strftime("%Y-%m-%d")

@@ -75,9 +75,10 @@ def test_comparison_and_option_options(sample_dir, tmp_path):
 
 
 @pytest.mark.parametrize("args, message", [
-    (["--pricing-vol", "0.25"], "a comparison needs both --pricing-vol and --days; missing --days"),
-    (["--days", "30"], "a comparison needs both --pricing-vol and --days; missing --pricing-vol"),
+    (["--pricing-vol", "0.25"], "a comparison needs both --pricing-vol and --days (or --expiry); missing --days"),
+    (["--days", "30"], "a comparison needs both --pricing-vol and --days (or --expiry); missing --pricing-vol"),
     (["--strike", "40"], "--strike: option settings apply only to a comparison; also give --pricing-vol and --days"),
+    (["--day-basis", "calendar"], "--day-basis describe the option's life: also give --days N or --expiry"),
     (["--pricing-vol", "25", "--days", "30"], "pricing vol must be a decimal below 5 (0.25 means 25%), got 25"),
     (["--window", "1x"], "window must be a whole number of bars or 'all', got '1x'"),
 ])

@@ -122,12 +122,13 @@ def test_compare_table_reads_in_ten_seconds(capsys, sample_dir):
     code, out, err = run(capsys, "compare", str(sample_dir / "kestrel_orchards.csv"),
                          "--pricing-vol", "0.25", "--days", "30")
     assert code == 0 and err == ""
-    assert "call 30 bars = 0.1190 years at 252 bars/year" in out
+    assert "call expiring 2024-11-28: 42 calendar days = 0.1151 years (ACT/365), 30 trading days" in out
     assert "(last close)" in out and "(at the money)" in out
     table = [ln for ln in out.splitlines() if ln.startswith(("Pricing vol", "Close-to-close", "Yang-Zhang"))]
     assert len(table) == 3 and table[0].split()[:3] == ["Pricing", "vol", "25.00%"]
-    assert "not shown: GARCH (not requested; add --with-garch), scaling check (not requested; add --with-scaling)" in out
-    assert "- pricing vol 25.0% sits at the " in out
+    assert ("not shown: GARCH (not requested; add --with-garch), scaling check (not requested; add --with-scaling), "
+            "market implied vol (not requested; add --quotes FILE)") in out
+    assert "- pricing vol 25.0% (as " in out and "over 30 trading days, the cone's basis) sits at the " in out
     assert "percentile of 30-bar close-to-close vol, interpolated between the 20- and 40-bar cone columns" in out
     assert "vol points above Yang-Zhang" in out or "vol points below Yang-Zhang" in out
 
@@ -141,7 +142,7 @@ def test_compare_json_put_with_strike(capsys, sample_dir):
     assert d["option"]["kind"] == "put" and d["option"]["strike"] == 70.0 and d["option"]["rate"] == 0.04
     assert d["window"] == 40 and d["days"] == 60 and d["cone"]["windows"] == [60]
     assert d["candidates"][0]["source"] == "pricing" and d["candidates"][0]["gap_points"] == 0.0
-    assert d["unavailable"] == {"garch": "not requested", "scaling": "not requested"}
+    assert d["unavailable"] == {"garch": "not requested", "scaling": "not requested", "quotes": "not requested"}
 
 
 def test_compare_with_scaling(capsys, sample_dir):

@@ -72,7 +72,8 @@ def test_xlsx_round_trip_every_sheet(tmp_path, full_bundle):
     b = full_bundle()
     path = write_xlsx(tmp_path / "sheet.xlsx", b)
     sheets = pd.read_excel(path, sheet_name=None, engine="openpyxl")
-    assert list(sheets) == list(TABLE_ORDER)  # every sheet, present or not (garch_term holds a note)
+    # every sheet, present or not (garch_term holds a note), then one live pricing sheet per series
+    assert list(sheets) == [*TABLE_ORDER, "Live pricing 1", "Live pricing 2"]
     assert list(sheets["garch_term"].columns) == ["section", "status", "reason"]
     for name in b.names:
         if name == "inputs":  # mixed text/number column: compare as text below

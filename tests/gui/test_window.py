@@ -12,6 +12,7 @@ from volbench.data import load_prices
 from volbench.estimators import REGISTRY, estimate_all, rolling_vol
 from volbench.gui.widgets import Card, FrameTable, Plot
 from volbench.pricing.compare import OptionSpec, compare
+from volbench.pricing.daycount import option_life
 
 
 def table(w, name: str):
@@ -63,7 +64,8 @@ def test_estimates_shown_equal_the_core_for_the_same_settings(make_window, kestr
         assert raw.loc[key, "ci_low"] == est.ci_low and raw.loc[key, "ci_high"] == est.ci_high
         assert shown_vol(w, REGISTRY[key].label) == f"{100 * est.vol:.2f}%"
     # the comparison dock agrees with volbench.pricing.compare for the same option
-    comp = compare(h, 0.25, 30, option=OptionSpec(), annualization=252.0)  # candidates over the option's life
+    # (30 trading days from the last row, as 'volbench compare --days 30': years = calendar days / 365)
+    comp = compare(h, 0.25, 30, option=OptionSpec(), annualization=252.0, life=option_life(h.last_date, days=30))
     shown = w.findChild(FrameTable, "comparison_table").raw_frame().set_index("key")
     for key, row in comp.table.set_index("key").iterrows():
         if key.startswith(("garch", "scaling")):
@@ -141,7 +143,7 @@ def test_pricing_vol_change_recomputes_comparison_but_not_garch(make_window, kes
     monkeypatch.setattr(analysis, "garch_for", lambda *a, **k: calls.append(a))
     with qtbot.waitSignal(w.controller.computed, timeout=5000) as blocker:
         w.findChild(QComboBox, "kind_combo").setCurrentIndex(1)
-    assert blocker.args[0] == frozenset({"comparison", "bands"})
+    assert blocker.args[0] == frozenset({"comparison", "market", "bands", "implied"})
     assert calls == []
     assert w.results.get("comparison").kind == "put"
 

@@ -99,18 +99,23 @@ def test_synchronous_mode_runs_the_job_before_submit_returns(qtbot):
     assert got == [(1, 1, "done"), threading.get_ident()]
 
 
-EVERYTHING = ["rolling", "estimates", "cone", "placement", "scaling", "garch", "forward", "comparison", "bands"]
+EVERYTHING = ["rolling", "estimates", "cone", "life", "placement", "scaling", "garch", "forward", "quotes",
+              "comparison", "market", "bands", "implied"]
+AFTER_COMPARISON = ["comparison", "market", "bands", "implied"]
 
 
 @pytest.mark.parametrize(("changed", "expected"), [
     ({"window"}, ["rolling", "estimates"]),
-    ({"days"}, ["placement", "forward", "comparison", "bands"]),
-    ({"pricing_vol"}, ["placement", "comparison", "bands"]),
-    ({"garch_dist"}, ["garch", "forward", "comparison", "bands"]),
-    ({"annualization"}, EVERYTHING),
+    ({"days"}, ["life", "placement", "forward", "quotes", *AFTER_COMPARISON]),
+    ({"expiry"}, ["life", "placement", "forward", "quotes", *AFTER_COMPARISON]),
+    ({"premium"}, ["implied"]),
+    ({"quotes_file"}, ["quotes", *AFTER_COMPARISON]),
+    ({"pricing_vol"}, ["placement", *AFTER_COMPARISON]),
+    ({"garch_dist"}, ["garch", "forward", *AFTER_COMPARISON]),
+    ({"annualization"}, [k for k in EVERYTHING if k != "life"]),  # the life counts days, not bars a year
     ({"exclude_flagged"}, EVERYTHING),
     ({"estimators"}, []),
-    ({"cone_estimator"}, ["cone", "placement", "comparison", "bands"]),
+    ({"cone_estimator"}, ["cone", "placement", "quotes", *AFTER_COMPARISON]),
 ])
 def test_a_change_recomputes_only_what_depends_on_it(changed, expected):
     assert jobs_for(frozenset(changed)) == expected

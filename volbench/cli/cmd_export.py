@@ -35,7 +35,7 @@ def register(sub) -> None:
                    help=f"output file; its suffix picks the format ({', '.join(FORMATS)})")
     add_estimation(p, window="all", as_of="last date used by every table (default: last row of each file)",
                    options=True)
-    add_option(p, required=False, title="pricing vol comparison (needs both --pricing-vol and --days)",
+    add_option(p, required=False, title="pricing vol comparison (needs --pricing-vol and --days or --expiry)",
                window=True, window_flag="--candidate-window")
     s = p.add_argument_group("sections")
     add_cone(s, windows=True, date_range=True, hodges_tompkins=True, switch="--no-cone", prefix="cone-")

@@ -19,8 +19,10 @@ from volbench.cli.options import (
     add_decision,
     add_estimation,
     add_garch,
+    add_life,
     add_option,
     add_scaling,
+    life_from_args,
     settings_from_args,
 )
 from volbench.errors import VolbenchError
@@ -75,7 +77,11 @@ def register(sub) -> None:
     p.add_argument("--rate", required=True, metavar="R", help="risk-free rate, continuous, decimal (0.05 = 5%%)")
     p.add_argument("--vol", required=True, metavar="V", type=validate.pricing_vol,
                    help="volatility, decimal below 5 (0.25 = 25%%)")
-    p.add_argument("--years", required=True, metavar="T", help="years to expiry")
+    p.add_argument("--years", default=None, metavar="T",
+                   help="years to expiry (or --expiry / --days with --as-of: years = calendar days / 365)")
+    p.add_argument("--as-of", metavar="YYYY-MM-DD", default=None,
+                   help="valuation date the life is counted from (with --expiry or --days)")
+    add_life(p, title="the option's life by date (instead of --years)")
     p.add_argument("--dividend-yield", default="0", metavar="Q", help="dividend yield, continuous, decimal (default 0)")
     add_format(p)
     p.set_defaults(func=run_price)
@@ -151,11 +157,18 @@ def _pick_series(histories, name):
 def run_compare(args: argparse.Namespace) -> int:
     settings = settings_from_args(args)
     history = _pick_series(load_from_args(args, settings), args.series)
-    comp = analysis.comparison_for(history, settings)
+    given = analysis.candidate_parts(history, settings)
+    try:
+        cone = analysis.cone_for(history, settings)
+    except VolbenchError:  # the comparison says why
+        cone = None
+    comp = analysis.comparison_for(history, settings, given=given, cone=cone)
+    market = analysis.market_comparison_for(comp, given, cone)
     if args.format == "json":
         from volbench import provenance
 
         out = with_import(comp.as_dict(), history)
+        out["market"] = None if market is None else _market_json(market, given["quotes"])
         out["provenance"] = {"volbench_version": __version__, "settings": settings.as_dict(),
                              **provenance.record(settings, [history], getattr(args, "typed_argv", None))}
         if settings.decision is not None:
@@ -166,7 +179,13 @@ def run_compare(args: argparse.Namespace) -> int:
     atm = " (at the money)" if math.isclose(comp.strike, comp.spot) else ""
     print(f"{h.name}  as of {comp.as_of}  ({h.source.name if h.source else ''}: {h.n} rows"
           f", flagged rows {'excluded' if h.exclude_flagged else 'kept'}{_findings_hint(h)})")
-    print(f"{comp.kind} {comp.days} bars = {comp.years:.4f} years at {comp.annualization:g} bars/year; "
+    if comp.life is None:
+        life = f"{comp.days} bars = {comp.years:.4f} years at {comp.annualization:g} bars/year"
+    else:
+        lf = comp.life
+        life = (f"expiring {lf.expiry}: {lf.calendar_days} calendar days = {lf.years:.4f} years (ACT/365), "
+                f"{lf.trading_days} trading days")
+    print(f"{comp.kind} {life}; "
           f"spot {comp.spot:g}{' (last close)' if settings.option.spot is None else ''}, strike {comp.strike:g}{atm}, "
           f"rate {pct(comp.rate)}, dividend yield {pct(comp.dividend_yield)}")
     print()
@@ -181,10 +200,15 @@ def run_compare(args: argparse.Namespace) -> int:
                        rows, "lrrrrrrl"))
     print(f"estimators over the last {comp.window} bars; gap = candidate - pricing vol; price diff = exact "
           "repricing; vega approx = vega x gap")
+    if comp.life is not None:
+        print(f"history's vols x {comp.basis_factor:.4f} = sqrt(({comp.days} trading days / {comp.annualization:g}) "
+              f"/ {comp.years:.4f} years): the same variance on the ACT/365 basis of the pricing vol")
+        for note in comp.life.notes:
+            print(f"note: {note}")
     missing = dict(comp.unavailable)
     labels = {**{k: REGISTRY[k].label for k in REGISTRY}, "garch": "GARCH", "scaling": "scaling check",
-              "bands": "price bands"}
-    hints = {"garch": "add --with-garch", "scaling": "add --with-scaling"}
+              "bands": "price bands", "market": "market implied vol", "quotes": "market implied vol"}
+    hints = {"garch": "add --with-garch", "scaling": "add --with-scaling", "quotes": "add --quotes FILE"}
     if missing:
         parts = []
         for k, why in missing.items():
@@ -201,6 +225,8 @@ def run_compare(args: argparse.Namespace) -> int:
         print(f"- {line}")
     for line in comp.caveats:
         print(f"note: {line}")
+    if market is not None:
+        _print_market(market, given["quotes"])
     if settings.decision is not None:
         print("\ndecision record:")
         for line in analysis.decision_for(history, settings, comp).lines:
@@ -209,11 +235,66 @@ def run_compare(args: argparse.Namespace) -> int:
     return 0
 
 
+def _market_json(market, view) -> dict:
+    """The market comparison with the quotes' term structure and each quoted expiry against the history."""
+    surface = view.surface
+    return {**market.as_dict(), "term_method": view.as_dict()["term_method"],
+            "atm_method": surface.method, "source": dict(surface.source),
+            "term_structure": [e.as_dict() for e in surface.expiries],
+            "versus_history": None if view.versus is None else [r.as_dict() for r in view.versus.rows],
+            "findings": [f.as_dict() for f in surface.findings]}
+
+
+def _print_market(market, view) -> None:
+    print()
+    print(f"market: at-the-money implied vol from {view.surface.source.get('source_file')} "
+          f"(vols on the ACT/365 basis; gaps in vol points)")
+    rows = [["ATM implied", pct(market.atm_implied_vol), ""]]
+    if market.atm_implied_vol is not None:
+        rows.append(["implied - pricing vol", "", f"{market.implied_minus_pricing_points:+.2f}"])
+        if market.realized_vol is not None:
+            rows.append([f"implied - realized ({market.realized_label})", pct(market.realized_vol),
+                         f"{market.implied_minus_realized_points:+.2f}"])
+        if market.forecast_vol is not None:
+            rows.append([f"implied - forecast ({market.forecast_label})", pct(market.forecast_vol),
+                         f"{market.spread_points:+.2f}"])
+        rows.append(["implied vol's cone percentile", "",
+                     "n/a" if market.cone_percentile is None else f"{market.cone_percentile:.0f}"])
+    print(render_table(["", "vol", "gap (pts)"], rows, "lrr"))
+    term = [[e.expiry, e.life.trading_days, f"{e.life.years:.4f}", pct(e.atm_implied_vol),
+             "" if e.forward_implied_vol is None else pct(e.forward_implied_vol),
+             "CALENDAR ARBITRAGE" if e.calendar_arbitrage else ""] for e in view.surface.expiries]
+    print("implied term structure (years = calendar days / 365; forward vol from the previous expiry):")
+    print(render_table(["expiry", "trading days", "years", "ATM vol", "forward vol", ""], term, "lrrrrl"))
+    for line in market.reading:
+        print(f"- {line}")
+    n = sum(f.severity == "error" for f in view.surface.findings)
+    if n:
+        print(f"note: {n} quote row{'s' if n != 1 else ''} left out; 'volbench implied' lists them")
+
+
 # ---------------------------------------------------------------------------- price
+def _price_life(args: argparse.Namespace):
+    """Years to expiry and the life by date: --years T, or --expiry / --days (with --day-basis) and --as-of."""
+    life_settings = life_from_args(args)
+    if (args.years is None) == (life_settings is None):
+        got = [o for o, v in (("--years", args.years), ("--expiry", args.expiry), ("--days", args.days)) if v]
+        raise VolbenchError("give the option's life one way: --years T, or --expiry YYYY-MM-DD or --days N "
+                            "(with --day-basis) and --as-of" + (f"; got {', '.join(got)}" if got else ""))
+    if life_settings is None:
+        return _number(args.years, "--years"), None
+    if args.as_of is None:
+        raise VolbenchError(f"{'--expiry' if args.expiry else '--days'} needs --as-of YYYY-MM-DD, the date "
+                            "the life is counted from")
+    validate.date(args.as_of, "as-of date")
+    life = life_settings.life(args.as_of)
+    return life.years, life
+
+
 def run_price(args: argparse.Namespace) -> int:
     spot = _number(args.spot, "--spot")
     strike = _number(args.strike, "--strike")
-    years = _number(args.years, "--years")
+    years, life = _price_life(args)
     vol = args.vol
     rate = check_rate(_number(args.rate, "--rate"), "--rate")
     q = check_rate(_number(args.dividend_yield, "--dividend-yield"), "--dividend-yield")
@@ -223,6 +304,11 @@ def run_price(args: argparse.Namespace) -> int:
             **{k: g.as_dict() for k, g in out.items()},
             "inputs": {"spot": spot, "strike": strike, "years": years, "rate": rate, "vol": vol,
                        "dividend_yield": q},
+            "expiry": None if life is None else life.expiry,
+            "calendar_days": None if life is None else life.calendar_days,
+            "trading_days": None if life is None else life.trading_days,
+            "years": years,
+            "life": None if life is None else life.as_dict(),
             "units": {"vega": "per 1.00 of vol", "vega_point": "per vol point (0.01)",
                       "theta": "per year", "theta_day": "per calendar day (theta / 365)",
                       "rho": "per 1.00 of rate"},
@@ -230,6 +316,11 @@ def run_price(args: argparse.Namespace) -> int:
         return 0
     print(f"Black-Scholes-Merton: spot {spot:g}, strike {strike:g}, {years:g} years, rate {pct(rate)}, "
           f"dividend yield {pct(q)}, vol {pct(vol)}")
+    if life is not None:
+        print(f"life: {life.as_of} to {life.expiry}, {life.calendar_days} calendar days (years = days / 365), "
+              f"{life.trading_days} trading days")
+        for note in life.notes:
+            print(f"note: {note}")
     names = [("price", "price"), ("delta", "delta"), ("gamma", "gamma"), ("vega", "vega (per 1.00 vol)"),
              ("vega_point", "vega (per vol point)"), ("theta", "theta (per year)"),
              ("theta_day", "theta (per calendar day)"), ("rho", "rho (per 1.00 rate)")]

@@ -17,6 +17,7 @@ from __future__ import annotations
 import argparse
 from collections.abc import Callable
 from dataclasses import dataclass
+from pathlib import Path
 from typing import ClassVar
 
 from volbench.data.options import DECIMALS, DELIMITER_NAMES, THOUSANDS, ImportOptions
@@ -29,7 +30,9 @@ from volbench.settings import (
     DecisionSettings,
     EstimationSettings,
     GarchSettings,
+    LifeSettings,
     OptionSettings,
+    QuotesSettings,
     ScalingSettings,
     Settings,
     group_types,
@@ -255,14 +258,12 @@ OPTION_ARGS = ("strike", "spot", "rate", "dividend_yield", "kind")
 
 def add_option(p: argparse.ArgumentParser, *, required: bool = True, window: bool = False,
                title: str | None = None, window_flag: str = "--window") -> None:
-    """The option and the proposed vol: --pricing-vol and --days (``required``, or both-or-neither),
-    --strike, --spot, --rate, --dividend-yield, --type; with ``window`` the candidates' window
-    (named ``window_flag``)."""
+    """The option and the proposed vol: --pricing-vol and the option's life (``required``, or
+    both-or-neither; the life's options come from :func:`add_life`), --strike, --spot, --rate,
+    --dividend-yield, --type; with ``window`` the candidates' window (named ``window_flag``)."""
     g = p.add_argument_group(title) if title else p
     g.add_argument("--pricing-vol", required=required, default=None, metavar="V",
                    help="proposed annualized vol as a decimal below 5, e.g. 0.25")
-    g.add_argument("--days", required=required, default=None, metavar="N",
-                   help="option life in bars (bars to expiry), e.g. 30")
     g.add_argument("--strike", default=None, metavar="K", help="strike (default: at the money)")
     g.add_argument("--spot", default=None, metavar="S", help="spot (default: last close)")
     g.add_argument("--rate", default=None, metavar="R",
@@ -272,23 +273,30 @@ def add_option(p: argparse.ArgumentParser, *, required: bool = True, window: boo
     g.add_argument("--type", dest="kind", choices=["call", "put"], default=None, help="option type (default call)")
     if window:
         g.add_argument(window_flag, dest="option_window", default=None, metavar="N",
-                       help="bars behind each estimator's candidate vol (default: --days, the option's life)")
+                       help="bars behind each estimator's candidate vol (default: the option's life in trading days)")
     _register(p, "option", required=required)
+    add_life(p, title="the option's life (docs/METHODS.md, Day counts and the option's life)")
+    add_quotes(p)
+
+
+def _life_given(args: argparse.Namespace) -> bool:
+    return getattr(args, "days", None) is not None or getattr(args, "expiry", None) is not None
 
 
 def option_from_args(args: argparse.Namespace, required: bool = True) -> OptionSettings | None:
     given = [f"--{k.replace('_', '-') if k != 'kind' else 'type'}" for k in OPTION_ARGS
              if getattr(args, k) is not None]
-    if not required and args.pricing_vol is None and args.days is None:
+    if not required and args.pricing_vol is None and not _life_given(args):
         if given:
             raise VolbenchError(f"{', '.join(given)}: option settings apply only to a comparison; "
-                                "also give --pricing-vol and --days")
+                                "also give --pricing-vol and --days (or --expiry)")
         return None
-    if args.pricing_vol is None or args.days is None:
-        missing = "--days (the option's life in bars)" if args.days is None else "--pricing-vol (e.g. 0.25)"
-        raise VolbenchError(f"a comparison needs both --pricing-vol and --days; missing {missing}")
+    if args.pricing_vol is None or not _life_given(args):
+        missing = ("--days (the option's life in days) or --expiry YYYY-MM-DD" if not _life_given(args)
+                   else "--pricing-vol (e.g. 0.25)")
+        raise VolbenchError(f"a comparison needs both --pricing-vol and --days (or --expiry); missing {missing}")
     return OptionSettings(
-        pricing_vol=args.pricing_vol, days=args.days, strike=args.strike, spot=args.spot,
+        pricing_vol=args.pricing_vol, days=None, strike=args.strike, spot=args.spot,
         rate=0.0 if args.rate is None else args.rate,
         dividend_yield=0.0 if args.dividend_yield is None else args.dividend_yield,
         kind=args.kind or "call", window=getattr(args, "option_window", None))
@@ -375,7 +383,8 @@ def garch_argv(g: GarchSettings | None) -> list[str]:
 def option_argv(o: OptionSettings | None) -> list[str]:
     if o is None:
         return []
-    out = ["--pricing-vol", _num(o.pricing_vol), "--days", str(o.days)]
+    out = ["--pricing-vol", _num(o.pricing_vol)]
+    out += ["--days", str(o.days)] if o.days is not None else []  # else the life group's flags
     for flag, value in (("--strike", o.strike), ("--spot", o.spot)):
         out += [flag, _num(value)] if value is not None else []
     out += ["--rate", _num(o.rate), "--dividend-yield", _num(o.dividend_yield), "--type", o.kind]
@@ -388,6 +397,76 @@ def decision_argv(d: DecisionSettings | None) -> list[str]:
     out = ["--decision-vol", _num(d.vol)] if d.vol is not None else []
     out += [f"--rationale={d.rationale}"] if d.rationale else []  # "=": text may start with "-"
     return out + ([f"--prepared-by={d.prepared_by}"] if d.prepared_by else [])
+
+
+# ---------------------------------------------------------------------------- the option's life
+def add_life(p, *, title: str | None = None) -> None:
+    """The option's life: --expiry, or --days with --day-basis, and --holidays (:class:`LifeSettings`)."""
+    from volbench.pricing.daycount import DEFAULT_DAY_BASIS
+
+    g = p.add_argument_group(title) if title else p
+    g.add_argument("--expiry", metavar="YYYY-MM-DD", default=None,
+                   help="expiry date; the life runs from the as-of date (the last row used) to it")
+    g.add_argument("--days", default=None, metavar="N",
+                   help="option life as a number of days on --day-basis, e.g. 30 (instead of --expiry)")
+    g.add_argument("--day-basis", default=None, metavar="trading|calendar",
+                   help=f"what --days counts (default {DEFAULT_DAY_BASIS}: weekdays less --holidays, one bar "
+                        "each of daily data; calendar: every day)")
+    g.add_argument("--holidays", metavar="FILE", default=None,
+                   help="exchange holidays, one YYYY-MM-DD per line, left out of the trading-day count")
+    _register(p, "life")
+
+
+def life_from_args(args: argparse.Namespace) -> LifeSettings | None:
+    """The life group, or ``None`` when no life was given (a --day-basis or --holidays alone is refused)."""
+    if not _life_given(args):
+        extra = [o for o, k in (("--day-basis", "day_basis"), ("--holidays", "holidays"))
+                 if getattr(args, k, None) is not None]
+        if extra:
+            raise VolbenchError(f"{', '.join(extra)} describe the option's life: also give --days N or --expiry "
+                                "YYYY-MM-DD")
+        return None
+    return LifeSettings(expiry=args.expiry, days=args.days, basis=args.day_basis or "trading",
+                        holidays=args.holidays)
+
+
+# ---------------------------------------------------------------------------- market quotes
+def add_quotes(p: argparse.ArgumentParser) -> None:
+    """--quotes FILE (an option-quotes CSV whose at-the-money implied vol joins the comparison)."""
+    g = p.add_argument_group("market quotes (docs/METHODS.md, Implied vol and option quotes)")
+    g.add_argument("--quotes", metavar="FILE", default=None,
+                   help="option quotes (expiry, strike, type, mid or bid/ask) taken at the as-of date: adds the "
+                        "at-the-money implied vol for the option's expiry as a candidate and sets it against "
+                        "the realized vol and the forecast (implied minus forecast: the variance risk premium)")
+    g.add_argument("--quotes-date-format", metavar="FMT", default=None,
+                   help="strftime format of the quotes' expiry column when it is not ISO")
+    _register(p, "quotes")
+
+
+def quotes_from_args(args: argparse.Namespace) -> QuotesSettings | None:
+    if args.quotes is None:
+        if args.quotes_date_format is not None:
+            raise VolbenchError("--quotes-date-format describes a quotes file: also give --quotes FILE")
+        return None
+    if getattr(args, "pricing_vol", None) is None:
+        raise VolbenchError("--quotes joins a comparison: also give --pricing-vol and --days (or --expiry)")
+    return QuotesSettings(file=args.quotes, date_format=args.quotes_date_format)
+
+
+def life_argv(life: LifeSettings | None) -> list[str]:
+    if life is None:
+        return []
+    out = ["--expiry", life.expiry] if life.expiry is not None else ["--days", str(life.days)]
+    out += ["--day-basis", life.basis]
+    h = life.holidays
+    return out + (["--holidays", str(Path(h.source).absolute())] if h is not None and h.source else [])
+
+
+def quotes_argv(q: QuotesSettings | None) -> list[str]:
+    if q is None:
+        return []
+    out = ["--quotes", str(Path(q.file.source).absolute())] if q.file.source else []
+    return out + ([f"--quotes-date-format={q.date_format}"] if q.date_format else [])
 
 
 # ---------------------------------------------------------------------------- the groups
@@ -417,6 +496,8 @@ GROUPS: dict[str, OptionGroup] = {
         OptionGroup("garch", add_garch, garch_from_args, argv=garch_argv),
         OptionGroup("option", add_option, option_from_args, argv=option_argv),
         OptionGroup("decision", add_decision, decision_from_args, argv=decision_argv),
+        OptionGroup("life", add_life, life_from_args, argv=life_argv),
+        OptionGroup("quotes", add_quotes, quotes_from_args, argv=quotes_argv),
     )
 }
 """Every settings group the command line knows, by :class:`Settings` field."""

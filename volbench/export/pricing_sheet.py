@@ -181,6 +181,57 @@ def add_pricing_sheet(wb, *, spot, strike, rate, dividend_yield, years,
     return PricingSheet(title=title, inputs=cells, rows=rows, cached=cached)
 
 
+def comparison_sheets(wb, comparison) -> list[PricingSheet]:
+    """One live pricing sheet per series of an export's comparison table.
+
+    Parameters
+    ----------
+    wb
+        ``openpyxl.Workbook`` to add to.
+    comparison
+        The export's ``comparison`` table (:func:`volbench.export.sections.comparison_section`):
+        per series, the option (``spot``, ``strike``, ``rate``, ``dividend_yield``, ``years``,
+        ``kind``) and one row per vol (``label``, ``vol``), the pricing vol first.
+
+    Returns
+    -------
+    list of PricingSheet
+        Titled :data:`SHEET_TITLE` for one series, ``"Live pricing 1"``, ``"Live pricing 2"``... for
+        several (the series is named under the title). A vol outside (0, 5) (a failed fit) gets no
+        row; a repeated label gets its key appended.
+    """
+    import pandas as pd
+
+    sheets: list[PricingSheet] = []
+    if comparison is None or not len(comparison):
+        return sheets
+    names = list(pd.unique(comparison["series"]))
+    for i, name in enumerate(names, start=1):
+        rows = comparison[comparison["series"] == name]
+        first = rows.iloc[0]
+        cands, seen = [], set()
+        for r in rows.itertuples(index=False):
+            vol = float(r.vol)
+            if not (math.isfinite(vol) and 0 < vol < 5):
+                continue
+            label = str(r.label) if r.label not in seen else f"{r.label} ({r.key})"
+            seen.add(label)
+            cands.append((label, vol))
+        life = ""
+        if "expiry" in rows.columns and isinstance(first.get("expiry"), str):
+            life = (f", expiring {first['expiry']} ({int(first['calendar_days'])} calendar days, "
+                    f"{int(first['trading_days'])} trading days)")
+        note = (f"{name}: {first['kind']} struck at {float(first['strike']):g}, spot {float(first['spot']):g}, "
+                f"as of {first['as_of']}{life}; years = {float(first['years']):.6g}. Candidate vols as in the "
+                "comparison sheet.")
+        title = SHEET_TITLE if len(names) == 1 else f"{SHEET_TITLE} {i}"
+        sheets.append(add_pricing_sheet(wb, spot=float(first["spot"]), strike=float(first["strike"]),
+                                        rate=float(first["rate"]), dividend_yield=float(first["dividend_yield"]),
+                                        years=float(first["years"]), candidates=cands, title=title,
+                                        kind_note=note))
+    return sheets
+
+
 # ---------------------------------------------------------------------------- cached results
 _NS = {"m": "http://schemas.openxmlformats.org/spreadsheetml/2006/main",
        "r": "http://schemas.openxmlformats.org/officeDocument/2006/relationships",

@@ -202,7 +202,13 @@ def garch_section(histories: Sequence[PriceHistory], settings: Settings,
     ``settings.garch.processes`` other than 1 fits several series in worker processes
     (:func:`volbench.models.fit_many`); 1 fits them one after the other in this process.
     """
-    days = None if settings.option is None else settings.option.days
+    def option_days(h: PriceHistory) -> int | None:
+        try:  # the option's life in bars (trading days to an expiry) for this series' as-of date
+            return analysis.option_days(h, settings)
+        except VolbenchError:  # the comparison section reports why
+            return None
+
+    days_by = {h.name: option_days(h) for h in histories}
     batch: dict[str, Any] = {}
     todo = [h for h in histories if not (given and given.get(h.name) is not None) and h.n >= 3]
     if settings.garch.processes != 1 and len(todo) > 1:
@@ -217,6 +223,7 @@ def garch_section(histories: Sequence[PriceHistory], settings: Settings,
     results, failed = _run("garch", histories, compute, given)
     rows, terms, notes = [], [], []
     for name, comp in results.items():
+        days = days_by.get(name)
         if comp.message:
             notes.append(_note("garch", name, "reading", comp.message))
         for f in comp.fits:
@@ -296,15 +303,30 @@ def comparison_section(histories: Sequence[PriceHistory], settings: Settings,
     offer candidates (GARCH, scaling), so nothing is computed twice.
     """
 
+    markets: dict[str, Any] = {}
+
     def compute(h: PriceHistory):
         offered = {name: part.outcome(h.name) for name, part in parts.items()}
-        return analysis.comparison_for(h, settings, given=offered)
+        if settings.quotes is not None:  # the market's implied vol: a candidate, and its own reading
+            try:
+                offered["quotes"] = analysis.market_for(h, settings)
+            except VolbenchError as exc:
+                offered["quotes"] = str(exc)
+        comp = analysis.comparison_for(h, settings, given=offered)
+        markets[h.name] = analysis.market_comparison_for(comp, offered)
+        return comp
 
     results, failed = _run("comparison", histories, compute, given)
     frames, notes = [], []
     for name, c in results.items():
+        market = markets.get(name)
+        if market is not None:
+            notes += [_note("comparison", name, "market", t) for t in market.reading]
         front = {k: getattr(c, k) for k in COMPARISON_FRONT[1:]}
         front["cone_percentile"] = np.nan if c.cone_percentile is None else float(c.cone_percentile)
+        front.update(expiry=None if c.life is None else c.life.expiry,  # the option's life by date
+                     calendar_days=None if c.life is None else c.life.calendar_days,
+                     trading_days=c.days, basis_factor=c.basis_factor)
         t = c.table.rename(columns={"window": "candidate_window"})
         frames.append(_with_series(t, name, **front))
         notes += [_note("comparison", name, "reading", t) for t in c.full_reading]

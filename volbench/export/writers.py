@@ -24,6 +24,7 @@ from volbench.errors import VolbenchError
 from volbench.export import layout
 from volbench.export.atomic import atomic_write, check_destination
 from volbench.export.bundle import TABLE_ORDER, ExportBundle
+from volbench.export.pricing_sheet import comparison_sheets, workbook_bytes
 from volbench.export.safety import escape_controls, neutralise
 from volbench.export.schema import SCHEMA_VERSION
 from volbench.export.tsv import cell_value
@@ -176,9 +177,9 @@ def _xlsx_payload(bundle: ExportBundle) -> Callable[[BinaryIO], None]:
             _fill_sheet(ws, df, bundle.percent_columns.get(name, ()), bold)
         wb.properties.creator = f"volbench {__version__}"
         wb.properties.title = "volbench export"
-        buf = io.BytesIO()  # openpyxl seeks while zipping; write the finished bytes in one go
-        wb.save(buf)
-        fh.write(buf.getvalue())
+        # the option of the comparison as live formulas (one sheet per series), cached values filled in
+        sheets = comparison_sheets(wb, bundle.tables.get("comparison"))
+        fh.write(workbook_bytes(wb, sheets))  # saved in memory: openpyxl seeks while zipping
 
     return write
 

@@ -25,6 +25,7 @@ from typing import Any
 import pandas as pd
 
 from volbench import analysis
+from volbench.candidates import CandidateSet
 from volbench.data.history import PriceHistory
 from volbench.data.load import Loaded
 from volbench.data.options import ImportOptions
@@ -32,10 +33,13 @@ from volbench.errors import Cancelled, VolbenchError
 from volbench.estimators import EstimateReport
 from volbench.export import ExportBundle, build_bundle, write_export
 from volbench.gui.loading import load_files
+from volbench.market.candidate import MarketComparison, MarketView
 from volbench.models import GarchComparison, fit_many
 from volbench.pricing.bands import band_fan
 from volbench.pricing.compare import Comparison
 from volbench.pricing.cone import Cone, ConePlacement
+from volbench.pricing.daycount import OptionLife
+from volbench.pricing.implied import ImpliedVol, solve_implied_vol
 from volbench.scaling import ScalingResult
 from volbench.settings import DecisionSettings, GarchSettings, Settings
 from volbench.survey import DEFAULT_DAYS, SurveyResult, SurveySettings, run_survey
@@ -129,6 +133,14 @@ def forward_vols(fits, days: int) -> ForwardVols:
     return ForwardVols(days, MappingProxyType(vols), MappingProxyType(reasons))
 
 
+@dataclass(frozen=True)
+class Absent:
+    """A result not asked for (no premium entered, no quotes file open): the pane shows ``reason``,
+    the status line stays quiet (it is not a failure)."""
+
+    reason: str
+
+
 # ------------------------------------------------------------------------ requests
 @dataclass(frozen=True)
 class LoadRequest:
@@ -191,13 +203,30 @@ def _cone(ctx: Context, progress: Progress, cancel: Cancel):
     return analysis.cone_for(ctx.view, ctx.settings)
 
 
+def _life(ctx: Context, progress: Progress, cancel: Cancel):
+    life = analysis.life_for(ctx.view, ctx.settings)
+    if life is None:
+        raise VolbenchError("no option life in the settings")
+    return life
+
+
+def _option_days(ctx: Context) -> tuple[int, float]:
+    """The option's life in bars (trading days) and the factor onto the pricing vol's ACT/365 basis."""
+    life = ctx.result("life", OptionLife)
+    if life.trading_days < 1:
+        raise VolbenchError(f"no trading day between {life.as_of} and the expiry {life.expiry}")
+    return life.trading_days, life.pricing_basis_factor(ctx.settings.annualization)
+
+
 def _placement(ctx: Context, progress: Progress, cancel: Cancel):
     o = ctx.settings.option
     cone = ctx.result("cone", Cone)
+    days, factor = _option_days(ctx)
+    vol = o.pricing_vol / factor  # on the cone's trading-bar basis, as the comparison places it
     try:
-        return ConePosition(o.pricing_vol, o.days, cone.place(o.pricing_vol, o.days))
+        return ConePosition(vol, days, cone.place(vol, days))
     except VolbenchError as exc:
-        return ConePosition(o.pricing_vol, o.days, None, str(exc))
+        return ConePosition(vol, days, None, str(exc))
 
 
 def _scaling(ctx: Context, progress: Progress, cancel: Cancel):
@@ -216,7 +245,7 @@ def _garch(ctx: Context, progress: Progress, cancel: Cancel):
 
 
 def _forward(ctx: Context, progress: Progress, cancel: Cancel):
-    return forward_vols(ctx.result("garch", GarchComparison).fits, ctx.settings.option.days)
+    return forward_vols(ctx.result("garch", GarchComparison).fits, _option_days(ctx)[0])
 
 
 def _comparison(ctx: Context, progress: Progress, cancel: Cancel):
@@ -228,9 +257,41 @@ def _comparison(ctx: Context, progress: Progress, cancel: Cancel):
 
 def _bands(ctx: Context, progress: Progress, cancel: Cancel):
     c = ctx.result("comparison", Comparison)
-    fans = {row.key: band_fan(c.spot, row.vol, c.days, c.annualization)
+    a = c.annualization if c.life is None else c.days / c.years  # vol x sqrt(years) over the life, as priced
+    fans = {row.key: band_fan(c.spot, row.vol, c.days, a)
             for row in c.table.itertuples(index=False) if math.isfinite(row.vol)}
     return BandFans(c.days, MappingProxyType(fans))
+
+
+def _implied(ctx: Context, progress: Progress, cancel: Cancel):
+    """The implied vol of the option's observed premium, on the comparison's spot, strike and years."""
+    premium = ctx.settings.option.premium
+    if premium is None:
+        return Absent("Enter the option's premium to solve for its implied vol.")
+    c = ctx.result("comparison", Comparison)
+    return solve_implied_vol(premium, c.spot, c.strike, c.years, c.rate, c.dividend_yield, c.kind)
+
+
+def _quotes(ctx: Context, progress: Progress, cancel: Cancel):
+    """The quotes file's implied vols at the view's last date and the ATM vol for the option's expiry."""
+    if ctx.settings.quotes is None:
+        return CandidateSet.missing("quotes", "not requested")
+    _checkpoint(cancel)
+    progress(0, 1, f"Solving the quotes' implied vols against {ctx.view.name}")
+    view = analysis.market_for(ctx.view, ctx.settings)
+    _checkpoint(cancel)
+    return view
+
+
+def _market(ctx: Context, progress: Progress, cancel: Cancel):
+    view = ctx.result("quotes", (MarketView, CandidateSet))
+    if not isinstance(view, MarketView):
+        return Absent("Open a quotes file to compare with the market's implied vols.")
+    garch = ctx.results.get("garch")
+    cone = ctx.results.get("cone")
+    return analysis.market_comparison_for(ctx.result("comparison", Comparison),
+                                          {"quotes": view, "garch": garch if isinstance(garch, GarchComparison)
+                                           else None}, cone if isinstance(cone, Cone) else None)
 
 
 def _load(ctx: Context, progress: Progress, cancel: Cancel):
@@ -257,11 +318,11 @@ def _garch_all(ctx: Context, progress: Progress, cancel: Cancel):
     _checkpoint(cancel)
     settings = ctx.settings.garch.with_changes(processes=r.processes)
     comps = fit_many(r.views, settings, annualization=ctx.settings.annualization, progress=progress, cancel=cancel)
-    days = ctx.settings.option.days
+    days = analysis.option_days(r.views[0], ctx.settings) if r.views else 1  # trading days of the first series
     forward = []
-    for c in comps:
+    for v, c in zip(r.views, comps):
         try:
-            forward.append(c.forward_vol(days) if c.fits else None)
+            forward.append(c.forward_vol(analysis.option_days(v, ctx.settings)) if c.fits else None)
         except VolbenchError:
             forward.append(None)
     return BatchFits(days, tuple(comps), tuple(forward))
@@ -312,21 +373,27 @@ def _job(kind, inputs, run, returns, **kw) -> Job:
     return Job(kind, frozenset(inputs), run, returns, **kw)
 
 
-OPTION = ("pricing_vol", "days", "strike", "rate", "dividend_yield", "kind")
+LIFE = ("days", "day_basis", "expiry")
+OPTION = ("pricing_vol", *LIFE, "strike", "rate", "dividend_yield", "kind")
 
 JOBS: dict[str, Job] = {j.kind: j for j in (
     _job("rolling", ("view", "window", "annualization"), _rolling, analysis.RollingSet),
     _job("estimates", ("view", "window", "annualization"), _estimates, EstimateReport),
     _job("cone", ("view", "annualization", "cone_estimator"), _cone, Cone),
-    _job("placement", ("cone", "pricing_vol", "days"), _placement, ConePosition),
+    _job("life", ("view", *LIFE), _life, OptionLife),
+    _job("placement", ("cone", "pricing_vol", "life", "annualization"), _placement, ConePosition),
     _job("scaling", ("view", "annualization"), _scaling, ScalingResult, background=True,
          busy="Running the scaling check on {name}…"),
     _job("garch", ("view", "annualization", "garch_model", "garch_dist"), _garch, GarchComparison,
          background=True, busy="Fitting GARCH models to {name}…"),
-    _job("forward", ("garch", "days"), _forward, ForwardVols),
-    _job("comparison", ("view", "annualization", *OPTION, "cone_estimator", "cone", "scaling", "garch"),
+    _job("forward", ("garch", "life"), _forward, ForwardVols),
+    _job("quotes", ("view", "annualization", "quotes_file", *LIFE, "rate", "dividend_yield", "cone_estimator"), _quotes,
+         (MarketView, CandidateSet), background=True, busy="Solving the quotes' implied vols for {name}…"),
+    _job("comparison", ("view", "annualization", *OPTION, "cone_estimator", "cone", "scaling", "garch", "quotes"),
          _comparison, Comparison),
+    _job("market", ("comparison", "quotes"), _market, (MarketComparison, Absent)),
     _job("bands", ("comparison",), _bands, BandFans),
+    _job("implied", ("comparison", "premium"), _implied, (ImpliedVol, Absent)),
     _job("load", (), _load, Loaded, background=True, on_demand=True, busy="Reading {files}…"),
     _job("export", (), _export, Path, background=True, on_demand=True, busy="Exporting to {file}…"),
     _job("garch_all", (), _garch_all, BatchFits, background=True, on_demand=True,

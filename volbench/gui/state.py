@@ -17,7 +17,7 @@ the command line's message, word for word.
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 from PySide6.QtCore import QObject, Signal
@@ -32,10 +32,59 @@ from volbench.settings import (
     ConeSettings,
     EstimationSettings,
     GarchSettings,
+    LifeSettings,
     OptionSettings,
+    QuotesSettings,
     ScalingSettings,
     Settings,
 )
+
+
+@dataclass(frozen=True)
+class LifeChoice:
+    """The window's option life: days on a basis, or an expiry date, which wins when set.
+
+    The window keeps the days while an expiry is shown (so switching back restores them);
+    :meth:`settings` gives the :class:`~volbench.settings.LifeSettings` every job runs with, the
+    object the command line builds from ``--days``/``--day-basis`` or ``--expiry``.
+    """
+
+    days: int = 30
+    basis: str = "trading"
+    expiry: str | None = None
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "days", validate.days(self.days))
+        object.__setattr__(self, "basis", validate.day_basis(self.basis))
+        object.__setattr__(self, "expiry", validate.expiry(self.expiry))
+
+    def with_changes(self, **changes: Any) -> LifeChoice:
+        return replace(self, **changes)
+
+    def settings(self) -> LifeSettings:
+        if self.expiry is not None:
+            return LifeSettings(expiry=self.expiry)
+        return LifeSettings(days=self.days, basis=self.basis)
+
+
+@dataclass(frozen=True)
+class QuotesChoice:
+    """The window's market quotes file (``None``: none), read once when chosen; :meth:`settings`
+    gives the :class:`~volbench.settings.QuotesSettings` jobs run with (``None`` without a file)."""
+
+    file: str | None = None
+    read: Any = field(default=None, compare=False, repr=False)
+
+    def __post_init__(self) -> None:
+        if self.file is not None and self.read is None:
+            object.__setattr__(self, "read", QuotesSettings(file=self.file))
+
+    def with_changes(self, **changes: Any) -> QuotesChoice:
+        return QuotesChoice(**{"file": self.file, **changes})
+
+    def settings(self) -> QuotesSettings | None:
+        return self.read
+
 
 GROUPS: dict[str, Callable[[], Any]] = {
     "import_options": ImportOptions,
@@ -43,9 +92,12 @@ GROUPS: dict[str, Callable[[], Any]] = {
     "cone": ConeSettings,
     "scaling": ScalingSettings,
     "garch": GarchSettings,
-    "option": lambda: OptionSettings(pricing_vol=0.25, days=30),
+    "option": lambda: OptionSettings(pricing_vol=0.25),
+    "life": LifeChoice,
+    "quotes": QuotesChoice,
 }
-"""The settings groups the window holds, with the window's defaults."""
+"""The settings groups the window holds, with the window's defaults (the option's life in
+:class:`LifeChoice`, given to jobs as :class:`~volbench.settings.LifeSettings`)."""
 
 
 def _window(value):
@@ -86,7 +138,11 @@ FIELDS: dict[str, Field] = {
     "annualization": Field("estimation", "annualization"),
     "as_of": Field("estimation", "as_of", _optional_text),
     "pricing_vol": Field("option", "pricing_vol"),
-    "days": Field("option", "days"),
+    "days": Field("life", "days"),
+    "day_basis": Field("life", "basis"),
+    "expiry": Field("life", "expiry", _optional_text),
+    "premium": Field("option", "premium", _optional_text),
+    "quotes_file": Field("quotes", "file", _optional_text),
     "strike": Field("option", "strike", _strike),
     "rate": Field("option", "rate"),
     "dividend_yield": Field("option", "dividend_yield"),
@@ -143,7 +199,9 @@ class Choices:
 
     def settings(self) -> Settings:
         """Every group as the one :class:`Settings` a job runs with (the same object the CLI builds)."""
-        return Settings(**self._groups)
+        groups = {k: (g.settings() if isinstance(g, (LifeChoice, QuotesChoice)) else g)
+                  for k, g in self._groups.items()}
+        return Settings(**groups)
 
     def import_options(self) -> ImportOptions:
         """How files are read. Flagged rows are kept at import: the window applies the choice to what it shows."""

@@ -24,6 +24,7 @@ from volbench.estimators import estimate_all, get_spec
 from volbench.format import money, ordinal, pct, points
 from volbench.pricing.bsm import bsm_greeks, check_kind, check_pricing_vol, check_rate
 from volbench.pricing.cone import DEFAULT_CONE_WINDOWS, Cone, ConePlacement, _check_days, vol_cone
+from volbench.pricing.daycount import OptionLife
 from volbench.pricing.promise import PromiseCheck, promises_for
 from volbench.types import (
     DEFAULT_ANNUALIZATION,
@@ -99,6 +100,12 @@ class Comparison:
         What each vol promises about the price (bands, straddle, breakevens) against the history's
         moves (:func:`volbench.pricing.promise.promises_for`); ``None`` with the reason under
         ``unavailable["bands"]``.
+    life
+        The option's life by date (expiry, calendar days, ACT/365 years, trading days) when it was
+        given as an expiry or days on a basis; ``None`` when the life is ``days`` bars.
+    basis_factor
+        sqrt((days / annualization) / years): the history's vols (annualized over trading bars) are
+        multiplied by it to put them on the pricing vol's ACT/365 basis (1 without a ``life``).
     """
 
     name: str
@@ -122,6 +129,8 @@ class Comparison:
     cone_estimator: str = "close_to_close"
     reading: tuple[str, ...] = ()
     promises: PromiseCheck | None = None
+    life: OptionLife | None = None
+    basis_factor: float = 1.0
 
     @property
     def candidates(self) -> pd.DataFrame:
@@ -146,6 +155,11 @@ class Comparison:
         out = {
             "name": self.name, "as_of": self.as_of, "pricing_vol": self.pricing_vol, "days": self.days,
             "window": self.window, "years": self.years, "annualization": self.annualization,
+            "expiry": None if self.life is None else self.life.expiry,
+            "calendar_days": None if self.life is None else self.life.calendar_days,
+            "trading_days": self.days,
+            "life": None if self.life is None else self.life.as_dict(),
+            "basis_factor": self.basis_factor,
             "option": {"kind": self.kind, "spot": self.spot, "strike": self.strike, "rate": self.rate,
                        "dividend_yield": self.dividend_yield, "years": self.years},
             "pricing": {"vol": self.pricing_vol, "price": self.price, "vega": self.vega,
@@ -159,7 +173,12 @@ class Comparison:
                             "price_diff": "price at candidate vol - price at pricing vol",
                             "vega_approx_diff": "vega at pricing vol (per 1.00) x (candidate vol - pricing vol)",
                             "vega": "per 1.00 of vol; vega_point per vol point",
-                            "ci_low": "the candidate's own interval, when it has one (null otherwise)"},
+                            "ci_low": "the candidate's own interval, when it has one (null otherwise)",
+                            "years": ("calendar days / 365 (ACT/365)" if self.life is not None
+                                      else "days / annualization"),
+                            "basis_factor": ("history's vols x sqrt((trading_days / annualization) / years), "
+                                             "the same variance over the ACT/365 years; the pricing vol is "
+                                             "divided by it to place it in the cone")},
         }
         if self.promises is not None:
             p = self.promises.as_dict()
@@ -204,6 +223,7 @@ def compare(
     cone_windows: Sequence[int] = DEFAULT_CONE_WINDOWS,
     cone: Cone | None = None,
     estimator_options: dict | None = None,
+    life: OptionLife | None = None,
 ) -> Comparison:
     """Set a proposed pricing vol against the history and reprice the option at each candidate vol.
 
@@ -234,6 +254,10 @@ def compare(
         ``annualization`` and ``cone_estimator``.
     estimator_options
         ``zero_mean``, ``lam`` for the estimators (their notes follow, e.g. EWMA's half-life).
+    life
+        The option's life by date (:func:`volbench.pricing.daycount.option_life`); its
+        ``trading_days`` must equal ``days``. Then years = calendar days / 365 (ACT/365) and every
+        vol from the history is put on that basis (see Notes).
 
     Returns
     -------
@@ -251,6 +275,12 @@ def compare(
     difference is set beside the first-order estimate vega x (vol - pricing vol), which misses the
     curvature (volga) and so drifts apart for large gaps or far-from-the-money options. The cone
     percentile follows :meth:`volbench.pricing.cone.Cone.place` (Burghardt & Lane 1990).
+
+    With a ``life``, the history's vols (annualized over A trading bars) are multiplied by
+    f = sqrt((N / A) / T), N trading days and T ACT/365 years, so that f^2 sigma^2 T = sigma^2 N / A,
+    the same variance over the life; the pricing vol is divided by f to place it in the cone, and
+    the price promises use the total deviation vol x sqrt(T) (docs/METHODS.md, "Day counts and the
+    option's life"; common practice, no source).
     """
     pv = check_pricing_vol(pricing_vol)
     d = _check_days(days)
@@ -267,7 +297,13 @@ def compare(
     if cone is not None:
         _check_cone(cone, history, a, cone_estimator)
     spot, strike, rate, q, kind = _option(history, option)
-    years = d / a
+    years, factor = d / a, 1.0
+    if life is not None:
+        if not isinstance(life, OptionLife):
+            raise VolbenchError(f"life must be an OptionLife, got {type(life).__name__}")
+        if life.trading_days != d:
+            raise VolbenchError(f"the option's life has {life.trading_days} trading days but days is {d}")
+        years, factor = life.years, life.pricing_basis_factor(a)
     for src in sources:
         if not isinstance(src, CandidateSource):
             raise VolbenchError(f"a comparison source must offer candidates(days), got {type(src).__name__}")
@@ -279,7 +315,7 @@ def compare(
     unavailable: dict[str, str] = {}
     for cs in sets:
         for c in cs.items:
-            rows.append(_row(c, window_note if c.source == "estimator" else ""))
+            rows.append(_row(c, window_note if c.source == "estimator" else "", factor))
         unavailable.update(cs.unavailable)
 
     pricing_row = {"source": "pricing", "key": "pricing", "label": "Pricing vol", "window": None,
@@ -304,7 +340,7 @@ def compare(
     try:
         if cone is None:
             cone = vol_cone(history, cone_estimator, cone_windows, annualization=a)
-        placement = cone.place(pv, d)
+        placement = cone.place(pv / factor, d)
     except VolbenchError as exc:
         unavailable["cone"] = str(exc)
 
@@ -313,18 +349,25 @@ def compare(
         annualization=a, spot=spot, strike=strike, rate=rate, dividend_yield=q, kind=kind,
         price=p0, vega=v0, table=table, unavailable=unavailable,
         cone_percentile=None if placement is None else placement.percentile, cone=placement,
-        cone_estimator=cone_estimator,
+        cone_estimator=cone_estimator, life=life, basis_factor=factor,
     )
-    try:
-        comp = replace(comp, promises=promises_for(comp, history))
+    try:  # the promises use vol x sqrt(days / annualization) = vol x sqrt(years) with this annualization
+        basis = comp if life is None else replace(comp, annualization=d / years)
+        comp = replace(comp, promises=promises_for(basis, history))
     except VolbenchError as exc:
         comp = replace(comp, unavailable={**comp.unavailable, "bands": str(exc)})
     return _with_reading(comp, [cs for cs in sets[1:] if cs.headline is not None], sources)
 
 
-def _row(c: Candidate, default_note: str) -> dict:
-    return {"source": c.source, "key": c.key, "label": c.label, "window": c.window, "vol": c.vol,
-            "ci_low": c.ci_low, "ci_high": c.ci_high, "note": c.note or default_note}
+def _row(c: Candidate, default_note: str, factor: float = 1.0) -> dict:
+    """A candidate's row; ``factor`` puts its vol and interval on the pricing vol's basis."""
+    def scaled(v):
+        return None if v is None else v * factor
+
+    if c.on_pricing_basis:  # an implied vol is already on the pricing vol's basis
+        factor = 1.0
+    return {"source": c.source, "key": c.key, "label": c.label, "window": c.window, "vol": c.vol * factor,
+            "ci_low": scaled(c.ci_low), "ci_high": scaled(c.ci_high), "note": c.note or default_note}
 
 
 # ---------------------------------------------------------------------------- plain reading
@@ -338,7 +381,9 @@ def _cone_line(c: Comparison) -> list[str]:
         where = "below every value in the history of"
     else:
         where = f"at the {ordinal(round(p))} percentile of"
-    return [f"pricing vol {pct(c.pricing_vol, 1)} sits {where} {c.cone.note}"]
+    basis = ("" if c.life is None else
+             f" (as {pct(c.pricing_vol / c.basis_factor, 1)} over {c.days} trading days, the cone's basis)")
+    return [f"pricing vol {pct(c.pricing_vol, 1)}{basis} sits {where} {c.cone.note}"]
 
 
 def _reference_lines(c: Comparison, cand: pd.DataFrame) -> list[str]:
@@ -393,13 +438,15 @@ def _range_line(c: Comparison, cand: pd.DataFrame) -> list[str]:
 def _headline_line(c: Comparison, cs: CandidateSet) -> list[str]:
     """A source's lead candidate (e.g. the preferred fit); a fallback's number is named as such."""
     head = cs.headline
-    gap_points = 100.0 * (head.vol - c.pricing_vol)
+    vol = head.vol * (1.0 if head.on_pricing_basis else c.basis_factor)  # on the pricing vol's basis, as in the table
+    gap_points = 100.0 * (vol - c.pricing_vol)
     side = "below" if gap_points < 0 else "above"
     gap = f"{points(abs(gap_points))} vol points {side} the pricing vol"
     if head.fallback is None:
-        return [f"{head.label} {cs.what} over {c.days} bars is {pct(head.vol, 1)}, {gap}"]
+        over = f"for {c.life.expiry}" if head.on_pricing_basis and c.life is not None else f"over {c.days} bars"
+        return [f"{head.label} {cs.what} {over} is {pct(vol, 1)}, {gap}"]
     return [(f"no {cs.title} gave a usable forecast, so the {cs.what} over {c.days} bars is a fallback's: "
-             f"{pct(head.vol, 1)} from {head.fallback}; {gap}")]
+             f"{pct(vol, 1)} from {head.fallback}; {gap}")]
 
 
 def _moneyness_line(c: Comparison) -> list[str]:

@@ -5,6 +5,8 @@ from volbench.gui.panes.comparison_pane import ComparisonPane
 from volbench.gui.panes.cone_pane import ConePane
 from volbench.gui.panes.controls import ControlsPane
 from volbench.gui.panes.data_pane import DataPane
+from volbench.gui.panes.life_pane import LifePane
+from volbench.gui.panes.market_pane import MarketPane
 from volbench.gui.panes.model_pane import ModelPane
 from volbench.gui.panes.price_pane import PricePane
 from volbench.gui.panes.rolling_pane import RollingPane
@@ -18,7 +20,9 @@ PANES: list[type[Pane]] = [
     ScalingPane,
     ConePane,
     ModelPane,
+    MarketPane,
     ControlsPane,
+    LifePane,
     ComparisonPane,
     SurveyPane,
 ]

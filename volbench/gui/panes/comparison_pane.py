@@ -86,8 +86,11 @@ class ComparisonPane(Pane):
         self.table.set_frame(pd.DataFrame(rows, columns=COMPARE_COLUMNS), c.table, swatch=swatch,
                              right=COMPARE_COLUMNS[1:7])
         strike = "at the money" if abs(c.strike - c.spot) < 1e-12 else f"strike {c.strike:,.4g}"
+        life = (f"{c.days}-bar {c.kind}" if c.life is None else
+                f"{c.kind} expiring {c.life.expiry} ({c.life.calendar_days} calendar days = {c.years:.4f} years, "
+                f"{c.days} trading days; history's vols x {c.basis_factor:.4f})")
         self.heading.setText(
-            f"Pricing vol {pct(c.pricing_vol)} for a {c.days}-bar {c.kind} on {c.name} ({strike}, spot "
+            f"Pricing vol {pct(c.pricing_vol)} for a {life} on {c.name} ({strike}, spot "
             f"{c.spot:,.4g}, rate {pct(c.rate)}, yield {pct(c.dividend_yield)}), as of {c.as_of}: price "
             f"{c.price:,.4f}. Estimators over the last {c.window} bars"
             + (" (the option's life)." if c.window == c.days else "."))
@@ -102,7 +105,7 @@ class ComparisonPane(Pane):
             elif kind in c.unavailable and c.unavailable[kind] != "not requested":
                 missing.append(f"{words}: {c.unavailable[kind]}")
         for key, why in c.unavailable.items():
-            if key not in PENDING_WORDS and key != "cone":
+            if key not in PENDING_WORDS and key != "cone" and why != "not requested":
                 missing.append(f"{key.replace('_', ' ')}: {why}")
         extra = ("<p style='color:#5A5F56'>Not shown: " + "; ".join(missing) + "</p>") if missing else ""
         self.reading.setText("<b>Reading</b><ul style='margin-left:-20px'>" + "".join(lines) + "</ul>" + extra
