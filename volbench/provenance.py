@@ -123,7 +123,9 @@ def _walk(obj, prefix: str, out: dict[str, Any]) -> None:
     for f in dataclasses.fields(obj):
         value = getattr(obj, f.name)
         key = f"{prefix}.{f.name}"
-        if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        if hasattr(value, "source") and hasattr(value, "findings"):  # a file read for a setting
+            out[key] = f"file {Path(value.source).absolute()}" if value.source else "given directly"
+        elif dataclasses.is_dataclass(value) and not isinstance(value, type):
             _walk(value, key, out)
         elif isinstance(value, (list, tuple)):
             out[key] = ",".join(str(v) for v in value)

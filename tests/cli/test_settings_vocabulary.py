@@ -19,15 +19,25 @@ import pytest
 from volbench.cli import build_parser
 from volbench.cli.options import GROUPS, OptionGroup, export_argv, settings_from_args
 from volbench.export import build_bundle
-from volbench.settings import Settings, group_types
+from volbench.settings import LifeSettings, OptionSettings, QuotesSettings, Settings, group_types
 
 # Values tried in turn for a field (the first the group accepts and that differs from the
 # default is used); a new field whose type none of these fits fails below with its name.
 SAMPLES = (7, 3, 150, 0.9, 0.1, 0.3, 0.02, 300.0, 2.5, (5, 10, 21), (2, 4), "t", "zero", "put", "parkinson", "gjr",
-           "2020-06-30", "%d/%m/%Y", ";", ",", "some text")
+           "2020-06-30", "%d/%m/%Y", ";", ",", "calendar", "some text")
 
-BASE = {"option": {"pricing_vol": 0.25, "days": 30}}
+QUOTES = Path(__file__).resolve().parents[2] / "sample_prices" / "quotes" / "ironvale_mining_quotes.csv"
+
+BASE = {"option": {"pricing_vol": 0.25}, "life": {"days": 30}, "quotes": {"file": QUOTES}}
 """Required fields of groups that have no default object."""
+
+FILE_FIELDS = {"life.holidays", "quotes.file", "quotes.date_format", "life.expiry"}
+"""Settings that name a file read when the settings are built, the expiry (which excludes the
+base's days) and a date format the sample file must match: round-tripped in
+``test_settings_naming_files_survive_by_path``."""
+
+NEEDS_OPTION = {"life", "quotes"}
+"""Groups that only mean something with a comparison (the command line refuses them alone)."""
 
 
 def _field_paths(cls, prefix: str):
@@ -35,7 +45,7 @@ def _field_paths(cls, prefix: str):
     obj = cls(**BASE.get(prefix.split(".")[0], {}))
     for f in dataclasses.fields(obj):
         value = getattr(obj, f.name)
-        if dataclasses.is_dataclass(value):
+        if dataclasses.is_dataclass(value) and f"{prefix}.{f.name}" not in FILE_FIELDS:
             for g in dataclasses.fields(value):
                 yield f"{prefix}.{f.name}.{g.name}", (f.name, g.name)
         else:
@@ -72,7 +82,7 @@ def _variant(cls, group: str, names: tuple[str, ...]):
 def _cases():
     for group, cls in group_types().items():
         for path, names in _field_paths(cls, group):
-            if path not in OptionGroup.NOT_ON_EXPORT:
+            if path not in OptionGroup.NOT_ON_EXPORT and path not in FILE_FIELDS:
                 yield pytest.param(group, cls, names, id=path)
 
 
@@ -92,9 +102,39 @@ def test_every_group_has_export_flags():
 def test_every_setting_has_an_export_flag(group, cls, names, tmp_path):
     # common practice, no source: a setting survives export command -> parser -> settings unchanged
     changed = _variant(cls, group, names)
-    settings = Settings(**{group: changed, **({"option": None} if group == "decision" else {})})
+    context = {"option": None} if group == "decision" else {}
+    if group in NEEDS_OPTION:
+        context = {"option": OptionSettings(pricing_vol=0.25)}
+        context.update({} if group == "life" else {"life": LifeSettings(days=30)})
+    if group == "option" and changed.days is None:  # the option's life comes from the life group
+        context = {"life": LifeSettings(days=30)}
+    settings = Settings(**{group: changed, **context})
     back = _round_trip(settings, tmp_path)
-    assert getattr(back, group) == changed, f"{group}.{'.'.join(names)} did not survive the export flags"
+    if (group, names) == ("option", ("days",)):  # bars of the option's life travel as the life group's --days
+        assert back.life == LifeSettings(days=changed.days, basis="trading")
+        assert back.option == dataclasses.replace(changed, days=None)
+        return
+    got = getattr(back, group)
+    if group == "quotes":  # the file read is compared by path and digest in the test below
+        assert got.file.sha256 == changed.file.sha256
+        got = dataclasses.replace(got, file=changed.file)
+    assert got == changed, f"{group}.{'.'.join(names)} did not survive the export flags"
+
+
+def test_settings_naming_files_survive_by_path(tmp_path):
+    # common practice, no source: a file setting is written as its absolute path and read again
+    hol = tmp_path / "holidays.txt"
+    hol.write_text("2024-12-25\n2025-01-01\n", encoding="utf-8")
+    settings = Settings(option=OptionSettings(pricing_vol=0.25),
+                        life=LifeSettings(expiry="2025-03-21", basis="calendar", holidays=hol),
+                        quotes=QuotesSettings(file=QUOTES, date_format="%Y-%m-%d", model="gjr"))
+    back = _round_trip(settings, tmp_path)
+    assert (back.life.expiry, back.life.basis) == ("2025-03-21", "calendar")
+    assert [str(d) for d in back.life.holidays.dates] == ["2024-12-25", "2025-01-01"]
+    assert Path(back.life.holidays.source).resolve() == hol.resolve()
+    assert Path(back.quotes.file.source).resolve() == QUOTES.resolve()
+    assert (back.quotes.date_format, back.quotes.model) == ("%Y-%m-%d", "gjr")
+    assert back.quotes.file.sha256 == settings.quotes.file.sha256
 
 
 def test_a_group_switched_off_stays_off(tmp_path):
@@ -107,7 +147,8 @@ def test_every_setting_has_an_inputs_row(sample_dir):
     from volbench.data import load_many
     from volbench.settings import DecisionSettings, GarchSettings, OptionSettings
 
-    settings = Settings(garch=GarchSettings(models=("garch",)), option=OptionSettings(pricing_vol=0.25, days=21),
+    settings = Settings(garch=GarchSettings(models=("garch",)), option=OptionSettings(pricing_vol=0.25),
+                        life=LifeSettings(days=21), quotes=QuotesSettings(file=QUOTES),
                         decision=DecisionSettings(vol=0.26, rationale="r", prepared_by="p"))
     histories = load_many([sample_dir / "ironvale_mining.csv"], settings.import_options)
     inputs = build_bundle(histories, settings).table("inputs")

@@ -440,17 +440,21 @@ def add_quotes(p: argparse.ArgumentParser) -> None:
                         "the realized vol and the forecast (implied minus forecast: the variance risk premium)")
     g.add_argument("--quotes-date-format", metavar="FMT", default=None,
                    help="strftime format of the quotes' expiry column when it is not ISO")
+    g.add_argument("--quotes-model", metavar="MODEL", default=None, choices=list(MODEL_REGISTRY),
+                   help="GARCH-family model whose forecast is set against each quoted expiry (default garch)")
     _register(p, "quotes")
 
 
 def quotes_from_args(args: argparse.Namespace) -> QuotesSettings | None:
     if args.quotes is None:
-        if args.quotes_date_format is not None:
-            raise VolbenchError("--quotes-date-format describes a quotes file: also give --quotes FILE")
+        extra = [o for o, k in (("--quotes-date-format", "quotes_date_format"), ("--quotes-model", "quotes_model"))
+                 if getattr(args, k, None) is not None]
+        if extra:
+            raise VolbenchError(f"{', '.join(extra)} describe a quotes file: also give --quotes FILE")
         return None
     if getattr(args, "pricing_vol", None) is None:
         raise VolbenchError("--quotes joins a comparison: also give --pricing-vol and --days (or --expiry)")
-    return QuotesSettings(file=args.quotes, date_format=args.quotes_date_format)
+    return QuotesSettings(file=args.quotes, date_format=args.quotes_date_format, model=args.quotes_model or "garch")
 
 
 def life_argv(life: LifeSettings | None) -> list[str]:
@@ -466,7 +470,8 @@ def quotes_argv(q: QuotesSettings | None) -> list[str]:
     if q is None:
         return []
     out = ["--quotes", str(Path(q.file.source).absolute())] if q.file.source else []
-    return out + ([f"--quotes-date-format={q.date_format}"] if q.date_format else [])
+    out += [f"--quotes-date-format={q.date_format}"] if q.date_format else []
+    return out + ["--quotes-model", q.model]
 
 
 # ---------------------------------------------------------------------------- the groups
@@ -483,8 +488,10 @@ class OptionGroup:
     every: bool = False
     argv: Callable[..., list[str]] | None = None
 
-    NOT_ON_EXPORT: ClassVar[frozenset[str]] = frozenset({"garch.processes"})
-    """Settings that change how the work is spread, never a number: not recorded as flags."""
+    NOT_ON_EXPORT: ClassVar[frozenset[str]] = frozenset({"garch.processes", "option.premium"})
+    """Settings that change how the work is spread, never a number (``garch.processes``), or that
+    only the window's premium solver reads and no export holds (``option.premium``): not recorded
+    as flags (their values are still in the inputs sheet)."""
 
 
 GROUPS: dict[str, OptionGroup] = {
