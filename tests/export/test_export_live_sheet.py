@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import datetime
 import re
 
 import pytest
@@ -36,7 +37,7 @@ def test_export_xlsx_prices_every_candidate_with_live_formulas(tmp_path, sample_
     comp = cached["comparison"]
     head = [c.value for c in comp[1]]
     rows = [dict(zip(head, [c.value for c in r])) for r in comp.iter_rows(min_row=2)]
-    assert rows and rows[0]["source"] == "pricing" and rows[0]["expiry"] == "2024-12-20"
+    assert rows and rows[0]["source"] == "pricing" and rows[0]["expiry"] == datetime.datetime(2024, 12, 20)  # a real date cell
     assert rows[0]["years"] == rows[0]["calendar_days"] / 365  # ACT/365 (common practice, no source)
     # Reference: volbench's BSM (checked against Hull's example in tests/pricing/test_bsm.py) and the
     # comparison sheet's own prices; the live sheet's formulas are evaluated by the `formulas` engine

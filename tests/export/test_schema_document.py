@@ -76,8 +76,13 @@ def test_written_workbooks_match_the_document(name, make_bundle, sample_historie
     bundle = make_bundle(sample_histories("ironvale_mining.csv"), estimation=EstimationSettings(window=40),
                          **OPTION_SETS[name])
     wb = openpyxl.load_workbook(write_xlsx(tmp_path / "x.xlsx", bundle))
-    assert wb.sheetnames == list(TABLE_ORDER)
-    for sheet in wb.sheetnames:
+    tables, live = wb.sheetnames[:len(TABLE_ORDER)], wb.sheetnames[len(TABLE_ORDER):]
+    assert tables == list(TABLE_ORDER)
+    # then the live pricing sheets (documented as formulas, not a table): one per compared series
+    assert all(s.startswith("Live pricing") for s in live)
+    assert bool(live) == ("comparison" in bundle.tables)
+    assert "**Live pricing**" in DOC.read_text(encoding="utf-8")
+    for sheet in tables:
         ws = wb[sheet]
         headers = [c.value for c in ws[1]]
         if sheet not in bundle.tables:

@@ -57,6 +57,7 @@ COMMAND_HELP: dict[str, str] = {
     "compare": "set a proposed pricing vol against the history and reprice the option",
     "price": "Black-Scholes-Merton price and greeks of a call and a put",
     "realized": "realized vol, signature plot, jump days and HAR forecast from intraday bars",
+    "replay": "rebuild an .xlsx or .json export from its record and compare every cell",
     "scaling": "check that returns scale like Brownian motion (variance ratio, normality, ...)",
     "survey": "survey many series at once: estimates, cone, scaling verdicts (and GARCH)",
 }

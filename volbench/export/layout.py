@@ -18,7 +18,7 @@ import pandas as pd
 from volbench.export.schema import ESTIMATES_COLUMNS
 from volbench.pricing.decision import DECISION_COLUMNS
 
-DATE_COLUMNS: frozenset[str] = frozenset({"as_of", "first_date", "last_date", "date"})
+DATE_COLUMNS: frozenset[str] = frozenset({"as_of", "first_date", "last_date", "date", "expiry"})
 """Columns holding ISO dates: written as real dates (``yyyy-mm-dd``) in .xlsx, ISO text elsewhere."""
 
 CONE_COLUMNS = ("series", "estimator", "window", "min", "p10", "p25", "p50", "p75", "p90", "max", "mean",
@@ -33,7 +33,8 @@ GARCH_FRONT = ("series", "model", "label", "dist", "fitted", "converged", "prefe
                "forward_days", "forward_vol", "forecast_method", "forward_vol_source", "candidate_label",
                "fallback", "fallback_vol", "loglik", "aic", "bic")
 GARCH_TERM_COLUMNS = ("series", "model", "horizon", "vol")
-COMPARISON_COLUMNS = ("series", "as_of", "pricing_vol", "days", "window", "years", "spot", "strike", "rate",
+COMPARISON_COLUMNS = ("series", "as_of", "pricing_vol", "days", "window", "years", "expiry", "calendar_days",
+                      "trading_days", "basis_factor", "spot", "strike", "rate",
                       "dividend_yield", "kind", "cone_estimator", "cone_percentile", "source", "key", "label",
                       "candidate_window", "vol", "ci_low", "ci_high", "gap_points", "price", "vega", "vega_point",
                       "price_diff", "vega_approx_diff", "note")
