@@ -265,6 +265,33 @@ class OptionSettings(_Group):
 
 
 @dataclass(frozen=True)
+class IntradaySettings(_Group):
+    """How intraday files are cut into sessions before they are analysed by day.
+
+    Attributes
+    ----------
+    session_break
+        ``None``: one session per calendar date; otherwise a gap such as ``"4h"``: a pause between
+        bars longer than this starts a new session (for sessions that cross midnight).
+    """
+
+    session_break: str | None = None
+
+    def __post_init__(self) -> None:
+        seconds = validate.session_break(self.session_break)
+        _set(self, "session_break", None if seconds is None else str(self.session_break).strip())
+
+    @property
+    def seconds(self) -> float | None:
+        """The break in seconds (``None``: calendar dates)."""
+        return validate.session_break(self.session_break)
+
+    def as_dict(self) -> dict:
+        return {"session_break": self.session_break,
+                "sessions": "calendar date" if self.session_break is None else f"gap longer than {self.session_break}"}
+
+
+@dataclass(frozen=True)
 class Settings:
     """One run's settings: a group object per part, ``None`` for a part not requested.
 
@@ -276,6 +303,8 @@ class Settings:
     cone, scaling, garch, option
         The volatility cone, the scaling check, the GARCH-type fits and the option to compare;
         ``None`` when not requested.
+    intraday
+        How intraday files are cut into sessions (``None``: by calendar date).
     created
         Time stamped on outputs (default: now, UTC).
     """
@@ -286,6 +315,7 @@ class Settings:
     scaling: ScalingSettings | None = field(default_factory=ScalingSettings)
     garch: GarchSettings | None = None
     option: OptionSettings | None = None
+    intraday: IntradaySettings | None = field(default_factory=IntradaySettings)
     created: datetime | None = None
 
     def __post_init__(self) -> None:

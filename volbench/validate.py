@@ -314,3 +314,13 @@ def rate(value, what: str = "rate") -> float:
         raise VolbenchError(f"{what} must be a decimal between -1 and 1 (0.05 means 5%), got {x:g}; "
                             f"it looks like a percent: did you mean {x / 100:g}?")
     return x
+
+
+def session_break(value) -> float | None:
+    """A session-break gap such as ``"4h"`` or ``"90min"`` in seconds; ``None`` (or ``""``, ``"date"``):
+    one session per calendar date."""
+    from volbench.intraday.sessions import parse_session_break
+
+    if value is None or (isinstance(value, str) and value.strip().lower() in ("", "date", "calendar")):
+        return None
+    return parse_session_break(value)

@@ -11,6 +11,7 @@ from volbench.cli.common import (
     add_format,
     adjustments_line,
     load_from_args,
+    print_interval,
     print_json,
     render_table,
     with_import,
@@ -87,6 +88,7 @@ def run_estimate(args: argparse.Namespace) -> int:
               f"flagged rows {'excluded' if h.exclude_flagged else 'kept'}"
               + (f" ({len([f for f in h.findings if f.severity != 'info'])} findings: run 'volbench check')"
                  if any(f.severity != "info" for f in h.findings) else ""))
+        print_interval(h)
         if adjustments_line(h):
             print(adjustments_line(h))
         rows = []

@@ -14,6 +14,7 @@ from volbench.cli.common import (
 )
 from volbench.cli.options import add_estimation, add_scaling, settings_from_args
 from volbench.format import number, p_value, pct
+from volbench.intraday.sessions import format_interval
 from volbench.scaling import ScalingResult, scaling_check
 
 _LABELS = {
@@ -69,7 +70,7 @@ def render_result(r: ScalingResult) -> str:
     head = (f"{r.name}  ({src}{': ' if src else ''}{prov.get('rows')} rows, {prov.get('first_date')} to "
             f"{prov.get('last_date')}; {r.n_returns} returns; flagged rows "
             f"{'excluded' if r.exclude_flagged else 'kept'})")
-    out = [head, f"annualized with {r.annualization:g} bars/year; significance level {r.alpha:g}"]
+    out = [head, *bars_line(prov), f"annualized with {r.annualization:g} bars/year; significance level {r.alpha:g}"]
     out += [f"note: {note}" for note in r.notes]
     out.append("")
     rows = []
@@ -105,3 +106,12 @@ def render_result(r: ScalingResult) -> str:
     if fa:
         out.append(f"  {fa['sentence']}")
     return "\n".join(out)
+
+
+def bars_line(provenance: dict) -> list[str]:
+    """The bar interval from a result's provenance, for an intraday file analysed by day (none for daily bars)."""
+    lay = provenance.get("intraday")
+    if lay is None:
+        return []
+    return [(f"bars: {format_interval(lay['bar_interval_seconds'])} bars, {lay['bars_per_session']} a session, "
+            f"{lay['sessions']} sessions (sessions by {lay['session_rule']}); analysed by day")]

@@ -27,6 +27,7 @@ from volbench.settings import (
     ConeSettings,
     EstimationSettings,
     GarchSettings,
+    IntradaySettings,
     OptionSettings,
     ScalingSettings,
     Settings,
@@ -254,6 +255,21 @@ def option_from_args(args: argparse.Namespace, required: bool = True) -> OptionS
         kind=args.kind or "call", window=getattr(args, "option_window", None))
 
 
+# ---------------------------------------------------------------------------- intraday sessions
+def add_intraday(p: argparse.ArgumentParser) -> None:
+    """``--session-break``: how intraday files are cut into sessions (:class:`IntradaySettings`)."""
+    g = p.add_argument_group("intraday files (analysed by day; docs/METHODS.md, Intraday data, realized "
+                             "measures and jumps)")
+    g.add_argument("--session-break", metavar="DURATION", default=None,
+                   help="a pause between bars longer than this starts a new session, e.g. 4h (default: one "
+                        "session per calendar date); for sessions that cross midnight")
+    _register(p, "intraday")
+
+
+def intraday_from_args(args: argparse.Namespace) -> IntradaySettings:
+    return IntradaySettings(session_break=getattr(args, "session_break", None))
+
+
 # ---------------------------------------------------------------------------- the groups
 @dataclass(frozen=True)
 class OptionGroup:
@@ -275,6 +291,7 @@ GROUPS: dict[str, OptionGroup] = {
         OptionGroup("scaling", add_scaling, scaling_from_args),
         OptionGroup("garch", add_garch, garch_from_args),
         OptionGroup("option", add_option, option_from_args),
+        OptionGroup("intraday", add_intraday, intraday_from_args, every=True),
     )
 }
 """Every settings group the command line knows, by :class:`Settings` field."""

@@ -32,6 +32,7 @@ from volbench.settings import (
     ConeSettings,
     EstimationSettings,
     GarchSettings,
+    IntradaySettings,
     OptionSettings,
     ScalingSettings,
     Settings,
@@ -44,6 +45,7 @@ GROUPS: dict[str, Callable[[], Any]] = {
     "scaling": ScalingSettings,
     "garch": GarchSettings,
     "option": lambda: OptionSettings(pricing_vol=0.25, days=30),
+    "intraday": IntradaySettings,
 }
 """The settings groups the window holds, with the window's defaults."""
 
