@@ -111,6 +111,17 @@ class IntradayBars:
         v[first] = q[first] = o2[first] = np.nan
         return v, q, o2
 
+    def covering(self, daily: PriceHistory) -> IntradayBars:
+        """These bars cut to the sessions of ``daily`` (a daily history built from them, perhaps cut
+        at an as-of date); itself when ``daily`` covers every session (its measures are then shared)."""
+        sd = self.layout.session_dates
+        if daily.n == len(sd) and daily.dates[0] == sd[0] and daily.dates[-1] == sd[-1]:
+            return self
+        day = self.bars.dates[self.layout.ends].astype("datetime64[D]").astype("datetime64[ns]")
+        keep = np.isin(day[self.layout.session_of_bar], daily.dates)
+        bars = self.bars.take(keep)
+        return IntradayBars(bars, infer_layout(bars.dates, self.layout.session_break_seconds))
+
     def select(self, exclude_flagged: bool) -> PriceHistory:
         """The daily history rebuilt from the bars with flagged bars left out (or restored)."""
         return by_days(self.bars.select(exclude_flagged), self.layout.session_break_seconds)

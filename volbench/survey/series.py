@@ -15,7 +15,7 @@ from threadpoolctl import threadpool_limits
 from volbench.data import load_prices
 from volbench.data.history import PriceHistory
 from volbench.errors import EstimatorUnavailable, VolbenchError
-from volbench.estimators import estimate_all, rolling_vol
+from volbench.estimators import DAILY_KEYS, estimate_all, rolling_vol
 from volbench.pricing.cone import place_in_cone
 from volbench.scaling import scaling_verdicts
 from volbench.survey.record import SEVERITIES, SurveyRecord, failed
@@ -70,7 +70,7 @@ def _count(history: PriceHistory) -> dict[str, int]:
 
 def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> SurveyRecord:
     a, days, window = s.annualization, s.days, s.estimate_window
-    report = estimate_all(h, window, annualization=a)
+    report = estimate_all(h, window, keys=DAILY_KEYS, annualization=a)  # a survey reads bars as they are
     unavailable = dict(report.unavailable)
     if not report.estimates:
         reasons = "; ".join(f"{k}: {r}" for k, r in report.unavailable.items())
