@@ -292,6 +292,19 @@ class IntradaySettings(_Group):
 
 
 @dataclass(frozen=True)
+class HarSettings(_Group):
+    """The HAR-RV forecast of realized variance (intraday files): forward-vol horizons in trading days."""
+
+    horizons: tuple[int, ...] = DEFAULT_TERM_HORIZONS
+
+    def __post_init__(self) -> None:
+        _set(self, "horizons", validate.term_horizons(self.horizons))
+
+    def as_dict(self) -> dict:
+        return {"horizons": list(self.horizons)}
+
+
+@dataclass(frozen=True)
 class Settings:
     """One run's settings: a group object per part, ``None`` for a part not requested.
 
@@ -305,6 +318,8 @@ class Settings:
         ``None`` when not requested.
     intraday
         How intraday files are cut into sessions (``None``: by calendar date).
+    har
+        The HAR-RV forecast candidate of intraday files (``None``: not requested).
     created
         Time stamped on outputs (default: now, UTC).
     """
@@ -316,6 +331,7 @@ class Settings:
     garch: GarchSettings | None = None
     option: OptionSettings | None = None
     intraday: IntradaySettings | None = field(default_factory=IntradaySettings)
+    har: HarSettings | None = field(default_factory=HarSettings)
     created: datetime | None = None
 
     def __post_init__(self) -> None:

@@ -176,3 +176,31 @@ def test_flagged_bars_are_selected_before_the_days_are_built(sim_intraday):
     with pytest.raises(VolbenchError, match="flagged rows were already excluded"):
         d.select(True).select(False)
     assert d.select(True).n == 8 and d.select(True).intraday is not None
+
+
+# ------------------------------------------------------------------------------ HAR candidate
+def test_har_forward_vol_is_a_comparison_candidate_for_intraday_files(tmp_path, capsys, sim_intraday):
+    from volbench.intraday import har_forecast
+
+    rng = np.random.default_rng(8)
+    daily_var = 0.2**2 / A * np.exp(np.cumsum(rng.normal(0, 0.1, 120)) * 0.5)
+    h = sim_intraday(120, 78, 0.2, seed=12, overnight_share=0.2, daily_var=daily_var)
+    f = write_csv(h, tmp_path / "quillon_5min.csv")
+    code, out, _ = _run(capsys, "compare", f, "--pricing-vol", "0.2", "--days", "30", "--format", "json")
+    assert code == 0
+    doc = json.loads(out)
+    row = next(r for r in doc["candidates"] if r["key"] == "har")
+    # the candidate is the core's HAR-RV term structure at the option's life (arch's HARX fit;
+    # Corsi 2009): sqrt(A x mean of the expected whole-day variances over days 1..30)
+    (loaded,) = load_prices(f)
+    fc = har_forecast(realized_measures(loaded), (30,), annualization=A)
+    assert row["vol"] == pytest.approx(float(fc.term_structure["vol"].iloc[0]), rel=1e-10)
+    assert row["label"] == "HAR-RV forward vol" and "Corsi 2009" in row["note"]
+
+
+def test_daily_comparison_has_no_har_row_and_lists_no_har_gap(sample_dir, capsys):
+    code, out, _ = _run(capsys, "compare", sample_dir / "ironvale_mining.csv", "--pricing-vol", "0.3", "--days",
+                        "30", "--format", "json")
+    doc = json.loads(out)
+    assert code == 0 and all(r["key"] != "har" for r in doc["candidates"])
+    assert "har" not in doc["unavailable"] and "realized" not in doc["unavailable"]

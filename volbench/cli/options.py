@@ -27,6 +27,7 @@ from volbench.settings import (
     ConeSettings,
     EstimationSettings,
     GarchSettings,
+    HarSettings,
     IntradaySettings,
     OptionSettings,
     ScalingSettings,
@@ -270,6 +271,16 @@ def intraday_from_args(args: argparse.Namespace) -> IntradaySettings:
     return IntradaySettings(session_break=getattr(args, "session_break", None))
 
 
+def add_har(p: argparse.ArgumentParser) -> None:
+    """The HAR-RV forecast (:class:`HarSettings`): on for every data command; it offers a candidate
+    only for intraday files."""
+    _register(p, "har")
+
+
+def har_from_args(args: argparse.Namespace) -> HarSettings:
+    return HarSettings()
+
+
 # ---------------------------------------------------------------------------- the groups
 @dataclass(frozen=True)
 class OptionGroup:
@@ -292,6 +303,7 @@ GROUPS: dict[str, OptionGroup] = {
         OptionGroup("garch", add_garch, garch_from_args),
         OptionGroup("option", add_option, option_from_args),
         OptionGroup("intraday", add_intraday, intraday_from_args, every=True),
+        OptionGroup("har", add_har, har_from_args, every=True),
     )
 }
 """Every settings group the command line knows, by :class:`Settings` field."""

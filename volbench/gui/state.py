@@ -32,6 +32,7 @@ from volbench.settings import (
     ConeSettings,
     EstimationSettings,
     GarchSettings,
+    HarSettings,
     IntradaySettings,
     OptionSettings,
     ScalingSettings,
@@ -46,6 +47,7 @@ GROUPS: dict[str, Callable[[], Any]] = {
     "garch": GarchSettings,
     "option": lambda: OptionSettings(pricing_vol=0.25, days=30),
     "intraday": IntradaySettings,
+    "har": HarSettings,
 }
 """The settings groups the window holds, with the window's defaults."""
 
