@@ -5,6 +5,7 @@ from volbench.gui.panes.comparison_pane import ComparisonPane
 from volbench.gui.panes.cone_pane import ConePane
 from volbench.gui.panes.controls import ControlsPane
 from volbench.gui.panes.data_pane import DataPane
+from volbench.gui.panes.intraday_pane import IntradayPane
 from volbench.gui.panes.model_pane import ModelPane
 from volbench.gui.panes.price_pane import PricePane
 from volbench.gui.panes.rolling_pane import RollingPane
@@ -15,6 +16,7 @@ PANES: list[type[Pane]] = [
     PricePane,
     RollingPane,
     ScalingPane,
+    IntradayPane,
     ConePane,
     ModelPane,
     ControlsPane,
