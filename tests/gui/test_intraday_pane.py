@@ -53,3 +53,15 @@ def test_daily_file_says_why_the_intraday_pane_is_empty(make_window, sample_dir)
     w.open_files([sample_dir / "kestrel_orchards.csv"])
     card = w.findChild(Card, "intraday_card")
     assert card.currentIndex() == 1 and "one bar a day" in card.message
+
+
+def test_window_session_break_choice_reaches_the_load(make_window, sample_dir):
+    # the window holds the same IntradaySettings group as the command line's --session-break
+    from volbench.settings import IntradaySettings
+
+    w = make_window(session_break="2h")
+    assert w.state.choices.group("intraday") == IntradaySettings(session_break="2h")
+    w.open_files([sample_dir / "intraday" / "gullridge_energy_5min.csv"])
+    (h,) = w.state.histories
+    assert h.intraday is not None and h.intraday.layout.session_break_seconds == 7200.0
+    assert h.intraday.as_dict()["session_rule"] == "gap longer than 120-minute"

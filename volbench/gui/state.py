@@ -106,12 +106,13 @@ FIELDS: dict[str, Field] = {
     "use_adjusted": Field("import_options", "use_adjusted"),
     "adjust_splits": Field("import_options", "adjust_splits"),
     "gap_days": Field("import_options", "gap_days"),
+    "session_break": Field("intraday", "session_break", _optional_text),
     "estimators": Field(None, "estimators", lambda v: tuple(validate.estimator(str(k)) for k in v)),
 }
 """Every control's field name -> the settings group and attribute that hold it."""
 
 IMPORT_FIELDS = frozenset({"date_format", "delimiter", "decimal", "thousands", "use_adjusted", "adjust_splits",
-                           "gap_days"})
+                           "gap_days", "session_break"})
 """Choices that change how files are read: changing one reads the files again."""
 
 
