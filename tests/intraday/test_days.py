@@ -204,3 +204,16 @@ def test_daily_comparison_has_no_har_row_and_lists_no_har_gap(sample_dir, capsys
     doc = json.loads(out)
     assert code == 0 and all(r["key"] != "har" for r in doc["candidates"])
     assert "har" not in doc["unavailable"] and "realized" not in doc["unavailable"]
+
+
+def test_export_records_the_bar_interval_and_sessions(sample_dir, tmp_path, capsys):
+    out = tmp_path / "sheet.json"
+    code, _, _ = _run(capsys, "export", sample_dir / "intraday" / "gullridge_energy_5min.csv", "--to", out,
+                      "--pricing-vol", "0.25", "--days", "30")
+    assert code == 0
+    doc = json.loads(out.read_text())
+    (p,) = doc["provenance"]["series"]
+    assert p["bar_interval_seconds"] == 300.0 and p["intraday"]["bars_per_session"] == 78
+    items = {r["item"]: r["value"] for r in doc["tables"]["inputs"] if r["group"] == "source"}
+    assert items["bar_interval_seconds"] == 300.0 and items["intraday.sessions"] == 126
+    assert "har" in {r["key"] for r in doc["tables"]["comparison"]}
