@@ -217,3 +217,9 @@ def test_export_records_the_bar_interval_and_sessions(sample_dir, tmp_path, caps
     items = {r["item"]: r["value"] for r in doc["tables"]["inputs"] if r["group"] == "source"}
     assert items["bar_interval_seconds"] == 300.0 and items["intraday.sessions"] == 126
     assert "har" in {r["key"] for r in doc["tables"]["comparison"]}
+
+
+def test_check_counts_the_bars_of_an_intraday_file(sample_dir, capsys):
+    code, out, _ = _run(capsys, "check", sample_dir / "intraday" / "gullridge_energy_5min.csv", "--format", "json")
+    (s,) = json.loads(out)["series"]
+    assert code == 0 and s["rows"] == 126 * 78 and s["bar_interval_seconds"] == 300.0
