@@ -26,12 +26,20 @@ from volbench.estimators import (
     estimate_all,
     rolling_all,
 )
+from volbench.intraday.candidate import HarCandidates, har_candidates
 from volbench.models import GarchComparison, fit_models
 from volbench.pricing.compare import Comparison, OptionSpec, compare
 from volbench.pricing.cone import Cone, vol_cone
 from volbench.pricing.daycount import OptionLife
 from volbench.scaling import ScalingResult, scaling_check
-from volbench.settings import ConeSettings, GarchSettings, OptionSettings, ScalingSettings, Settings
+from volbench.settings import (
+    ConeSettings,
+    GarchSettings,
+    HarSettings,
+    OptionSettings,
+    ScalingSettings,
+    Settings,
+)
 
 Progress = Callable[[int, int, str], None]
 Cancel = Callable[[], bool]
@@ -120,10 +128,21 @@ def market_for(history: PriceHistory, settings: Settings):
     return market_view(surface, life, versus)
 
 
+def har_for(history: PriceHistory, settings: Settings) -> HarCandidates:
+    """The HAR-RV forward vol of an intraday file analysed by day (nothing offered for daily bars),
+    over the settings' horizons and the option's life (:func:`~volbench.intraday.candidate.har_candidates`)."""
+    hz = tuple((settings.har or HarSettings()).horizons)
+    days = option_days(history, settings)
+    if days is not None:
+        hz = tuple(sorted({*hz, days}))
+    return har_candidates(history, hz, annualization=settings.annualization)
+
+
 CANDIDATE_PARTS: dict[str, Callable[[PriceHistory, Settings], CandidateSource]] = {
     "garch": garch_for,
     "scaling": scaling_for,
     "quotes": market_for,
+    "har": har_for,
 }
 """Parts of a run whose results offer comparison candidates, by :class:`Settings` field, in table order."""
 

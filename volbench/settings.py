@@ -402,6 +402,46 @@ class QuotesSettings(_Group):
 
 
 @dataclass(frozen=True)
+class IntradaySettings(_Group):
+    """How intraday files are cut into sessions before they are analysed by day.
+
+    Attributes
+    ----------
+    session_break
+        ``None``: one session per calendar date; otherwise a gap such as ``"4h"``: a pause between
+        bars longer than this starts a new session (for sessions that cross midnight).
+    """
+
+    session_break: str | None = None
+
+    def __post_init__(self) -> None:
+        seconds = validate.session_break(self.session_break)
+        _set(self, "session_break", None if seconds is None else str(self.session_break).strip())
+
+    @property
+    def seconds(self) -> float | None:
+        """The break in seconds (``None``: calendar dates)."""
+        return validate.session_break(self.session_break)
+
+    def as_dict(self) -> dict:
+        return {"session_break": self.session_break,
+                "sessions": "calendar date" if self.session_break is None else f"gap longer than {self.session_break}"}
+
+
+@dataclass(frozen=True)
+class HarSettings(_Group):
+    """The HAR-RV forecast of realized variance (intraday files): forward-vol horizons in trading days."""
+
+    horizons: tuple[int, ...] = DEFAULT_TERM_HORIZONS
+
+    def __post_init__(self) -> None:
+        _set(self, "horizons", validate.term_horizons(self.horizons))
+
+    def as_dict(self) -> dict:
+        return {"horizons": list(self.horizons)}
+
+
+@dataclass(frozen=True)
 class Settings:
     """One run's settings: a group object per part, ``None`` for a part not requested.
 
@@ -420,6 +460,10 @@ class Settings:
         ``option.days`` bars, years = days / annualization).
     quotes
         A market quotes file whose at-the-money implied vol joins the comparison (``None``: none).
+    intraday
+        How intraday files are cut into sessions (``None``: by calendar date).
+    har
+        The HAR-RV forecast candidate of intraday files (``None``: not requested).
     created
         Time stamped on outputs (default: now, UTC).
     """
@@ -433,6 +477,8 @@ class Settings:
     decision: DecisionSettings | None = None
     life: LifeSettings | None = None
     quotes: QuotesSettings | None = None
+    intraday: IntradaySettings | None = field(default_factory=IntradaySettings)
+    har: HarSettings | None = field(default_factory=HarSettings)
     created: datetime | None = None
 
     def __post_init__(self) -> None:

@@ -327,3 +327,13 @@ def expiry(value) -> str | None:
     """The option's expiry date: ISO ``YYYY-MM-DD``; ``None`` stays ``None``."""
     ts = date(value, "expiry date")
     return None if ts is None else ts.strftime("%Y-%m-%d")
+
+
+def session_break(value) -> float | None:
+    """A session-break gap such as ``"4h"`` or ``"90min"`` in seconds; ``None`` (or ``""``, ``"date"``):
+    one session per calendar date."""
+    from volbench.intraday.sessions import parse_session_break
+
+    if value is None or (isinstance(value, str) and value.strip().lower() in ("", "date", "calendar")):
+        return None
+    return parse_session_break(value)

@@ -82,7 +82,9 @@ def test_estimate_json_contract(capsys, ohlc_file, close_only_file):
     a, b = doc["series"]
     assert (a["name"], a["source"], a["rows"]) == ("dunmore_salt", str(f1), 60)
     assert (a["first_date"], a["last_date"], a["as_of"]) == ("2022-01-03", "2022-03-25", "2022-03-25")
-    assert a["unavailable"] == {}
+    # a daily file: the realized estimators say why they are missing, the bar interval is a day
+    assert a["unavailable"] == dict.fromkeys(("realized", "bipower"), "needs intraday bars; the file has one bar a day")
+    assert a["bar_interval_seconds"] == 86400.0 and "intraday" not in a
     assert b["unavailable"]["parkinson"] == "needs high/low columns"
     assert set(b["estimates"]) == {"close_to_close", "ewma"}
     # vol is the annualized decimal of the core's point estimate
@@ -115,10 +117,10 @@ def test_estimate_csv_format(capsys, ohlc_file, close_only_file):
     code, out, _ = _run(capsys, "estimate", ohlc_file(), close_only_file, "--window", "20", "--format", "csv")
     assert code == 0
     rows = list(csv.DictReader(io.StringIO(out)))
-    assert len(rows) == 12
+    assert len(rows) == 16
     assert list(rows[0]) == ["series", "as_of", "estimator", "window", "annualization", "vol", "ci_low",
                              "ci_high", "n", "flagged_rows", "unavailable_reason"]
-    assert [r["estimator"] for r in rows[:6]] == list(ESTIMATOR_KEYS)
+    assert [r["estimator"] for r in rows[:8]] == list(ESTIMATOR_KEYS)
     pk = next(r for r in rows if r["series"] == "brackwater_idx" and r["estimator"] == "parkinson")
     assert pk["vol"] == "" and pk["unavailable_reason"] == "needs high/low columns"
     cc = next(r for r in rows if r["series"] == "dunmore_salt" and r["estimator"] == "close_to_close")

@@ -11,7 +11,7 @@ import math
 import numpy as np
 import pytest
 
-from volbench.estimators import ESTIMATOR_KEYS, REGISTRY, point_estimate, rolling_vol
+from volbench.estimators import DAILY_KEYS, REGISTRY, point_estimate, rolling_vol
 from volbench.estimators.close_based import EWMA_LAMBDA, ewma_effective_n
 from volbench.estimators.range_based import yang_zhang_k
 
@@ -20,7 +20,7 @@ A = 252.0
 
 def test_registry_lists_the_six_classical_estimators_in_order():
     # docs/METHODS.md, "Estimators" table (common practice, no source for the order)
-    assert ESTIMATOR_KEYS == (
+    assert DAILY_KEYS == (
         "close_to_close", "parkinson", "garman_klass", "rogers_satchell", "yang_zhang", "ewma",
     )
     for key, spec in REGISTRY.items():
@@ -45,7 +45,7 @@ def test_zero_mean_close_to_close_by_hand(make_history):
     assert est.vol == pytest.approx(math.sqrt((r1**2 + r2**2) / 2 * A), rel=1e-12)
 
 
-@pytest.mark.parametrize("key", ESTIMATOR_KEYS)
+@pytest.mark.parametrize("key", DAILY_KEYS)
 @pytest.mark.parametrize("window", [2, 3, 4])
 def test_point_estimate_equals_plain_loop_on_tiny_table(tiny_ohlc, plain, key, window):
     # Formulas of docs/METHODS.md, "Estimators" written as plain loops (see conftest for the source of each).
@@ -55,7 +55,7 @@ def test_point_estimate_equals_plain_loop_on_tiny_table(tiny_ohlc, plain, key, w
     assert est.vol == pytest.approx(expected, rel=1e-12)
 
 
-@pytest.mark.parametrize("key", ESTIMATOR_KEYS)
+@pytest.mark.parametrize("key", DAILY_KEYS)
 def test_whole_sample_estimate_on_tiny_table(tiny_ohlc, plain, key):
     # Whole sample: every bar (every return for close-based estimators); EWMA seeds with its
     # 20-bar window capped at the available returns (5 here), so it equals the sample variance.
@@ -65,7 +65,7 @@ def test_whole_sample_estimate_on_tiny_table(tiny_ohlc, plain, key):
     assert est.vol == pytest.approx(math.sqrt(plain.var[key](h, h.n - 1, n) * A), rel=1e-12)
 
 
-@pytest.mark.parametrize("key", ESTIMATOR_KEYS)
+@pytest.mark.parametrize("key", DAILY_KEYS)
 def test_rolling_series_equals_plain_loop_on_tiny_table(tiny_ohlc, plain, key):
     # docs/METHODS.md, "Estimators": formulas written as plain loops (sources per estimator in conftest.py).
     h = tiny_ohlc()
@@ -80,7 +80,7 @@ def test_rolling_series_equals_plain_loop_on_tiny_table(tiny_ohlc, plain, key):
 def test_annualization_scales_vol_by_square_root(tiny_ohlc):
     # vol = sqrt(variance x A) (docs/METHODS.md, "Notation and conventions"; common practice, no source)
     h = tiny_ohlc()
-    for key in ESTIMATOR_KEYS:
+    for key in DAILY_KEYS:
         a252 = point_estimate(h, key, 4).vol
         a365 = point_estimate(h, key, 4, annualization=365).vol
         assert a365 / a252 == pytest.approx(math.sqrt(365 / 252), rel=1e-12)

@@ -10,7 +10,7 @@ from scipy import stats
 
 from volbench.errors import EstimatorUnavailable, VolbenchError
 from volbench.estimators import (
-    ESTIMATOR_KEYS,
+    DAILY_KEYS,
     availability,
     estimate_all,
     get_spec,
@@ -114,6 +114,8 @@ def test_close_only_history_makes_range_estimators_unavailable(make_history):
         "garman_klass": "needs high/low/open columns",
         "rogers_satchell": "needs high/low/open columns",
         "yang_zhang": "needs high/low/open columns",
+        "realized": "needs intraday bars; the file has one bar a day",
+        "bipower": "needs intraday bars; the file has one bar a day",
     }
     with pytest.raises(EstimatorUnavailable, match="parkinson: needs high/low columns") as info:
         point_estimate(h, "parkinson", 20)
@@ -161,7 +163,8 @@ def test_estimate_all_report(simulate_ohlc):
     d = rep.as_dict()
     assert d["as_of"] == as_of and d["last_date"] == as_of and d["rows"] == 80
     assert d["window"] == 20 and d["annualization"] == 365.0 and d["flagged_rows"] == "kept"
-    assert set(d["estimates"]) == set(ESTIMATOR_KEYS) and d["unavailable"] == {}
+    assert set(d["estimates"]) == set(DAILY_KEYS)
+    assert d["unavailable"] == dict.fromkeys(("realized", "bipower"), "needs intraday bars; the file has one bar a day")
     for k, e in d["estimates"].items():
         assert set(e) == {"vol", "ci_low", "ci_high", "n"}
         assert e["vol"] == pytest.approx(point_estimate(h, k, 20, as_of=as_of, annualization=365).vol)

@@ -9,14 +9,14 @@ import pandas as pd
 import pytest
 
 from volbench.errors import EstimatorUnavailable, VolbenchError
-from volbench.estimators import ESTIMATOR_KEYS, REGISTRY, point_estimate, rolling_vol
+from volbench.estimators import DAILY_KEYS, REGISTRY, point_estimate, rolling_vol
 from volbench.estimators.base import rolling_mean, rolling_var
 from volbench.estimators.range_based import yang_zhang_k
 
 A = 252.0
 
 
-@pytest.mark.parametrize("key", ESTIMATOR_KEYS)
+@pytest.mark.parametrize("key", DAILY_KEYS)
 def test_rolling_value_equals_point_estimate_at_every_checked_date(simulate_ohlc, key):
     # Same window ending at the same as-of date must give the same number on every surface
     # (common practice, no source).
@@ -31,7 +31,7 @@ def test_rolling_value_equals_point_estimate_at_every_checked_date(simulate_ohlc
         assert est.vol == pytest.approx(rv.values.loc[d], rel=1e-10), (key, d)
 
 
-@pytest.mark.parametrize("key", ESTIMATOR_KEYS)
+@pytest.mark.parametrize("key", DAILY_KEYS)
 def test_vectorised_rolling_equals_plain_loop_over_windows(simulate_ohlc, plain, key):
     # docs/METHODS.md, "Estimators": formulas written as plain loops over each window (sources in conftest.py).
     h = simulate_ohlc(160, 0.25, seed=32, steps=20, mu_annual=0.3, overnight_share=0.3)
@@ -45,7 +45,7 @@ def test_vectorised_rolling_equals_plain_loop_over_windows(simulate_ohlc, plain,
 
 def test_rolling_series_starts_where_the_window_first_fits(simulate_ohlc):
     h = simulate_ohlc(40, 0.2, seed=33, steps=10)
-    for key in ESTIMATOR_KEYS:
+    for key in DAILY_KEYS:
         rv = rolling_vol(h, key, 10)
         first = 10 + REGISTRY[key].extra_bars - 1
         assert rv.values.index[0] == h.index[first], key

@@ -19,7 +19,7 @@ import math
 import numpy as np
 import pytest
 
-from volbench.estimators import ESTIMATOR_KEYS, REGISTRY, point_estimate, rolling_vol
+from volbench.estimators import DAILY_KEYS, REGISTRY, point_estimate, rolling_vol
 from volbench.estimators.close_based import ewma_effective_n
 
 SIGMA = 0.20
@@ -39,7 +39,7 @@ def _tolerance(key: str, n_eff: float) -> tuple[float, float]:
     return 4 * se + bias, 4 * se
 
 
-@pytest.mark.parametrize("key", ESTIMATOR_KEYS)
+@pytest.mark.parametrize("key", DAILY_KEYS)
 def test_recovers_known_sigma_on_seeded_brownian_path(simulate_ohlc, key):
     h = simulate_ohlc(2520, SIGMA, seed=11)
     est = point_estimate(h, key)
@@ -51,7 +51,7 @@ def test_recovers_known_sigma_on_seeded_brownian_path(simulate_ohlc, key):
     assert SIGMA * (1 - lo) < est.vol < SIGMA * (1 + hi), (key, est.vol)
 
 
-@pytest.mark.parametrize("key", ESTIMATOR_KEYS)
+@pytest.mark.parametrize("key", DAILY_KEYS)
 def test_recovery_with_other_annualization(simulate_ohlc, key):
     # A 365-bar year: the simulated per-bar variance is sigma^2 / 365, so annualizing with 365
     # recovers sigma (docs/METHODS.md, "Notation and conventions").
@@ -76,7 +76,7 @@ def test_rogers_satchell_and_yang_zhang_ignore_drift_parkinson_and_gk_do_not(sim
     # Garman & Klass (1980) assume zero drift and rise with it. Same seed, drift of 1.6 sigma a bar.
     flat = simulate_ohlc(2520, SIGMA, seed=21)
     trend = simulate_ohlc(2520, SIGMA, seed=21, mu_annual=5.0)
-    ratio = {k: point_estimate(trend, k).vol / point_estimate(flat, k).vol for k in ESTIMATOR_KEYS}
+    ratio = {k: point_estimate(trend, k).vol / point_estimate(flat, k).vol for k in DAILY_KEYS}
     assert ratio["rogers_satchell"] == pytest.approx(1.0, abs=0.05)
     assert ratio["yang_zhang"] == pytest.approx(1.0, abs=0.05)
     assert ratio["close_to_close"] == pytest.approx(1.0, abs=1e-9)  # mean removed: exactly unchanged

@@ -11,6 +11,7 @@ from volbench.cli.common import (
     add_format,
     adjustments_line,
     load_from_args,
+    print_interval,
     print_json,
     render_table,
     with_import,
@@ -87,6 +88,7 @@ def run_estimate(args: argparse.Namespace) -> int:
               f"flagged rows {'excluded' if h.exclude_flagged else 'kept'}"
               + (f" ({len([f for f in h.findings if f.severity != 'info'])} findings: run 'volbench check')"
                  if any(f.severity != "info" for f in h.findings) else ""))
+        print_interval(h)
         if adjustments_line(h):
             print(adjustments_line(h))
         rows = []
@@ -110,15 +112,16 @@ def run_check(args: argparse.Namespace) -> int:
     histories = load_from_args(args)
     if args.format == "json":
         print_json({"series": [with_import({"name": h.name, "source": str(h.source) if h.source else None,
-                                            "rows": h.n, "findings": [f.as_dict() for f in h.findings]}, h)
+                                            "rows": _file_rows(h), "findings": [f.as_dict() for f in h.findings]}, h)
                                for h in histories]})
         return 0
     for i, h in enumerate(histories):
         if i:
             print()
         counts = {s: sum(f.severity == s for f in h.findings) for s in ("error", "warning", "info")}
-        print(f"{h.name}  ({h.source.name if h.source else ''}: {h.n} usable rows, {h.first_date} to {h.last_date}) "
+        print(f"{h.name}  ({h.source.name if h.source else ''}: {_file_rows(h)} usable rows, {h.first_date} to {h.last_date}) "
               f"- {counts['error']} errors, {counts['warning']} warnings, {counts['info']} notes")
+        print_interval(h)
         if adjustments_line(h):
             print(adjustments_line(h))
         if h.findings:
@@ -127,3 +130,8 @@ def run_check(args: argparse.Namespace) -> int:
         else:
             print("no findings")
     return 0
+
+
+def _file_rows(h) -> int:
+    """Usable rows of the file: the intraday bars behind a history analysed by day."""
+    return h.intraday.bars.n if h.intraday is not None else h.n

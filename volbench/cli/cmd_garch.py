@@ -10,6 +10,7 @@ from volbench.cli.common import (
     add_file_options,
     add_format,
     load_from_args,
+    print_interval,
     print_json,
     render_table,
     with_import,
@@ -68,6 +69,7 @@ def run_garch(args: argparse.Namespace) -> int:
         if i:
             print()
         print(f"{h.name}  ({h.source.name if h.source else ''}: {h.n} rows, {h.first_date} to {h.last_date})")
+        print_interval(h)
         _print_comparison(r, settings.annualization)
     print("\nForward vol: annualized sqrt of the average expected variance over bars 1..T after the last bar.")
     if any(f.fallback for r in results for f in r.fits):

@@ -13,6 +13,7 @@ from volbench.cli.common import (
     add_format,
     load_from_args,
     parse_int_list,
+    print_interval,
     print_json,
     render_table,
 )
@@ -126,6 +127,7 @@ def _csv_cell(v):
 def _print_table(r: Hindsight, h) -> None:
     d = r.as_dict()
     print(f"{r.name}  ({h.source.name if h.source else ''}: {h.n} rows, {h.first_date} to {h.last_date})")
+    print_interval(h)
     print(f"{r.days}-bar periods, as-of every {r.step} bar{'s' if r.step != 1 else ''}: {r.periods} periods "
           f"from {d['first_as_of']} to {d['last_as_of']}; annualized with {r.annualization:g} bars/year; "
           f"flagged rows {'excluded' if h.exclude_flagged else 'kept'}")

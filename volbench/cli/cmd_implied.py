@@ -156,8 +156,9 @@ def _run_single(args, rate: float, q: float) -> int:
 # ---------------------------------------------------------------------------- a quotes file
 def _history(args):
     from volbench.data import load_prices
+    from volbench.intraday.days import by_days
 
-    histories = load_prices(args.prices)
+    histories = [by_days(h) for h in load_prices(args.prices)]  # an intraday file is analysed by day
     if args.series is None:
         if len(histories) > 1:
             raise VolbenchError(f"{args.prices} holds {len(histories)} series "

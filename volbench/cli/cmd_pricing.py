@@ -10,6 +10,7 @@ from volbench.cli.common import (
     add_file_options,
     add_format,
     load_from_args,
+    print_interval,
     print_json,
     render_table,
     with_import,
@@ -116,6 +117,7 @@ def run_cone(args: argparse.Namespace) -> int:
             print()
         print(f"{c.name}  {c.label.lower()} vol cone, {c.start} to {c.end} ({c.rows} rows), "
               f"annualized with {c.annualization:g} bars/year{_findings_hint(histories[i])}")
+        print_interval(histories[i])
         suffix = "_adj" if c.hodges_tompkins else ""
         heads = ["window", "min", "10%", "25%", "median", "75%", "90%", "max", "today", "today pctl",
                  "windows", "independent"]
@@ -179,6 +181,7 @@ def run_compare(args: argparse.Namespace) -> int:
     atm = " (at the money)" if math.isclose(comp.strike, comp.spot) else ""
     print(f"{h.name}  as of {comp.as_of}  ({h.source.name if h.source else ''}: {h.n} rows"
           f", flagged rows {'excluded' if h.exclude_flagged else 'kept'}{_findings_hint(h)})")
+    print_interval(h)
     if comp.life is None:
         life = f"{comp.days} bars = {comp.years:.4f} years at {comp.annualization:g} bars/year"
     else:

@@ -14,6 +14,7 @@ from volbench.cli.common import (
     print_json,
     render_table,
 )
+from volbench.cli.options import settings_from_args
 from volbench.format import number, p_value, pct
 from volbench.intraday.jumps import JUMP_ALPHA
 from volbench.intraday.report import RealizedReport, realized_report
@@ -34,9 +35,6 @@ def register(sub) -> None:
         epilog="Vols are annualized per trading day. Statistical evidence under stated assumptions, not advice.",
     )
     add_file_options(p)
-    p.add_argument("--session-break", metavar="DURATION", default=None,
-                   help="a gap longer than this starts a new session, e.g. 4h (default: one session per "
-                        "calendar date); for sessions that cross midnight")
     p.add_argument("--sampling", default="bar", metavar="bar|auto|SECONDS",
                    help="sampling of the returns behind realized and bipower variance: every bar (default), the "
                         "signature plot's suggestion, or a multiple of the bar interval in seconds")
@@ -52,11 +50,14 @@ def register(sub) -> None:
 
 
 def run_realized(args: argparse.Namespace) -> int:
+    settings = settings_from_args(args)
     a = check_annualization(args.annualization)
     horizons = parse_int_list(args.horizons, "horizons")
-    reports = [realized_report(h, session_break=args.session_break, sampling=args.sampling, annualization=a,
-                               jump_alpha=args.jump_alpha, verdict_alpha=args.alpha, horizons=horizons)
-               for h in load_from_args(args)]
+    brk = settings.intraday.seconds if settings.intraday is not None else None
+    reports = [realized_report(h.intraday.bars if h.intraday is not None else h, session_break=brk,
+                               sampling=args.sampling, annualization=a, jump_alpha=args.jump_alpha,
+                               verdict_alpha=args.alpha, horizons=horizons)
+               for h in load_from_args(args, settings)]
     if args.format == "json":
         print_json({"series": [r.as_dict() for r in reports]})
         return 0

@@ -14,6 +14,7 @@ from volbench.cli.common import (
 )
 from volbench.cli.options import add_estimation, add_scaling, settings_from_args
 from volbench.format import number, p_value, pct
+from volbench.intraday.sessions import format_interval
 from volbench.scaling import ScalingResult, scaling_check
 
 _LABELS = {
@@ -21,6 +22,7 @@ _LABELS = {
     "normal_increments": "normal increments",
     "independent_increments": "independent increments",
     "negligible_drift": "negligible drift",
+    "continuous_paths": "continuous paths (no jumps)",
 }
 
 
@@ -69,7 +71,7 @@ def render_result(r: ScalingResult) -> str:
     head = (f"{r.name}  ({src}{': ' if src else ''}{prov.get('rows')} rows, {prov.get('first_date')} to "
             f"{prov.get('last_date')}; {r.n_returns} returns; flagged rows "
             f"{'excluded' if r.exclude_flagged else 'kept'})")
-    out = [head, f"annualized with {r.annualization:g} bars/year; significance level {r.alpha:g}"]
+    out = [head, *bars_line(prov), f"annualized with {r.annualization:g} bars/year; significance level {r.alpha:g}"]
     out += [f"note: {note}" for note in r.notes]
     out.append("")
     rows = []
@@ -95,6 +97,7 @@ def render_result(r: ScalingResult) -> str:
     out.append("")
     out.append(f"drift: mean {pct(d['mean_annualized'])} a year, t = {number(d['t_stat'], 2)}, p {p_value(d['p_value'])}; "
                f"vol {pct(d['vol_annualized'])} a year")
+    out += intraday_lines(r)
     out.append("")
     out.append("Verdicts")
     for v in r.verdicts:
@@ -105,3 +108,37 @@ def render_result(r: ScalingResult) -> str:
     if fa:
         out.append(f"  {fa['sentence']}")
     return "\n".join(out)
+
+
+def bars_line(provenance: dict) -> list[str]:
+    """The bar interval from a result's provenance, for an intraday file analysed by day (none for daily bars)."""
+    lay = provenance.get("intraday")
+    if lay is None:
+        return []
+    return [(f"bars: {format_interval(lay['bar_interval_seconds'])} bars, {lay['bars_per_session']} a session, "
+            f"{lay['sessions']} sessions (sessions by {lay['session_rule']}); analysed by day")]
+
+
+def intraday_lines(r: ScalingResult) -> list[str]:
+    """Signature plot and jump days of an intraday file analysed by day (none for daily bars)."""
+    part = r.intraday
+    if part is None:
+        return []
+    out = []
+    if part.signature is not None:
+        s = part.signature
+        out += ["", (f"Signature plot (annualized whole-day realized vol by sampling interval, {s.days} days; flat = "
+                    "free of microstructure noise)")]
+        rows = [[format_interval(t.interval_seconds) if t.kind == "intraday" else "1-day close-to-close",
+                 pct(t.annualized_vol)] for t in s.table.itertuples(index=False)]
+        out.append(render_table(["interval", "vol"], rows, "lr"))
+        out.append(f"suggested sampling: {format_interval(s.suggested_interval_seconds)}; {s.reason}")
+    c = part.continuity
+    if c is not None:
+        jd = c.jump_days
+        out += ["", f"Jump days ({c.label}; {len(jd)} of {c.days_tested} days at the {c.alpha:.0%} level)"]
+        if len(jd):
+            out.append(render_table(["date", "z", "p"], [[d.strftime("%Y-%m-%d"), number(z, 2), p_value(p)]
+                                                         for d, z, p in zip(jd["date"], jd["z"], jd["p_value"])], "lrr"))
+    out += [f"note: {k}: {why}" for k, why in part.unavailable.items()]
+    return out

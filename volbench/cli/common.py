@@ -18,6 +18,7 @@ from volbench.cli.options import (
 from volbench.data import load_many
 from volbench.data.history import PriceHistory
 from volbench.data.options import ImportOptions
+from volbench.intraday.days import by_days, interval_phrase
 from volbench.settings import Settings
 
 
@@ -35,8 +36,13 @@ def import_options(args: argparse.Namespace) -> ImportOptions:
 
 
 def with_import(d: dict, history: PriceHistory) -> dict:
-    """A series' JSON record with the splits applied at import (``"adjustments"``)."""
-    return {**d, "adjustments": [a.as_dict() for a in history.adjustments]}
+    """A series' JSON record with the splits applied at import (``"adjustments"``), the bar interval of
+    its file (``"bar_interval_seconds"``) and, for an intraday file analysed by day, its sessions."""
+    out = {**d, "adjustments": [a.as_dict() for a in history.adjustments],
+           "bar_interval_seconds": history.bar_interval_seconds}
+    if history.intraday is not None:
+        out["intraday"] = history.intraday.as_dict()
+    return out
 
 
 def adjustments_line(history: PriceHistory) -> str | None:
@@ -58,9 +64,19 @@ def add_format(p: argparse.ArgumentParser, choices: Sequence[str] = ("table", "j
 
 
 def load_from_args(args: argparse.Namespace, settings: Settings | None = None) -> list[PriceHistory]:
-    """Load every FILE with the import options, after every setting of the command was validated."""
+    """Load every FILE with the import options, after every setting of the command was validated;
+    an intraday file comes back as its daily bars (:func:`volbench.intraday.days.by_days`)."""
     settings = settings if settings is not None else settings_from_args(args)
-    return load_many(args.files, settings.import_options)
+    histories = load_many(args.files, settings.import_options)
+    brk = settings.intraday.seconds if settings.intraday is not None else None
+    return [by_days(h, brk) for h in histories]  # intraday files are analysed by day
+
+
+def print_interval(history: PriceHistory) -> None:
+    """Print the table line stating the bar interval and sessions of an intraday file analysed by
+    day (a file of daily bars prints as it always did; its JSON says ``bar_interval_seconds``)."""
+    if history.intraday is not None:
+        print(interval_phrase(history))
 
 
 def parse_int_list(text: str, what: str) -> list[int]:

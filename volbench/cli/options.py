@@ -31,6 +31,8 @@ from volbench.settings import (
     EstimationSettings,
     GarchSettings,
     LifeSettings,
+    HarSettings,
+    IntradaySettings,
     OptionSettings,
     QuotesSettings,
     ScalingSettings,
@@ -474,6 +476,43 @@ def quotes_argv(q: QuotesSettings | None) -> list[str]:
     return out + ["--quotes-model", q.model]
 
 
+# ---------------------------------------------------------------------------- intraday sessions
+def add_intraday(p: argparse.ArgumentParser) -> None:
+    """``--session-break``: how intraday files are cut into sessions (:class:`IntradaySettings`)."""
+    g = p.add_argument_group("intraday files (analysed by day; docs/METHODS.md, Intraday data, realized "
+                             "measures and jumps)")
+    g.add_argument("--session-break", metavar="DURATION", default=None,
+                   help="a pause between bars longer than this starts a new session, e.g. 4h (default: one "
+                        "session per calendar date); for sessions that cross midnight")
+    _register(p, "intraday")
+
+
+def intraday_from_args(args: argparse.Namespace) -> IntradaySettings:
+    return IntradaySettings(session_break=getattr(args, "session_break", None))
+
+
+def add_har(p: argparse.ArgumentParser) -> None:
+    """The HAR-RV forecast (:class:`HarSettings`): on for every data command; it offers a candidate
+    only for intraday files."""
+    p.add_argument("--har-horizons", metavar="N,N,...", default=None,
+                   help="HAR-RV forward-vol horizons in trading days, intraday files only (default "
+                        f"{','.join(str(h) for h in HarSettings().horizons)})")
+    _register(p, "har")
+
+
+def har_from_args(args: argparse.Namespace) -> HarSettings:
+    hz = getattr(args, "har_horizons", None)
+    return HarSettings() if hz is None else HarSettings(horizons=tuple(int_list(hz, "--har-horizons")))
+
+
+def intraday_argv(s: IntradaySettings | None) -> list[str]:
+    return [] if s is None or s.session_break is None else [f"--session-break={s.session_break}"]
+
+
+def har_argv(h: HarSettings | None) -> list[str]:
+    return [] if h is None else ["--har-horizons", _ints(h.horizons)]
+
+
 # ---------------------------------------------------------------------------- the groups
 @dataclass(frozen=True)
 class OptionGroup:
@@ -505,6 +544,8 @@ GROUPS: dict[str, OptionGroup] = {
         OptionGroup("decision", add_decision, decision_from_args, argv=decision_argv),
         OptionGroup("life", add_life, life_from_args, argv=life_argv),
         OptionGroup("quotes", add_quotes, quotes_from_args, argv=quotes_argv),
+        OptionGroup("intraday", add_intraday, intraday_from_args, every=True, argv=intraday_argv),
+        OptionGroup("har", add_har, har_from_args, every=True, argv=har_argv),
     )
 }
 """Every settings group the command line knows, by :class:`Settings` field."""

@@ -5,6 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field, replace
 from functools import cached_property
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
@@ -13,6 +14,12 @@ from volbench import validate
 from volbench.data.logs import LogPrices
 from volbench.errors import VolbenchError
 from volbench.types import Column, Severity
+
+if TYPE_CHECKING:
+    from volbench.intraday.days import IntradayBars
+
+DAY_SECONDS = 86400.0
+"""The bar interval stated for a history of one bar a session."""
 
 
 @dataclass(frozen=True)
@@ -138,6 +145,9 @@ class PriceHistory:
         ``"close"`` or ``"adjusted close"``: which close column the prices come from.
     adjustments
         Splits applied at import (see :class:`Adjustment`); empty unless asked for.
+    intraday
+        For daily bars built from an intraday file (:func:`volbench.intraday.days.by_days`): the
+        intraday bars and their sessions; ``None`` for a file of daily bars.
     """
 
     name: str
@@ -156,6 +166,7 @@ class PriceHistory:
     adjustments: tuple[Adjustment, ...] = ()
     _sha256: str | None = field(default=None, repr=False)
     _size: int | None = field(default=None, repr=False)
+    intraday: IntradayBars | None = field(default=None, repr=False)
 
     def __post_init__(self) -> None:
         n = len(self.close)
@@ -202,6 +213,16 @@ class PriceHistory:
     @cached_property
     def last_date(self) -> str | None:
         return _iso(self.dates[-1]) if self.n else None
+
+    @cached_property
+    def bar_interval_seconds(self) -> float:
+        """Spacing of the bars of the file: the intraday bar interval behind daily bars built from
+        them, the median spacing within a session of an intraday history, else :data:`DAY_SECONDS`."""
+        if self.intraday is not None:
+            return self.intraday.bar_interval_seconds
+        from volbench.intraday.sessions import infer_layout
+
+        return infer_layout(self.dates).bar_interval_seconds if self.n else DAY_SECONDS
 
     @cached_property
     def index(self) -> pd.DatetimeIndex:
@@ -262,6 +283,8 @@ class PriceHistory:
         """
         if exclude_flagged == self.exclude_flagged:
             return self
+        if self.intraday is not None:  # the flags name intraday bars: select them, then rebuild the days
+            return self.intraday.select(exclude_flagged)
         if not exclude_flagged:
             raise VolbenchError(
                 f"{self.name}: flagged rows were already excluded; select from the history as loaded"
@@ -336,6 +359,8 @@ class PriceHistory:
             "flagged_rows": "excluded" if self.exclude_flagged else "kept",
             "excluded_lines": list(self.excluded_lines),
             "adjustments": [a.as_dict() for a in self.adjustments],
+            "bar_interval_seconds": self.bar_interval_seconds,
+            **({"intraday": self.intraday.as_dict()} if self.intraday is not None else {}),
         }
 
 

@@ -2,6 +2,7 @@
 
 from volbench.estimators.base import Estimate, EstimatorSpec, RollingVol
 from volbench.estimators.registry import (
+    DAILY_KEYS,
     ESTIMATOR_KEYS,
     REGISTRY,
     EstimateReport,
@@ -16,6 +17,7 @@ from volbench.estimators.registry import (
 )
 
 __all__ = [
+    "DAILY_KEYS",
     "ESTIMATOR_KEYS",
     "REGISTRY",
     "Estimate",

@@ -79,6 +79,10 @@ class EstimatorSpec:
     """``candidate_note(options)``: the note beside this estimator's vol in a comparison (e.g.
     EWMA's half-life, derived from its lambda); ``None``: no note."""
 
+    requires: Callable[[PriceHistory], str | None] | None = None
+    """``requires(history)``: why the history cannot feed this estimator beyond its columns (e.g.
+    the realized measures on a file of daily bars), ``None`` when it can; ``None``: no condition."""
+
     def bars_needed(self, window: int) -> int:
         return window + self.extra_bars
 

@@ -37,13 +37,17 @@ from volbench.estimators.range_based import (
     rogers_satchell_variance,
     yang_zhang_variance,
 )
+from volbench.estimators.realized import BIPOWER, REALIZED
 from volbench.estimators.sums import SumForm, evaluate
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization, check_window
 
 REGISTRY: dict[str, EstimatorSpec] = {
-    s.key: s for s in (CLOSE_TO_CLOSE, PARKINSON, GARMAN_KLASS, ROGERS_SATCHELL, YANG_ZHANG, EWMA)
+    s.key: s for s in (CLOSE_TO_CLOSE, PARKINSON, GARMAN_KLASS, ROGERS_SATCHELL, YANG_ZHANG, EWMA, REALIZED, BIPOWER)
 }
 ESTIMATOR_KEYS: tuple[str, ...] = tuple(REGISTRY)
+DAILY_KEYS: tuple[str, ...] = tuple(k for k, s in REGISTRY.items() if s.requires is None)
+"""Estimators computed from the bars of any file; the others (``realized``, ``bipower``) need the
+intraday bars behind a history analysed by day."""
 
 
 def get_spec(key: str) -> EstimatorSpec:
@@ -111,6 +115,9 @@ def availability(history: PriceHistory, key: str, window: int | None) -> str | N
 def _why_not(spec: EstimatorSpec, history: PriceHistory, window: int | None) -> str | None:
     """:func:`availability` for a spec already looked up."""
     missing = sorted(c for c in spec.needs if getattr(history, c) is None)
+    reason = None if missing or spec.requires is None else spec.requires(history)
+    if reason:
+        return reason
     if missing:
         return f"needs {'/'.join(missing)} column{'s' if len(missing) > 1 else ''}"
     minimum = max(spec.min_window, 2 if spec.ci_exact or spec.extra_bars else 1)
@@ -455,7 +462,11 @@ class EstimateReport:
             note = spec.candidate_note(self.options) if spec.candidate_note is not None else ""
             items.append(Candidate("estimator", key, spec.label, e.vol, window=e.window, ci_low=e.ci_low,
                                    ci_high=e.ci_high, note=note))
-        return CandidateSet("estimator", tuple(items), dict(self.unavailable), title="estimator", what="vol")
+        # an estimator that cannot apply to this kind of file (realized measures on daily bars) is not
+        # offered rather than listed as missing: a daily comparison reads as it always did
+        missing = {k: r for k, r in self.unavailable.items()
+                   if REGISTRY[k].requires is None or REGISTRY[k].requires(self.history) is None}
+        return CandidateSet("estimator", tuple(items), missing, title="estimator", what="vol")
 
     def as_dict(self) -> dict:
         h = self.history

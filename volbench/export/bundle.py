@@ -268,6 +268,9 @@ def inputs_table(provenance: Mapping[str, Any]) -> pd.DataFrame:
             elif isinstance(v, list):
                 v = " ".join(str(x) for x in v)
             rows.append(("source", p["series"], k, "" if v is None else v))
+        rows.append(("source", p["series"], "bar_interval_seconds", p.get("bar_interval_seconds", "")))
+        if p.get("intraday"):  # an intraday file analysed by day: its sessions
+            rows += [("source", p["series"], f"intraday.{k}", v) for k, v in p["intraday"].items()]
     for name, text in provenance["sections"].items():
         rows.append(("section", "", name, text))
     return pd.DataFrame(rows, columns=["group", "series", "item", "value"])

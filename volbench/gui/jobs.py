@@ -147,6 +147,7 @@ class LoadRequest:
     paths: tuple[str, ...]
     options: ImportOptions
     taken: frozenset[str] = frozenset()
+    session_break: float | None = None
 
 
 @dataclass(frozen=True)
@@ -296,7 +297,8 @@ def _market(ctx: Context, progress: Progress, cancel: Cancel):
 
 def _load(ctx: Context, progress: Progress, cancel: Cancel):
     r: LoadRequest = ctx.request
-    return load_files(r.paths, r.options, taken=r.taken, progress=progress, cancel=cancel)
+    return load_files(r.paths, r.options, taken=r.taken, progress=progress, cancel=cancel,
+                      session_break=r.session_break)
 
 
 def _export(ctx: Context, progress: Progress, cancel: Cancel):

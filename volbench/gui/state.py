@@ -33,6 +33,8 @@ from volbench.settings import (
     EstimationSettings,
     GarchSettings,
     LifeSettings,
+    HarSettings,
+    IntradaySettings,
     OptionSettings,
     QuotesSettings,
     ScalingSettings,
@@ -95,6 +97,8 @@ GROUPS: dict[str, Callable[[], Any]] = {
     "option": lambda: OptionSettings(pricing_vol=0.25),
     "life": LifeChoice,
     "quotes": QuotesChoice,
+    "intraday": IntradaySettings,
+    "har": HarSettings,
 }
 """The settings groups the window holds, with the window's defaults (the option's life in
 :class:`LifeChoice`, given to jobs as :class:`~volbench.settings.LifeSettings`)."""
@@ -158,12 +162,13 @@ FIELDS: dict[str, Field] = {
     "use_adjusted": Field("import_options", "use_adjusted"),
     "adjust_splits": Field("import_options", "adjust_splits"),
     "gap_days": Field("import_options", "gap_days"),
+    "session_break": Field("intraday", "session_break", _optional_text),
     "estimators": Field(None, "estimators", lambda v: tuple(validate.estimator(str(k)) for k in v)),
 }
 """Every control's field name -> the settings group and attribute that hold it."""
 
 IMPORT_FIELDS = frozenset({"date_format", "delimiter", "decimal", "thousands", "use_adjusted", "adjust_splits",
-                           "gap_days"})
+                           "gap_days", "session_break"})
 """Choices that change how files are read: changing one reads the files again."""
 
 

@@ -318,7 +318,8 @@ class MainWindow(QMainWindow):
 
         self._after_load = finish
         self.show_status(f"Reading {len(paths)} file{'s' if len(paths) != 1 else ''}…")
-        self.controller.run("load", LoadRequest(tuple(paths), options, frozenset(taken)))
+        self.controller.run("load", LoadRequest(tuple(paths), options, frozenset(taken),
+                                                self.state.choices.group("intraday").seconds))
 
     def reload_files(self) -> None:
         """Read every file again when a choice about how to read them changed."""

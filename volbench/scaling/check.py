@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
@@ -37,6 +38,9 @@ from volbench.scaling.verdicts import (
     variance_verdict,
 )
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
+
+if TYPE_CHECKING:
+    from volbench.scaling.continuity import IntradayPart
 
 DEFAULT_HORIZONS: tuple[int, ...] = (1, 2, 5, 10, 20, 40, 60)
 DEFAULT_LJUNG_BOX_LAGS: tuple[int, ...] = (5, 10, 20)
@@ -116,6 +120,9 @@ class ScalingResult:
     notes: tuple[str, ...] = ()
     provenance: dict = field(default_factory=dict)
     family_false_alarm: dict = field(default_factory=dict)
+    intraday: IntradayPart | None = None
+    """For a file of intraday bars analysed by day: the continuity check (its verdict is the fifth,
+    ``continuous_paths``), the jump days and the signature plot (:mod:`volbench.scaling.continuity`)."""
 
     @property
     def exclude_flagged(self) -> bool:
@@ -140,6 +147,18 @@ class ScalingResult:
         return CandidateSet("scaling", (Candidate("scaling", "scaling", "Scaling check horizon vol", v, window=days,
                                                   note=f"{days}-bar returns over the whole history"),),
                             title="scaling check", what="horizon vol")
+
+    def _intraday_dict(self) -> dict:
+        part = self.intraday
+        sig = part.signature
+        return {
+            "continuity": part.continuity.as_dict() if part.continuity is not None else None,
+            "jump_days": part.continuity.as_dict()["jump_days"] if part.continuity is not None else [],
+            "signature": ([{"interval_seconds": float(t.interval_seconds), "annualized_vol": float(t.annualized_vol),
+                            "kind": t.kind} for t in sig.table.itertuples(index=False)] if sig else []),
+            "suggested_interval_seconds": sig.suggested_interval_seconds if sig else None,
+            "intraday_unavailable": dict(part.unavailable),
+        }
 
     def as_dict(self) -> dict:
         """JSON-ready dict (NaN values are left as float NaN; the CLI writes them as null)."""
@@ -167,6 +186,7 @@ class ScalingResult:
             "family_false_alarm": dict(self.family_false_alarm),
             "notes": list(self.notes),
             "provenance": self.provenance,
+            **(self._intraday_dict() if self.intraday is not None else {}),
         }
 
 
@@ -250,6 +270,8 @@ def scaling_check(
     if isinstance(qq_points, bool) or not isinstance(qq_points, (int, np.integer)) or qq_points < 10:
         raise VolbenchError(f"qq_points must be a whole number >= 10, got {qq_points!r}")
     st = _statistics(history, hs, alpha, a, lb_lags, acf_lags)
+    from volbench.scaling import continuity
+
     theo, samp = qq_arrays(st.r, int(qq_points))
     return ScalingResult(
         name=history.name, horizons=frame(st.cols, _HORIZON_LABELS), dropped=st.dropped, slope=st.fit.slope,
@@ -257,7 +279,9 @@ def scaling_check(
         chow_denning_p=st.cd_p, ljung_box=frame(st.lb, LJUNG_BOX_LABELS), acf=frame(st.ac, ACF_LABELS),
         qq=frame({"theoretical": theo, "sample": samp}, _QQ_LABELS), drift=st.dr, verdicts=st.verdicts,
         n_returns=st.n, alpha=alpha, annualization=a, notes=st.notes, provenance=history.provenance(),
-        family_false_alarm=family_false_alarm(st.n, alpha),
+        family_false_alarm=(continuity.five_property_false_alarm(family_false_alarm(st.n, alpha), alpha)
+                            if len(st.verdicts) == 5 else family_false_alarm(st.n, alpha)),
+        intraday=st.intraday,
     )
 
 
@@ -308,6 +332,7 @@ class _Statistics:
     ac: dict
     dr: dict
     verdicts: tuple[Verdict, ...]
+    intraday: IntradayPart | None = None
 
 
 def _statistics(history: PriceHistory, hs: tuple[int, ...], alpha: float, a: float, lb_lags: list[int],
@@ -382,6 +407,14 @@ def _statistics(history: PriceHistory, hs: tuple[int, ...], alpha: float, a: flo
     lb, ac = independence_arrays(r, lb_lags, acf_lags, alpha, (rho[0], rho[1]))
     dr = drift_stats(r, kept, a)
     p_values = [cd_p, float(jb_p[0]), min(independence_p(lb)), float(dr["p_value"])]
+    from volbench.scaling.continuity import (  # imports the intraday core
+        continuity_verdict,
+        intraday_part,
+    )
+
+    part = intraday_part(history, alpha, a)  # None for daily bars: the four properties as before
+    if part is not None and part.p_value is not None:
+        p_values.append(part.p_value)
     st = family_statuses(p_values, alpha)
     verdicts = (
         variance_verdict(cols, cd_stat, cd_p, fit, alpha, st[0]),
@@ -389,7 +422,9 @@ def _statistics(history: PriceHistory, hs: tuple[int, ...], alpha: float, a: flo
         independence_verdict(lb, ac, alpha, st[2]),
         drift_verdict(dr, alpha, st[3]),
     )
-    return _Statistics(r, n, dropped, tuple(notes), cols, fit, cd_stat, cd_p, lb, ac, dr, verdicts)
+    if len(st) == 5:
+        verdicts += (continuity_verdict(part, st[4], alpha),)
+    return _Statistics(r, n, dropped, tuple(notes), cols, fit, cd_stat, cd_p, lb, ac, dr, verdicts, part)
 
 
 def horizon_vol(result: ScalingResult, days: float) -> float | None:

@@ -16,7 +16,7 @@ from threadpoolctl import threadpool_limits
 from volbench.data import load_prices
 from volbench.data.history import PriceHistory
 from volbench.errors import EstimatorUnavailable, VolbenchError
-from volbench.estimators import estimate_all, rolling_vol
+from volbench.estimators import DAILY_KEYS, estimate_all, rolling_vol
 from volbench.pricing.cone import place_in_cone
 from volbench.scaling import scaling_verdicts
 from volbench.survey.record import SEVERITIES, SurveyRecord, failed
@@ -71,7 +71,8 @@ def _count(history: PriceHistory) -> dict[str, int]:
 
 def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> SurveyRecord:
     a, days, window, e = s.annualization, s.days, s.estimate_window, s.estimation
-    report = estimate_all(h, window, as_of=e.as_of, annualization=a, confidence=e.confidence, **e.options)
+    report = estimate_all(h, window, keys=DAILY_KEYS, as_of=e.as_of, annualization=a,  # bars as they are
+                          confidence=e.confidence, **e.options)
     unavailable = dict(report.unavailable)
     if not report.estimates:
         reasons = "; ".join(f"{k}: {r}" for k, r in report.unavailable.items())

@@ -7,6 +7,7 @@ from volbench.gui.panes.controls import ControlsPane
 from volbench.gui.panes.data_pane import DataPane
 from volbench.gui.panes.life_pane import LifePane
 from volbench.gui.panes.market_pane import MarketPane
+from volbench.gui.panes.intraday_pane import IntradayPane
 from volbench.gui.panes.model_pane import ModelPane
 from volbench.gui.panes.price_pane import PricePane
 from volbench.gui.panes.rolling_pane import RollingPane
@@ -18,6 +19,7 @@ PANES: list[type[Pane]] = [
     PricePane,
     RollingPane,
     ScalingPane,
+    IntradayPane,
     ConePane,
     ModelPane,
     MarketPane,

@@ -26,6 +26,7 @@ PROPERTY_WORDS = {
     "normal_increments": "Increments are normal",
     "independent_increments": "Increments are independent",
     "negligible_drift": "Drift is negligible",
+    "continuous_paths": "Paths are continuous (no jumps)",
 }
 VR_COLUMNS = ["horizon (bars)", "variance ratio", "z", "robust z", "robust p", "horizon vol",
               "sqrt-time vol", "vol ratio", "periods"]
