@@ -24,7 +24,7 @@ from volbench.settings import LifeSettings, OptionSettings, QuotesSettings, Sett
 # Values tried in turn for a field (the first the group accepts and that differs from the
 # default is used); a new field whose type none of these fits fails below with its name.
 SAMPLES = (7, 3, 150, 0.9, 0.1, 0.3, 0.02, 300.0, 2.5, (5, 10, 21), (2, 4), "t", "zero", "put", "parkinson", "gjr",
-           "2020-06-30", "%d/%m/%Y", ";", ",", "calendar", "some text")
+           "2020-06-30", "%d/%m/%Y", ";", ",", "calendar", "4h", "some text")
 
 QUOTES = Path(__file__).resolve().parents[2] / "sample_prices" / "quotes" / "ironvale_mining_quotes.csv"
 
