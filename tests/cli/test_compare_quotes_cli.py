@@ -88,10 +88,14 @@ def test_without_quotes_the_market_is_not_requested(capsys, files):
     (["export", "{prices}", "--to", "{tmp}/x.json", "--quotes", "{quotes}"],
      "--quotes joins a comparison: also give --pricing-vol and --days (or --expiry)"),
     (["compare", "{prices}", "--pricing-vol", "0.3", "--days", "30", "--quotes", "{tmp}/none.csv"], "none.csv"),
+    (["export", "{prices}", "{prices2}", "--to", "{tmp}/x.json", "--pricing-vol", "0.3", "--days", "30", "--quotes",
+      "{quotes}"], "--quotes holds one underlying's options, but the export has 2 series"),
 ])
 def test_bad_quotes_options_exit_2(capsys, files, tmp_path, argv, message):
     prices, quotes = files
-    argv = [a.replace("{prices}", str(prices)).replace("{quotes}", str(quotes)).replace("{tmp}", str(tmp_path))
-            for a in argv]
+    other = prices.parent / "kestrel_orchards.csv"
+    argv = [a.replace("{prices2}", str(other)).replace("{prices}", str(prices)).replace("{quotes}", str(quotes))
+            .replace("{tmp}", str(tmp_path)) for a in argv]
     code, out, err = run(capsys, *argv)
     assert code == 2 and out == "" and message in err and err.count("\n") == 1
+    assert not (tmp_path / "x.json").exists()

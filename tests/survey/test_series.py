@@ -14,6 +14,7 @@ import pytest
 from volbench.cli import main
 from volbench.data import load_prices
 from volbench.errors import VolbenchError
+from volbench.pricing.compare import compare
 from volbench.survey import (
     SurveySettings,
     read_pricing_vols,
@@ -79,16 +80,26 @@ def test_survey_equals_the_single_series_commands(capsys, book):
 
 
 def test_pricing_vol_percentile_is_the_compare_command_s(capsys, sample_dir):
+    # The survey counts the option's life in bars (years = days / annualization, fit for intraday bars);
+    # 'volbench compare' counts --days as trading days to an expiry with ACT/365 years and puts the
+    # history's vols on that basis. On the bar convention the core comparison gives the survey's numbers
+    # exactly; the command's vols are those times its basis factor.
     f = sample_dir / "saltmarsh_ferries.csv"
+    h = load_prices(f)[0]
     for days in (21, 20, 5, 300):  # interpolated, exact column, clamped below, clamped above
         survey = cli_json(capsys, "survey", f, "--days", days, "--pricing-vol", 0.3, "--format", "json")
-        comp = cli_json(capsys, "compare", f, "--days", days, "--pricing-vol", 0.3, "--format", "json")
         row = survey["series"][0]
-        assert row["pricing_vol_percentile"] == comp["cone_percentile"]
-        assert row["pricing_vol"] == comp["pricing_vol"] == 0.3
+        bars = compare(h, 0.3, days)
+        assert row["pricing_vol_percentile"] == bars.cone_percentile
+        assert row["pricing_vol"] == bars.pricing_vol == 0.3
         # the estimates over the option's life are compare's candidates (window defaults to days)
-        cands = {c["key"]: c["vol"] for c in comp["candidates"] if c["source"] == "estimator"}
+        cands = {r.key: r.vol for r in bars.table.itertuples() if r.source == "estimator"}
         assert {k: v["vol"] for k, v in row["estimates"].items()} == cands
+        comp = cli_json(capsys, "compare", f, "--days", days, "--pricing-vol", 0.3, "--format", "json")
+        assert comp["trading_days"] == days
+        for c in comp["candidates"]:
+            if c["source"] == "estimator":
+                assert c["vol"] == pytest.approx(row["estimates"][c["key"]]["vol"] * comp["basis_factor"], rel=1e-14)
 
 
 def test_forward_vol_is_the_garch_command_s(capsys, sample_dir):

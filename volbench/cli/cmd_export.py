@@ -15,6 +15,7 @@ from volbench.cli.options import (
     add_scaling,
     settings_from_args,
 )
+from volbench.errors import VolbenchError
 from volbench.export import FORMATS, build_bundle, export_format, write_export
 from volbench.export.atomic import check_destination
 
@@ -52,6 +53,9 @@ def run_export(args: argparse.Namespace) -> int:
     target = check_destination(args.to, overwrite=args.force)
     settings = settings_from_args(args)
     histories = load_from_args(args, settings)
+    if settings.quotes is not None and len(histories) > 1:
+        raise VolbenchError(f"--quotes holds one underlying's options, but the export has {len(histories)} series "
+                            f"({', '.join(h.name for h in histories)}); export that series alone with its quotes")
     bundle = build_bundle(histories, settings, command=getattr(args, "typed_argv", None))
     path = write_export(target, bundle, overwrite=args.force)
     if fmt == ".csv":

@@ -275,9 +275,9 @@ def _implied(ctx: Context, progress: Progress, cancel: Cancel):
 
 def _quotes(ctx: Context, progress: Progress, cancel: Cancel):
     """The quotes file's implied vols at the view's last date and the ATM vol for the option's expiry."""
+    _checkpoint(cancel)
     if ctx.settings.quotes is None:
         return CandidateSet.missing("quotes", "not requested")
-    _checkpoint(cancel)
     progress(0, 1, f"Solving the quotes' implied vols against {ctx.view.name}")
     view = analysis.market_for(ctx.view, ctx.settings)
     _checkpoint(cancel)
