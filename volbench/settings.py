@@ -265,6 +265,39 @@ class OptionSettings(_Group):
 
 
 @dataclass(frozen=True)
+class EventsSettings(_Group):
+    """The instrument's scheduled events (results, reports), read once from an events CSV.
+
+    Attributes
+    ----------
+    file
+        Path of the events CSV (``date[,label][,timing]``, see :func:`volbench.events.read_events`).
+    date_format
+        ``strftime`` format of its dates; ISO (YYYY-MM-DD) when ``None``.
+    calendar
+        The events read from ``file`` (filled when the object is built, so a missing or
+        unreadable file is refused before any work; bad rows are findings naming their line).
+    """
+
+    file: str
+    date_format: str | None = None
+    calendar: Any = field(default=None, compare=False, repr=False)
+
+    def __post_init__(self) -> None:
+        from volbench.events import read_events
+
+        _set(self, "file", str(self.file).strip())
+        if not self.file:
+            raise VolbenchError("events file: give the path of an events CSV (date,label,timing)")
+        _set(self, "calendar", read_events(self.file, date_format=self.date_format))
+
+    def as_dict(self) -> dict:
+        c = self.calendar
+        return {"file": self.file, "sha256": c.sha256, "events": len(c), "date_format": self.date_format,
+                "findings": [f.as_dict() for f in c.findings]}
+
+
+@dataclass(frozen=True)
 class Settings:
     """One run's settings: a group object per part, ``None`` for a part not requested.
 
@@ -276,6 +309,8 @@ class Settings:
     cone, scaling, garch, option
         The volatility cone, the scaling check, the GARCH-type fits and the option to compare;
         ``None`` when not requested.
+    events
+        The instrument's scheduled events (:class:`EventsSettings`); ``None`` when not given.
     created
         Time stamped on outputs (default: now, UTC).
     """
@@ -286,6 +321,7 @@ class Settings:
     scaling: ScalingSettings | None = field(default_factory=ScalingSettings)
     garch: GarchSettings | None = None
     option: OptionSettings | None = None
+    events: EventsSettings | None = None
     created: datetime | None = None
 
     def __post_init__(self) -> None:

@@ -65,8 +65,8 @@ def test_xlsx_round_trip_every_sheet(tmp_path, full_bundle):
     b = full_bundle()
     path = write_xlsx(tmp_path / "sheet.xlsx", b)
     sheets = pd.read_excel(path, sheet_name=None, engine="openpyxl")
-    assert list(sheets) == ["estimates", "cone", "scaling", "scaling_summary", "garch", "comparison", "notes",
-                            "findings", "inputs"]
+    assert list(sheets) == ["estimates", "cone", "scaling", "scaling_summary", "garch", "comparison", "price_bands",
+                            "breakevens", "notes", "findings", "inputs"]
     for name in b.names:
         if name == "inputs":  # mixed text/number column: compare as text below
             continue

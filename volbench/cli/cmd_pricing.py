@@ -14,6 +14,7 @@ from volbench.cli.common import (
     render_table,
     with_import,
 )
+from volbench.cli.events_text import events_lines
 from volbench.cli.options import (
     add_cone,
     add_estimation,
@@ -149,9 +150,11 @@ def _pick_series(histories, name):
 def run_compare(args: argparse.Namespace) -> int:
     settings = settings_from_args(args)
     history = _pick_series(load_from_args(args, settings), args.series)
-    comp = analysis.comparison_for(history, settings)
+    events = None if settings.events is None else analysis.events_for(history, settings)
+    comp = analysis.comparison_for(history, settings, given=None if events is None else {"events": events})
     if args.format == "json":
-        print_json(with_import(comp.as_dict(), history))
+        print_json(with_import({**comp.as_dict(), **({} if events is None else {"events": events.as_dict()})},
+                               history))
         return 0
     h = history
     atm = " (at the money)" if math.isclose(comp.strike, comp.spot) else ""
@@ -174,8 +177,8 @@ def run_compare(args: argparse.Namespace) -> int:
           "repricing; vega approx = vega x gap")
     missing = dict(comp.unavailable)
     labels = {**{k: REGISTRY[k].label for k in REGISTRY}, "garch": "GARCH", "scaling": "scaling check",
-              "bands": "price bands"}
-    hints = {"garch": "add --with-garch", "scaling": "add --with-scaling"}
+              "bands": "price bands", "events": "event-aware vol"}
+    hints = {"garch": "add --with-garch", "scaling": "add --with-scaling", "events": "add --events FILE"}
     if missing:
         parts = []
         for k, why in missing.items():
@@ -185,6 +188,9 @@ def run_compare(args: argparse.Namespace) -> int:
             parts.append(f"{labels.get(k, k)} ({why}{extra})")
         if parts:
             print("not shown: " + ", ".join(parts))
+    if events is not None:
+        print()
+        print("\n".join(events_lines(events)))
     print()
     if "cone" in missing:
         print(f"cone: not available ({missing['cone']})")

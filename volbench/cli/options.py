@@ -26,6 +26,7 @@ from volbench.models.family import DIST_REGISTRY, MEANS, MODEL_REGISTRY
 from volbench.settings import (
     ConeSettings,
     EstimationSettings,
+    EventsSettings,
     GarchSettings,
     OptionSettings,
     ScalingSettings,
@@ -254,6 +255,32 @@ def option_from_args(args: argparse.Namespace, required: bool = True) -> OptionS
         kind=args.kind or "call", window=getattr(args, "option_window", None))
 
 
+# ---------------------------------------------------------------------------- events
+def add_events(p: argparse.ArgumentParser) -> None:
+    """``--events FILE``: the instrument's scheduled events (every data command)."""
+    p.add_argument("--events", metavar="FILE", default=None,
+                   help="events CSV of the instrument (date[,label][,timing]; timing before_open or "
+                        "after_close; dates as --date-format says, ISO by default): ex-event estimates, "
+                        "the event move and the events in the option's life (docs/METHODS.md, Events and "
+                        "hindsight)")
+    command = p.prog.split()[-1]
+    _register(p, "events", used=command if command in EVENTS_USED_BY else None)
+
+
+EVENTS_USED_BY = ("estimate", "check", "compare", "garch", "export", "hindsight")
+"""Commands that read ``--events``; the others refuse it rather than ignore it."""
+
+
+def events_from_args(args: argparse.Namespace, used: str | None = None) -> EventsSettings | None:
+    if getattr(args, "events", None) is None:
+        return None
+    if used is None:
+        raise VolbenchError(f"--events is read by {', '.join(EVENTS_USED_BY)}; this command does not use "
+                            "events yet: leave --events out")
+    fmt = getattr(args, "date_format", None)
+    return EventsSettings(file=args.events, date_format=None if fmt in (None, "excel") else fmt)
+
+
 # ---------------------------------------------------------------------------- the groups
 @dataclass(frozen=True)
 class OptionGroup:
@@ -275,6 +302,7 @@ GROUPS: dict[str, OptionGroup] = {
         OptionGroup("scaling", add_scaling, scaling_from_args),
         OptionGroup("garch", add_garch, garch_from_args),
         OptionGroup("option", add_option, option_from_args),
+        OptionGroup("events", add_events, events_from_args, every=True),
     )
 }
 """Every settings group the command line knows, by :class:`Settings` field."""
