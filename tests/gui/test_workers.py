@@ -99,18 +99,20 @@ def test_synchronous_mode_runs_the_job_before_submit_returns(qtbot):
     assert got == [(1, 1, "done"), threading.get_ident()]
 
 
-EVERYTHING = ["rolling", "estimates", "cone", "placement", "scaling", "garch", "forward", "comparison", "bands"]
+EVERYTHING = ["rolling", "estimates", "cone", "placement", "scaling", "garch", "forward", "events", "comparison",
+              "bands", "promise", "hindsight"]
 
 
 @pytest.mark.parametrize(("changed", "expected"), [
     ({"window"}, ["rolling", "estimates"]),
-    ({"days"}, ["placement", "forward", "comparison", "bands"]),
-    ({"pricing_vol"}, ["placement", "comparison", "bands"]),
-    ({"garch_dist"}, ["garch", "forward", "comparison", "bands"]),
+    ({"days"}, ["placement", "forward", "events", "comparison", "bands", "promise", "hindsight"]),
+    ({"pricing_vol"}, ["placement", "comparison", "bands", "promise"]),
+    ({"garch_dist"}, ["garch", "forward", "events", "comparison", "bands", "promise"]),
     ({"annualization"}, EVERYTHING),
     ({"exclude_flagged"}, EVERYTHING),
     ({"estimators"}, []),
-    ({"cone_estimator"}, ["cone", "placement", "comparison", "bands"]),
+    ({"cone_estimator"}, ["cone", "placement", "comparison", "bands", "promise"]),
+    ({"events_file"}, ["events", "comparison", "bands", "promise", "hindsight"]),
 ])
 def test_a_change_recomputes_only_what_depends_on_it(changed, expected):
     assert jobs_for(frozenset(changed)) == expected

@@ -30,12 +30,15 @@ from volbench.data.load import Loaded
 from volbench.data.options import ImportOptions
 from volbench.errors import Cancelled, VolbenchError
 from volbench.estimators import EstimateReport
+from volbench.events import EventReport
 from volbench.export import ExportBundle, build_bundle, write_export
 from volbench.gui.loading import load_files
+from volbench.hindsight import Hindsight
 from volbench.models import GarchComparison, fit_many
 from volbench.pricing.bands import band_fan
 from volbench.pricing.compare import Comparison
 from volbench.pricing.cone import Cone, ConePlacement
+from volbench.pricing.promise_summary import PromiseSummary, promise_summary
 from volbench.scaling import ScalingResult
 from volbench.settings import Settings
 
@@ -212,6 +215,32 @@ def _bands(ctx: Context, progress: Progress, cancel: Cancel):
     return BandFans(c.days, MappingProxyType(fans))
 
 
+def _promise(ctx: Context, progress: Progress, cancel: Cancel):
+    return promise_summary(ctx.result("comparison", Comparison))
+
+
+def _events(ctx: Context, progress: Progress, cancel: Cancel):
+    _checkpoint(cancel)
+    if ctx.settings.events is None:
+        raise VolbenchError("not requested")
+    progress(0, 1, f"Studying the events of {ctx.view.name}")
+    result = analysis.events_for(ctx.view, ctx.settings)
+    _checkpoint(cancel)
+    return result
+
+
+def _hindsight(ctx: Context, progress: Progress, cancel: Cancel):
+    from volbench.hindsight import hindsight
+
+    s = ctx.settings
+    calendar = None if s.events is None else s.events.calendar
+    step = max(1, s.option.days // 5)  # a few as-of dates per option life: quick enough to follow the controls
+    _checkpoint(cancel)
+    progress(0, 1, f"Scoring past forecasts of {ctx.view.name}")
+    return hindsight(ctx.view, s.option.days, step=step, events=calendar, annualization=s.annualization,
+                     progress=progress, cancel=cancel)
+
+
 def _load(ctx: Context, progress: Progress, cancel: Cancel):
     r: LoadRequest = ctx.request
     return load_files(r.paths, r.options, taken=r.taken, progress=progress, cancel=cancel)
@@ -294,9 +323,14 @@ JOBS: dict[str, Job] = {j.kind: j for j in (
     _job("garch", ("view", "annualization", "garch_model", "garch_dist"), _garch, GarchComparison,
          background=True, busy="Fitting GARCH models to {name}…"),
     _job("forward", ("garch", "days"), _forward, ForwardVols),
-    _job("comparison", ("view", "annualization", *OPTION, "cone_estimator", "cone", "scaling", "garch"),
+    _job("events", ("view", "annualization", "days", "garch_model", "garch_dist", "events_file"),
+         _events, EventReport, background=True, busy="Studying the events of {name}…"),
+    _job("comparison", ("view", "annualization", *OPTION, "cone_estimator", "cone", "scaling", "garch", "events"),
          _comparison, Comparison),
     _job("bands", ("comparison",), _bands, BandFans),
+    _job("promise", ("comparison",), _promise, PromiseSummary),
+    _job("hindsight", ("view", "annualization", "days", "events_file"), _hindsight, Hindsight, background=True,
+         busy="Scoring past forecasts of {name}…"),
     _job("load", (), _load, Loaded, background=True, on_demand=True, busy="Reading {files}…"),
     _job("export", (), _export, Path, background=True, on_demand=True, busy="Exporting to {file}…"),
     _job("garch_all", (), _garch_all, BatchFits, background=True, on_demand=True,

@@ -31,6 +31,7 @@ from volbench.models.family import MODEL_REGISTRY
 from volbench.settings import (
     ConeSettings,
     EstimationSettings,
+    EventsSettings,
     GarchSettings,
     OptionSettings,
     ScalingSettings,
@@ -44,6 +45,7 @@ GROUPS: dict[str, Callable[[], Any]] = {
     "scaling": ScalingSettings,
     "garch": GarchSettings,
     "option": lambda: OptionSettings(pricing_vol=0.25, days=30),
+    "events": lambda: None,
 }
 """The settings groups the window holds, with the window's defaults."""
 
@@ -103,8 +105,14 @@ FIELDS: dict[str, Field] = {
     "adjust_splits": Field("import_options", "adjust_splits"),
     "gap_days": Field("import_options", "gap_days"),
     "estimators": Field(None, "estimators", lambda v: tuple(validate.estimator(str(k)) for k in v)),
+    "events_file": Field("events", "file", _optional_text),
 }
 """Every control's field name -> the settings group and attribute that hold it."""
+
+OPTIONAL_GROUPS: dict[str, Callable[[dict], Any]] = {
+    "events": lambda attrs: None if attrs.get("file") is None else EventsSettings(**attrs),
+}
+"""Groups that are off (``None``) until their field is set: built anew from it, never changed in place."""
 
 IMPORT_FIELDS = frozenset({"date_format", "delimiter", "decimal", "thousands", "use_adjusted", "adjust_splits",
                            "gap_days"})
@@ -134,6 +142,8 @@ class Choices:
         if field.group is None:
             return field.from_group(self._estimators)
         group = self._groups[field.group]
+        if group is None:  # an optional group not given (no events file)
+            return None
         value = group.quality.gap_days if field.attribute == "gap_days" else getattr(group, field.attribute)
         return field.from_group(value)
 
@@ -171,6 +181,9 @@ class Choices:
             else:
                 changes.setdefault(field.group, {})[field.attribute] = converted
         for group, attrs in changes.items():
+            if group in OPTIONAL_GROUPS:  # built from its one field, or off
+                self._groups[group] = OPTIONAL_GROUPS[group](attrs)
+                continue
             self._groups[group] = self._groups[group].with_changes(**attrs)
 
     def replace(self, **values: Any) -> Choices:

@@ -5,8 +5,10 @@ from volbench.gui.panes.comparison_pane import ComparisonPane
 from volbench.gui.panes.cone_pane import ConePane
 from volbench.gui.panes.controls import ControlsPane
 from volbench.gui.panes.data_pane import DataPane
+from volbench.gui.panes.hindsight_pane import HindsightPane
 from volbench.gui.panes.model_pane import ModelPane
 from volbench.gui.panes.price_pane import PricePane
+from volbench.gui.panes.promise_pane import PromisePane
 from volbench.gui.panes.rolling_pane import RollingPane
 from volbench.gui.panes.scaling_pane import ScalingPane
 
@@ -17,6 +19,8 @@ PANES: list[type[Pane]] = [
     ScalingPane,
     ConePane,
     ModelPane,
+    PromisePane,
+    HindsightPane,
     ControlsPane,
     ComparisonPane,
 ]
