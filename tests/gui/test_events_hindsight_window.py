@@ -39,10 +39,12 @@ def test_events_in_the_window_equal_compare_events(make_window, ironvale, capsys
     # markers: one per observed event, at the price chart's closes
     markers = w.panes["prices"].overlay.events
     assert len(markers.data) == report.count
+    assert len(w.panes["rolling"].event_lines.lines) == len(report.event_map.observed)
     # switching the file off removes the candidate and the markers
     assert set_events(w, None)
     assert "events" not in set(w.results.get("comparison").table["key"])
-    assert len(markers.data) == 0
+    assert len(markers.data) == 0 and not w.panes["rolling"].event_lines.lines
+    assert "Open an events file" in w.findChild(type(w.panes["events"].card), "events_card").message
 
 
 def test_a_bad_events_file_is_a_dialog_not_an_exception(make_window, ironvale, tmp_path, message_boxes):

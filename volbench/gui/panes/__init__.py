@@ -5,6 +5,7 @@ from volbench.gui.panes.comparison_pane import ComparisonPane
 from volbench.gui.panes.cone_pane import ConePane
 from volbench.gui.panes.controls import ControlsPane
 from volbench.gui.panes.data_pane import DataPane
+from volbench.gui.panes.events_pane import EventsPane
 from volbench.gui.panes.hindsight_pane import HindsightPane
 from volbench.gui.panes.model_pane import ModelPane
 from volbench.gui.panes.price_pane import PricePane
@@ -20,6 +21,7 @@ PANES: list[type[Pane]] = [
     ConePane,
     ModelPane,
     PromisePane,
+    EventsPane,
     HindsightPane,
     ControlsPane,
     ComparisonPane,

@@ -84,3 +84,31 @@ class PriceOverlay:
         if not self._legend_fan and self.fan_items:
             self.legend.addItem(self.fan_items[0], "±1, 2, 3 sigma bands at the pricing vol to expiry")
             self._legend_fan = True
+
+
+class EventLines:
+    """Event days as thin vertical lines on a date chart (the rolling-vol chart), from the ``events`` job."""
+
+    def __init__(self, plot, results: Results) -> None:
+        self.plot, self.results = plot, results
+        self.lines: list = []
+        results.updated.connect(self._on_results)
+
+    def _on_results(self, kinds) -> None:
+        if "events" in kinds:
+            self.draw()
+
+    def draw(self) -> None:
+        for line in self.lines:
+            self.plot.removeItem(line)
+        self.lines = []
+        report = self.results.get("events")
+        if report is None:
+            return
+        pen = pg.mkPen(EVENT_COLOUR, width=1, style=pg.QtCore.Qt.PenStyle.DotLine)
+        for e, x in zip(report.event_map.observed,
+                        _seconds(np.asarray([e.date for e in report.event_map.observed], dtype="datetime64[D]"))):
+            line = pg.InfiniteLine(float(x), angle=90, pen=pen)
+            line.setToolTip(f"event {e.date} {e.label}".strip())
+            self.plot.addItem(line, ignoreBounds=True)
+            self.lines.append(line)
