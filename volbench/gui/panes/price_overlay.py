@@ -55,8 +55,11 @@ class PriceOverlay:
         x_all, y_all = self.line.xData, self.line.yData
         days = np.asarray(x_all, dtype=float)
         x = _seconds(np.asarray([e.date for e in m.observed], dtype="datetime64[D]"))
-        # each event at the close of the bar that carries it (the first bar on or after its day)
-        at = np.minimum(np.searchsorted(days, x, side="left"), len(days) - 1)
+        # each event at the close of the bar that carries it: the first bar on or after its day, or
+        # after it for after_close (as volbench.events.event_positions places it)
+        after = np.array([e.timing == "after_close" for e in m.observed], dtype=bool)
+        pos = np.where(after, np.searchsorted(days, x, side="right"), np.searchsorted(days, x, side="left"))
+        at = np.minimum(pos, len(days) - 1)
         self.events.setData(days[at], np.asarray(y_all)[at],
                             data=[f"{e.date} {e.label}".strip() for e in m.observed])
         if not self._legend_events:
@@ -81,8 +84,9 @@ class PriceOverlay:
             self.plot.addItem(fill)
             self.fan_curves += [lo, hi]
             self.fan_items.append(fill)
-        if not self._legend_fan and self.fan_items:
-            self.legend.addItem(self.fan_items[0], "±1, 2, 3 sigma bands at the pricing vol to expiry")
+        if not self._legend_fan and self.fan_items:  # a plain sample: the legend cannot draw a fill item
+            sample = pg.PlotDataItem(pen=pg.mkPen(palette.BAND), fillLevel=0, brush=self.fan_items[0].brush())
+            self.legend.addItem(sample, "±1, 2, 3 sigma bands at the pricing vol to expiry")
             self._legend_fan = True
 
 
