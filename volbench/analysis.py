@@ -26,6 +26,7 @@ from volbench.estimators import (
     estimate_all,
     rolling_all,
 )
+from volbench.events import EventReport, event_study
 from volbench.intraday.candidate import HarCandidates, har_candidates
 from volbench.models import GarchComparison, fit_models
 from volbench.pricing.compare import Comparison, OptionSpec, compare
@@ -138,11 +139,32 @@ def har_for(history: PriceHistory, settings: Settings) -> HarCandidates:
     return har_candidates(history, hz, annualization=settings.annualization)
 
 
+def events_for(history: PriceHistory, settings: Settings) -> EventReport:
+    """Ex-event estimates, the event move and the events in the option's life
+    (:func:`volbench.events.event_study`) for the settings' events file.
+
+    The estimator window is the comparison's (``option.window``, else the option's life) when an
+    option is set, else the estimation window; with GARCH settings and an option, the first of
+    the settings' models is also fitted on the ex-event returns, its event variance added back.
+    """
+    ev = settings.events
+    if ev is None:
+        raise VolbenchError("no events file given; add --events FILE (date,label,timing)")
+    e, o = settings.estimation, settings.option
+    days = option_days(history, settings)
+    window = e.window if o is None else (o.window or days)
+    garch = settings.garch.models[0] if settings.garch is not None and o is not None else None
+    return event_study(history, ev.calendar, window=window, days=None if o is None else days, as_of=e.as_of,
+                       annualization=e.annualization, confidence=e.confidence, garch=garch,
+                       garch_dist=settings.garch.dist if garch else "normal")
+
+
 CANDIDATE_PARTS: dict[str, Callable[[PriceHistory, Settings], CandidateSource]] = {
     "garch": garch_for,
     "scaling": scaling_for,
     "quotes": market_for,
     "har": har_for,
+    "events": events_for,
 }
 """Parts of a run whose results offer comparison candidates, by :class:`Settings` field, in table order."""
 

@@ -442,6 +442,39 @@ class HarSettings(_Group):
 
 
 @dataclass(frozen=True)
+class EventsSettings(_Group):
+    """The instrument's scheduled events (results, reports), read once from an events CSV.
+
+    Attributes
+    ----------
+    file
+        Path of the events CSV (``date[,label][,timing]``, see :func:`volbench.events.read_events`).
+    date_format
+        ``strftime`` format of its dates; ISO (YYYY-MM-DD) when ``None``.
+    calendar
+        The events read from ``file`` (filled when the object is built, so a missing or
+        unreadable file is refused before any work; bad rows are findings naming their line).
+    """
+
+    file: str
+    date_format: str | None = None
+    calendar: Any = field(default=None, compare=False, repr=False)
+
+    def __post_init__(self) -> None:
+        from volbench.events import read_events
+
+        _set(self, "file", str(self.file).strip())
+        if not self.file:
+            raise VolbenchError("events file: give the path of an events CSV (date,label,timing)")
+        _set(self, "calendar", read_events(self.file, date_format=self.date_format))
+
+    def as_dict(self) -> dict:
+        c = self.calendar
+        return {"file": self.file, "sha256": c.sha256, "events": len(c), "date_format": self.date_format,
+                "findings": [f.as_dict() for f in c.findings]}
+
+
+@dataclass(frozen=True)
 class Settings:
     """One run's settings: a group object per part, ``None`` for a part not requested.
 
@@ -464,6 +497,8 @@ class Settings:
         How intraday files are cut into sessions (``None``: by calendar date).
     har
         The HAR-RV forecast candidate of intraday files (``None``: not requested).
+    events
+        The instrument's scheduled events (:class:`EventsSettings`); ``None`` when not given.
     created
         Time stamped on outputs (default: now, UTC).
     """
@@ -479,6 +514,7 @@ class Settings:
     quotes: QuotesSettings | None = None
     intraday: IntradaySettings | None = field(default_factory=IntradaySettings)
     har: HarSettings | None = field(default_factory=HarSettings)
+    events: EventsSettings | None = None
     created: datetime | None = None
 
     def __post_init__(self) -> None:

@@ -27,6 +27,7 @@ from scipy.signal import lfilter
 from scipy.special import ndtr
 
 from volbench.data.history import PriceHistory
+from volbench.estimators.intervals import BAR_EFFICIENCY, yang_zhang_dof
 from volbench.hindsight import hindsight
 
 BARS = 5040
@@ -37,7 +38,9 @@ REPEATS = 15
 TARGET_S = 0.5
 TARGET_RATIO = 5.0
 LN2 = math.log(2.0)
-EFF = {"parkinson": 5.2, "garman_klass": 7.4, "rogers_satchell": 6.0, "yang_zhang": 14.0}
+EFF = BAR_EFFICIENCY
+"""Per-bar efficiencies of the estimators' own intervals (Parkinson 4.91 exact; Garman-Klass and
+Rogers-Satchell calibrated), which hindsight's prediction intervals use too."""
 
 
 def _history() -> PriceHistory:
@@ -94,8 +97,14 @@ def _forecasts(o, h, lo, c):
         dof.append(w * EFF["rogers_satchell"])
     for w in WINDOWS:
         k = 0.34 / (1.34 + (w + 1) / (w - 1))
-        cols.append(pad(([np.nan], _rvar(on, w) + k * _rvar(cc[1:], w) + (1 - k) * _rmean(rs[1:], w))))
-        dof.append(w * EFF["yang_zhang"])
+        v_o = _rvar(on, w)
+        yz = v_o + k * _rvar(cc[1:], w) + (1 - k) * _rmean(rs[1:], w)
+        cols.append(pad(([np.nan], yz)))
+        # the estimator's own interval dof (its spec): 2 / Var of the window's estimate with the
+        # overnight share read from each window, the median over the bars (docs/METHODS.md, Hindsight)
+        share = np.where(yz > 0, v_o / np.where(yz > 0, yz, 1.0), 0.0)
+        per_bar = yang_zhang_dof(w, share)
+        dof.append(float(np.median(per_bar[np.isfinite(yz)])))
     ew = np.full(n, np.nan)
     seed = np.var(r[:20], ddof=1)
     ew[20] = seed

@@ -142,7 +142,8 @@ def test_compare_json_put_with_strike(capsys, sample_dir):
     assert d["option"]["kind"] == "put" and d["option"]["strike"] == 70.0 and d["option"]["rate"] == 0.04
     assert d["window"] == 40 and d["days"] == 60 and d["cone"]["windows"] == [60]
     assert d["candidates"][0]["source"] == "pricing" and d["candidates"][0]["gap_points"] == 0.0
-    assert d["unavailable"] == {"garch": "not requested", "scaling": "not requested", "quotes": "not requested"}
+    assert d["unavailable"] == {"garch": "not requested", "scaling": "not requested", "quotes": "not requested",
+                                "events": "not requested"}
 
 
 def test_compare_with_scaling(capsys, sample_dir):

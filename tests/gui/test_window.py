@@ -143,7 +143,7 @@ def test_pricing_vol_change_recomputes_comparison_but_not_garch(make_window, kes
     monkeypatch.setattr(analysis, "garch_for", lambda *a, **k: calls.append(a))
     with qtbot.waitSignal(w.controller.computed, timeout=5000) as blocker:
         w.findChild(QComboBox, "kind_combo").setCurrentIndex(1)
-    assert blocker.args[0] == frozenset({"comparison", "market", "bands", "implied"})
+    assert blocker.args[0] == frozenset({"comparison", "market", "bands", "implied", "promise"})
     assert calls == []
     assert w.results.get("comparison").kind == "put"
 

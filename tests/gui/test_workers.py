@@ -99,23 +99,24 @@ def test_synchronous_mode_runs_the_job_before_submit_returns(qtbot):
     assert got == [(1, 1, "done"), threading.get_ident()]
 
 
-EVERYTHING = ["rolling", "estimates", "cone", "life", "placement", "scaling", "garch", "forward", "quotes",
-              "comparison", "market", "bands", "implied"]
-AFTER_COMPARISON = ["comparison", "market", "bands", "implied"]
+EVERYTHING = ["rolling", "estimates", "cone", "life", "placement", "scaling", "garch", "forward", "quotes", "events",
+              "comparison", "market", "bands", "implied", "promise", "hindsight"]
+AFTER_COMPARISON = ["comparison", "market", "bands", "implied", "promise"]
 
 
 @pytest.mark.parametrize(("changed", "expected"), [
     ({"window"}, ["rolling", "estimates"]),
-    ({"days"}, ["life", "placement", "forward", "quotes", *AFTER_COMPARISON]),
-    ({"expiry"}, ["life", "placement", "forward", "quotes", *AFTER_COMPARISON]),
+    ({"days"}, ["life", "placement", "forward", "quotes", "events", *AFTER_COMPARISON, "hindsight"]),
+    ({"expiry"}, ["life", "placement", "forward", "quotes", "events", *AFTER_COMPARISON, "hindsight"]),
     ({"premium"}, ["implied"]),
     ({"quotes_file"}, ["quotes", *AFTER_COMPARISON]),
     ({"pricing_vol"}, ["placement", *AFTER_COMPARISON]),
-    ({"garch_dist"}, ["garch", "forward", *AFTER_COMPARISON]),
+    ({"garch_dist"}, ["garch", "forward", "events", *AFTER_COMPARISON]),
     ({"annualization"}, [k for k in EVERYTHING if k != "life"]),  # the life counts days, not bars a year
     ({"exclude_flagged"}, EVERYTHING),
     ({"estimators"}, []),
     ({"cone_estimator"}, ["cone", "placement", "quotes", *AFTER_COMPARISON]),
+    ({"events_file"}, ["events", *AFTER_COMPARISON, "hindsight"]),
 ])
 def test_a_change_recomputes_only_what_depends_on_it(changed, expected):
     assert jobs_for(frozenset(changed)) == expected

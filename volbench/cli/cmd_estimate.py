@@ -6,6 +6,7 @@ import argparse
 import csv
 import sys
 
+from volbench import analysis
 from volbench.cli.common import (
     add_file_options,
     add_format,
@@ -16,6 +17,7 @@ from volbench.cli.common import (
     render_table,
     with_import,
 )
+from volbench.cli.events_text import events_lines
 from volbench.cli.options import add_estimation, settings_from_args
 from volbench.estimators import REGISTRY, estimate_all
 from volbench.format import pct
@@ -59,14 +61,16 @@ def run_estimate(args: argparse.Namespace) -> int:
     histories = load_from_args(args, settings)
     reports = [estimate_all(h, e.window, as_of=e.as_of, annualization=e.annualization, confidence=e.confidence,
                             **e.options) for h in histories]
+    events = [None if settings.events is None else analysis.events_for(h, settings) for h in histories]
     if args.format == "json":
-        print_json({"series": [with_import(r.as_dict(), r.history) for r in reports]})
+        print_json({"series": [with_import({**r.as_dict(), **({} if ev is None else {"events": ev.as_dict()})},
+                                           r.history) for r, ev in zip(reports, events)]})
         return 0
     if args.format == "csv":
         w = csv.writer(sys.stdout, lineterminator="\n")
         w.writerow(["series", "as_of", "estimator", "window", "annualization", "vol", "ci_low", "ci_high", "n",
                     "flagged_rows", "unavailable_reason"])
-        for r in reports:
+        for r, ev in zip(reports, events):
             win = "all" if r.window is None else r.window
             flag = "excluded" if r.history.exclude_flagged else "kept"
             for k in REGISTRY:
@@ -77,6 +81,10 @@ def run_estimate(args: argparse.Namespace) -> int:
                 elif k in r.unavailable:
                     w.writerow([r.history.name, r.as_of, k, win, r.annualization, "", "", "", "", flag,
                                 r.unavailable[k]])
+                if ev is not None and k in ev.ex_event:  # the ex-event estimate as its own row
+                    x = ev.ex_event[k]
+                    w.writerow([r.history.name, ev.as_of, f"{k}:ex_event", win, r.annualization, f"{x.vol:.10g}",
+                                f"{x.ci_low:.10g}", f"{x.ci_high:.10g}", x.n, flag, ""])
         return 0
     for i, r in enumerate(reports):
         h = r.history
@@ -100,6 +108,9 @@ def run_estimate(args: argparse.Namespace) -> int:
             elif k in r.unavailable:
                 rows.append([spec.label, "n/a", r.unavailable[k], ""])
         print(render_table(["estimator", "vol", "95% interval", "n"], rows, "lrlr"))
+        if events[i] is not None:
+            print()
+            print("\n".join(events_lines(events[i], r.estimates)))
     print("\n~ approximate interval (effective degrees of freedom, coverage checked by simulation).")
     if any(e.note for r in reports for e in r.estimates.values()):
         print("Range estimators read low on discretely traded prices (about -3% to -4% in vol at 500 trades "
@@ -109,12 +120,22 @@ def run_estimate(args: argparse.Namespace) -> int:
 
 
 def run_check(args: argparse.Namespace) -> int:
-    histories = load_from_args(args)
+    settings = settings_from_args(args)
+    histories = load_from_args(args, settings)
+    ev = settings.events
     if args.format == "json":
-        print_json({"series": [with_import({"name": h.name, "source": str(h.source) if h.source else None,
-                                            "rows": _file_rows(h), "findings": [f.as_dict() for f in h.findings]}, h)
-                               for h in histories]})
+        doc = {"series": [with_import({"name": h.name, "source": str(h.source) if h.source else None,
+                                       "rows": _file_rows(h), "findings": [f.as_dict() for f in h.findings]}, h)
+                          for h in histories]}
+        if ev is not None:
+            doc["events_file"] = ev.as_dict()
+        print_json(doc)
         return 0
+    if ev is not None:
+        print(f"events file {ev.file}: {len(ev.calendar)} usable events, {len(ev.calendar.findings)} findings")
+        for f in ev.calendar.findings:
+            print(f"  {f.severity}: {f.message}")
+        print()
     for i, h in enumerate(histories):
         if i:
             print()

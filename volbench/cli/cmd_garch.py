@@ -16,7 +16,7 @@ from volbench.cli.common import (
     with_import,
 )
 from volbench.cli.options import add_estimation, add_garch, settings_from_args
-from volbench.format import number, pct
+from volbench.format import number, pct, sig
 from volbench.models import DIST_REGISTRY, GarchComparison, GarchFit, fit_many
 
 PARALLEL_FROM = 10
@@ -62,8 +62,17 @@ def run_garch(args: argparse.Namespace) -> int:
                        progress=progress if show else None)
     if show:
         sys.stderr.write("\n")
+    events = [None] * len(histories)
+    if settings.events is not None:  # each model refitted on the ex-event returns, events added back
+        from volbench.events.term import event_garch_term
+
+        events = [event_garch_term(h, settings.events.calendar, [f.model for f in r.fits] or list(garch.models),
+                                   garch.horizons, settings=garch, annualization=settings.annualization)
+                  for h, r in zip(histories, results)]
     if args.format == "json":
-        print_json({"series": [with_import(r.as_dict(), h) for h, r in zip(histories, results)]})
+        print_json({"series": [with_import({**r.as_dict(), **({} if ev is None else {
+            "events": {"models": [t.as_dict() for t in ev], "file": settings.events.as_dict()}})}, h)
+            for h, r, ev in zip(histories, results, events)]})
         return 0
     for i, (h, r) in enumerate(zip(histories, results)):
         if i:
@@ -71,12 +80,30 @@ def run_garch(args: argparse.Namespace) -> int:
         print(f"{h.name}  ({h.source.name if h.source else ''}: {h.n} rows, {h.first_date} to {h.last_date})")
         print_interval(h)
         _print_comparison(r, settings.annualization)
+        if events[i]:
+            _print_events(events[i])
     print("\nForward vol: annualized sqrt of the average expected variance over bars 1..T after the last bar.")
     if any(f.fallback for r in results for f in r.fits):
         print("* fallback (EWMA, or the close-to-close vol when the fit finds no clustering), flat over every "
               "horizon; the warnings say why.")
     print("Estimates are statistical and carry model risk; they are not advice.")
     return 0
+
+
+def _print_events(terms) -> None:
+    move = terms[0].move
+    print()
+    if move is None:
+        print("ex-event fits: no event falls in the history, so no event move to add back")
+    else:
+        print(f"fitted again on the ex-event returns (event days removed, series spliced); event move variance "
+              f"{sig(move.variance, 4)} per event from {move.n_events} events, added back per event in each life")
+    heads = ["model", *[f"{g.days} bars" for g in terms[0].rows]]
+    rows = [["events in life", *map(str, terms[0].events_in_life)]]
+    for t in terms:
+        rows.append([f"{t.rows[0].label} ex-event", *[pct(g.ex_event_vol) for g in t.rows]])
+        rows.append([f"{t.rows[0].label} + events", *[pct(g.event_aware_vol) for g in t.rows]])
+    print(render_table(heads, rows, "l" + "r" * (len(heads) - 1)))
 
 
 def _status(f: GarchFit, preferred: str | None) -> str:

@@ -17,6 +17,7 @@ from volbench.cli.common import (
     print_json,
     render_table,
 )
+from volbench.cli.options import settings_from_args
 from volbench.errors import VolbenchError
 from volbench.hindsight import (
     DEFAULT_REFIT_EVERY,
@@ -50,9 +51,6 @@ def register(sub) -> None:
                    help="add the GARCH(1,1) forward vol (refitted every --refit-every bars; slower)")
     p.add_argument("--refit-every", type=int, default=DEFAULT_REFIT_EVERY, metavar="R",
                    help="bars between GARCH refits; parameters are kept in between (default %(default)s)")
-    p.add_argument("--events", metavar="FILE", default=None,
-                   help="events CSV (date[,label][,timing]; timing before_open or after_close; dates as "
-                        "--date-format says, ISO by default) of the instrument: adds event-aware candidates")
     add_annualization(p)
     add_format(p, ("table", "json", "csv"))
     p.set_defaults(func=run_hindsight)
@@ -68,12 +66,9 @@ def _windows(args: argparse.Namespace) -> tuple[int, ...]:
 
 def run_hindsight(args: argparse.Namespace) -> int:
     windows = _windows(args)
-    calendar = None
-    if args.events is not None:
-        from volbench.events import read_events
-
-        calendar = read_events(args.events, date_format=args.date_format)
-    histories = load_from_args(args)
+    settings = settings_from_args(args)  # --events is read here, with every other setting
+    calendar = None if settings.events is None else settings.events.calendar
+    histories = load_from_args(args, settings)
     if calendar is not None and len(histories) > 1:
         raise VolbenchError(f"--events lists the events of one instrument; give one price series "
                             f"(got {len(histories)}: {', '.join(h.name for h in histories)})")

@@ -15,6 +15,7 @@ from volbench.cli.common import (
     render_table,
     with_import,
 )
+from volbench.cli.events_text import events_lines
 from volbench.cli.options import (
     add_cone,
     add_decision,
@@ -164,12 +165,17 @@ def run_compare(args: argparse.Namespace) -> int:
         cone = analysis.cone_for(history, settings)
     except VolbenchError:  # the comparison says why
         cone = None
+    events = given.get("events")
+    if isinstance(events, str):  # a requested events study that cannot be made: say why, exit 2
+        raise VolbenchError(events)
     comp = analysis.comparison_for(history, settings, given=given, cone=cone)
     market = analysis.market_comparison_for(comp, given, cone)
     if args.format == "json":
         from volbench import provenance
 
         out = with_import(comp.as_dict(), history)
+        if events is not None:
+            out["events"] = events.as_dict()
         out["market"] = None if market is None else _market_json(market, given["quotes"])
         out["provenance"] = {"volbench_version": __version__, "settings": settings.as_dict(),
                              **provenance.record(settings, [history], getattr(args, "typed_argv", None))}
@@ -210,8 +216,10 @@ def run_compare(args: argparse.Namespace) -> int:
             print(f"note: {note}")
     missing = dict(comp.unavailable)
     labels = {**{k: REGISTRY[k].label for k in REGISTRY}, "garch": "GARCH", "scaling": "scaling check",
-              "bands": "price bands", "market": "market implied vol", "quotes": "market implied vol"}
-    hints = {"garch": "add --with-garch", "scaling": "add --with-scaling", "quotes": "add --quotes FILE"}
+              "bands": "price bands", "market": "market implied vol", "quotes": "market implied vol",
+              "events": "event-aware vol"}
+    hints = {"garch": "add --with-garch", "scaling": "add --with-scaling", "quotes": "add --quotes FILE",
+             "events": "add --events FILE"}
     if missing:
         parts = []
         for k, why in missing.items():
@@ -221,6 +229,9 @@ def run_compare(args: argparse.Namespace) -> int:
             parts.append(f"{labels.get(k, k)} ({why}{extra})")
         if parts:
             print("not shown: " + ", ".join(parts))
+    if events is not None:
+        print()
+        print("\n".join(events_lines(events)))
     print()
     if "cone" in missing:
         print(f"cone: not available ({missing['cone']})")

@@ -29,10 +29,11 @@ from volbench.settings import (
     ConeSettings,
     DecisionSettings,
     EstimationSettings,
+    EventsSettings,
     GarchSettings,
-    LifeSettings,
     HarSettings,
     IntradaySettings,
+    LifeSettings,
     OptionSettings,
     QuotesSettings,
     ScalingSettings,
@@ -513,6 +514,37 @@ def har_argv(h: HarSettings | None) -> list[str]:
     return [] if h is None else ["--har-horizons", _ints(h.horizons)]
 
 
+# ---------------------------------------------------------------------------- events
+def add_events(p: argparse.ArgumentParser) -> None:
+    """``--events FILE``: the instrument's scheduled events (every data command)."""
+    p.add_argument("--events", metavar="FILE", default=None,
+                   help="events CSV of the instrument (date[,label][,timing]; timing before_open or "
+                        "after_close; dates as --date-format says, ISO by default): ex-event estimates, "
+                        "the event move and the events in the option's life (docs/METHODS.md, Events and "
+                        "hindsight)")
+    command = p.prog.split()[-1]
+    _register(p, "events", used=command if command in EVENTS_USED_BY else None)
+
+
+EVENTS_USED_BY = ("estimate", "check", "compare", "garch", "export", "hindsight")
+"""Commands that read ``--events``; the others refuse it rather than ignore it."""
+
+
+def events_from_args(args: argparse.Namespace, used: str | None = None) -> EventsSettings | None:
+    if getattr(args, "events", None) is None:
+        return None
+    if used is None:
+        raise VolbenchError(f"--events is read by {', '.join(EVENTS_USED_BY)}; this command does not use "
+                            "events yet: leave --events out")
+    fmt = getattr(args, "date_format", None)
+    return EventsSettings(file=args.events, date_format=None if fmt in (None, "excel") else fmt)
+
+
+def events_argv(e: EventsSettings | None) -> list[str]:
+    """The events file by its absolute path (its date format is the import group's --date-format)."""
+    return [] if e is None else ["--events", str(Path(e.file).absolute())]
+
+
 # ---------------------------------------------------------------------------- the groups
 @dataclass(frozen=True)
 class OptionGroup:
@@ -546,6 +578,7 @@ GROUPS: dict[str, OptionGroup] = {
         OptionGroup("quotes", add_quotes, quotes_from_args, argv=quotes_argv),
         OptionGroup("intraday", add_intraday, intraday_from_args, every=True, argv=intraday_argv),
         OptionGroup("har", add_har, har_from_args, every=True, argv=har_argv),
+        OptionGroup("events", add_events, events_from_args, every=True, argv=events_argv),
     )
 }
 """Every settings group the command line knows, by :class:`Settings` field."""

@@ -248,6 +248,48 @@ class EventReport:
     warnings: tuple[str, ...] = ()
     findings: tuple[Finding, ...] = field(default=())
 
+    @property
+    def candidate_label(self) -> str:
+        """The comparison row's label: "ex-event + m events"."""
+        m = self.events_in_life or 0
+        return f"ex-event + {m} event{'s' if m != 1 else ''}"
+
+    def candidates(self, days: int):
+        """The event-aware vols as comparison candidates (:class:`volbench.candidates.CandidateSource`).
+
+        ``"events"``: the ex-event close-to-close vol at ``window`` plus ``events_in_life`` event
+        variances over ``days`` bars (:func:`event_aware_vol`); ``"events:garch"``: the same added to
+        the GARCH forward vol of the ex-event returns, when that fit was asked for.
+        """
+        from volbench.candidates import Candidate, CandidateSet
+        from volbench.format import pct, sig
+
+        if self.days is not None and int(days) != self.days:
+            return CandidateSet.missing("events", f"the event study was made for {self.days} bars, not {days}")
+        items, missing = [], {}
+        m = self.events_in_life
+        move = self.event_move
+        if self.event_aware_vol is None:
+            why = (self.warnings[-1] if self.warnings else "no event move or ex-event vol")
+            missing["events"] = why
+        else:
+            base = self.ex_event[EVENT_AWARE_BASIS]
+            note = (f"ex-event close-to-close {pct(base.vol)} over {base.n} ordinary returns, plus {m} event "
+                    f"variance{'s' if m != 1 else ''} of {sig(move.variance, 3)} each (from {move.n_events} events) "
+                    f"over {days} bars")
+            if move.n_events < MIN_EVENTS:
+                note += f"; fewer than {MIN_EVENTS} events: rough"
+            items.append(Candidate("events", "events", self.candidate_label, self.event_aware_vol,
+                                   window=self.window, note=note, headline=True))
+        g = self.garch
+        if g is not None and g.event_aware_vol is not None and g.event_aware_vol > 0:
+            items.append(Candidate("events", "events:garch", f"{g.label} ex-event + {m} event{'s' if m != 1 else ''}",
+                                   g.event_aware_vol, window=g.days,
+                                   note=f"{g.label} fitted on {g.nobs} ex-event returns, forward vol "
+                                        f"{pct(g.ex_event_vol)} over {g.days} bars, plus {m} event variance{'s' if m != 1 else ''}",
+                                   fallback=g.fallback))
+        return CandidateSet("events", tuple(items), missing, title="event-aware vol", what="vol")
+
     def as_dict(self) -> dict:
         """The JSON shape ``"events"`` of a series."""
         return {

@@ -20,6 +20,7 @@ from volbench import __version__, analysis, validate
 from volbench import provenance as prov
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
+from volbench.export import extra_sections as extra
 from volbench.export import layout
 from volbench.export import sections as sec
 from volbench.export.schema import (
@@ -35,8 +36,8 @@ SECTIONS: tuple[str, ...] = ("estimates", "cone", "scaling", "garch", "compariso
 """Sections in export order; each always has a sheet in an XLSX file."""
 
 TABLE_ORDER: tuple[str, ...] = (
-    "estimates", "cone", "scaling", "scaling_summary", "garch", "garch_term", "comparison", "decision", "notes",
-    "findings", "inputs",
+    "estimates", "cone", "scaling", "scaling_summary", "garch", "garch_term", "events", "comparison",
+    "price_bands", "breakevens", "decision", "notes", "findings", "inputs",
 )
 """Every table a bundle can hold, in the order writers lay them out."""
 
@@ -170,6 +171,8 @@ def build_bundle(
     built["garch"] = (sec.garch_section(cut, settings, given.get("garch")) if settings.garch is not None
                       else sec.not_requested("add --with-garch"))
     step(4, "garch")
+    if settings.events is not None:  # its own table, and the event-aware candidates of the comparison
+        built["events"] = extra.events_section(cut, settings, given.get("events"))
     if settings.option is not None:
         parts = {name: built[name] for name in analysis.CANDIDATE_PARTS if name in built}  # the rest: computed
         built["comparison"] = sec.comparison_section(cut, settings, parts, given.get("comparison"))
@@ -181,6 +184,8 @@ def build_bundle(
     step(6, "decision")
 
     statuses = {name: built[name].status for name in SECTIONS}
+    if "events" in built:
+        statuses["events"] = built["events"].status
     provenance = {
         "created": created_iso, "volbench_version": __version__, "schema_version": SCHEMA_VERSION,
         "settings": record,
@@ -199,6 +204,10 @@ def build_bundle(
     tables["notes"] = pd.DataFrame(notes, columns=list(sec.NOTE_COLUMNS))
     tables["findings"] = findings_table(histories)
     tables["inputs"] = inputs_table(provenance)
+    if "comparison" in built:
+        more, more_percent = extra.promise_tables(built["comparison"].results)
+        tables.update(more)
+        percent.update(more_percent)
     ordered = {k: layout.conform(k, tables[k]) for k in TABLE_ORDER if k in tables}
     return ExportBundle(
         tables=MappingProxyType(ordered), provenance=MappingProxyType(provenance),

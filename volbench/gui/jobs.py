@@ -31,8 +31,10 @@ from volbench.data.load import Loaded
 from volbench.data.options import ImportOptions
 from volbench.errors import Cancelled, VolbenchError
 from volbench.estimators import EstimateReport
+from volbench.events import EventReport
 from volbench.export import ExportBundle, build_bundle, write_export
 from volbench.gui.loading import load_files
+from volbench.hindsight import Hindsight
 from volbench.market.candidate import MarketComparison, MarketView
 from volbench.models import GarchComparison, fit_many
 from volbench.pricing.bands import band_fan
@@ -40,6 +42,7 @@ from volbench.pricing.compare import Comparison
 from volbench.pricing.cone import Cone, ConePlacement
 from volbench.pricing.daycount import OptionLife
 from volbench.pricing.implied import ImpliedVol, solve_implied_vol
+from volbench.pricing.promise_summary import PromiseSummary, promise_summary
 from volbench.scaling import ScalingResult
 from volbench.settings import DecisionSettings, GarchSettings, Settings
 from volbench.survey import DEFAULT_DAYS, SurveyResult, SurveySettings, run_survey
@@ -295,6 +298,33 @@ def _market(ctx: Context, progress: Progress, cancel: Cancel):
                                            else None}, cone if isinstance(cone, Cone) else None)
 
 
+def _promise(ctx: Context, progress: Progress, cancel: Cancel):
+    return promise_summary(ctx.result("comparison", Comparison))
+
+
+def _events(ctx: Context, progress: Progress, cancel: Cancel):
+    _checkpoint(cancel)
+    if ctx.settings.events is None:
+        raise VolbenchError("not requested")
+    progress(0, 1, f"Studying the events of {ctx.view.name}")
+    result = analysis.events_for(ctx.view, ctx.settings)
+    _checkpoint(cancel)
+    return result
+
+
+def _hindsight(ctx: Context, progress: Progress, cancel: Cancel):
+    from volbench.hindsight import hindsight
+
+    s = ctx.settings
+    calendar = None if s.events is None else s.events.calendar
+    days = _option_days(ctx)[0]
+    step = max(1, days // 5)  # a few as-of dates per option life: quick enough to follow the controls
+    _checkpoint(cancel)
+    progress(0, 1, f"Scoring past forecasts of {ctx.view.name}")
+    return hindsight(ctx.view, days, step=step, events=calendar, annualization=s.annualization,
+                     progress=progress, cancel=cancel)
+
+
 def _load(ctx: Context, progress: Progress, cancel: Cancel):
     r: LoadRequest = ctx.request
     return load_files(r.paths, r.options, taken=r.taken, progress=progress, cancel=cancel,
@@ -391,11 +421,17 @@ JOBS: dict[str, Job] = {j.kind: j for j in (
     _job("forward", ("garch", "life"), _forward, ForwardVols),
     _job("quotes", ("view", "annualization", "quotes_file", *LIFE, "rate", "dividend_yield", "cone_estimator"), _quotes,
          (MarketView, CandidateSet), background=True, busy="Solving the quotes' implied vols for {name}…"),
-    _job("comparison", ("view", "annualization", *OPTION, "cone_estimator", "cone", "scaling", "garch", "quotes"),
+    _job("events", ("view", "annualization", "life", "garch_model", "garch_dist", "events_file"),
+         _events, EventReport, background=True, busy="Studying the events of {name}…"),
+    _job("comparison", ("view", "annualization", *OPTION, "cone_estimator", "cone", "scaling", "garch", "quotes",
+                        "events"),
          _comparison, Comparison),
     _job("market", ("comparison", "quotes"), _market, (MarketComparison, Absent)),
     _job("bands", ("comparison",), _bands, BandFans),
     _job("implied", ("comparison", "premium"), _implied, (ImpliedVol, Absent)),
+    _job("promise", ("comparison",), _promise, PromiseSummary),
+    _job("hindsight", ("view", "annualization", "life", "events_file"), _hindsight, Hindsight, background=True,
+         busy="Scoring past forecasts of {name}…"),
     _job("load", (), _load, Loaded, background=True, on_demand=True, busy="Reading {files}…"),
     _job("export", (), _export, Path, background=True, on_demand=True, busy="Exporting to {file}…"),
     _job("garch_all", (), _garch_all, BatchFits, background=True, on_demand=True,

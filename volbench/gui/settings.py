@@ -63,6 +63,7 @@ class Settings:
             if not isinstance(data, dict):
                 return None
             data.pop("as_of", None)  # an as-of date belongs to a session, not to every run
+            data.pop("events_file", None)  # so do one instrument's events
             return Choices.from_dict(data)
         except (json.JSONDecodeError, VolbenchError, TypeError):
             return None

@@ -31,10 +31,11 @@ from volbench.models.family import MODEL_REGISTRY
 from volbench.settings import (
     ConeSettings,
     EstimationSettings,
+    EventsSettings,
     GarchSettings,
-    LifeSettings,
     HarSettings,
     IntradaySettings,
+    LifeSettings,
     OptionSettings,
     QuotesSettings,
     ScalingSettings,
@@ -99,6 +100,7 @@ GROUPS: dict[str, Callable[[], Any]] = {
     "quotes": QuotesChoice,
     "intraday": IntradaySettings,
     "har": HarSettings,
+    "events": lambda: None,
 }
 """The settings groups the window holds, with the window's defaults (the option's life in
 :class:`LifeChoice`, given to jobs as :class:`~volbench.settings.LifeSettings`)."""
@@ -164,8 +166,14 @@ FIELDS: dict[str, Field] = {
     "gap_days": Field("import_options", "gap_days"),
     "session_break": Field("intraday", "session_break", _optional_text),
     "estimators": Field(None, "estimators", lambda v: tuple(validate.estimator(str(k)) for k in v)),
+    "events_file": Field("events", "file", _optional_text),
 }
 """Every control's field name -> the settings group and attribute that hold it."""
+
+OPTIONAL_GROUPS: dict[str, Callable[[dict], Any]] = {
+    "events": lambda attrs: None if attrs.get("file") is None else EventsSettings(**attrs),
+}
+"""Groups that are off (``None``) until their field is set: built anew from it, never changed in place."""
 
 IMPORT_FIELDS = frozenset({"date_format", "delimiter", "decimal", "thousands", "use_adjusted", "adjust_splits",
                            "gap_days", "session_break"})
@@ -195,6 +203,8 @@ class Choices:
         if field.group is None:
             return field.from_group(self._estimators)
         group = self._groups[field.group]
+        if group is None:  # an optional group not given (no events file)
+            return None
         value = group.quality.gap_days if field.attribute == "gap_days" else getattr(group, field.attribute)
         return field.from_group(value)
 
@@ -234,6 +244,9 @@ class Choices:
             else:
                 changes.setdefault(field.group, {})[field.attribute] = converted
         for group, attrs in changes.items():
+            if group in OPTIONAL_GROUPS:  # built from its one field, or off
+                self._groups[group] = OPTIONAL_GROUPS[group](attrs)
+                continue
             self._groups[group] = self._groups[group].with_changes(**attrs)
 
     def replace(self, **values: Any) -> Choices:

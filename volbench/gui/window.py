@@ -31,6 +31,7 @@ from volbench.gui.dialogs import (
     guarded,
     show_error,
 )
+from volbench.gui.events_menu import add_events_actions
 from volbench.gui.import_dialog import ImportDialog
 from volbench.gui.jobs import BatchRequest, ExportRequest, LoadRequest
 from volbench.gui.panes import Pane
@@ -157,6 +158,7 @@ class MainWindow(QMainWindow):
         self.recent_menu = f.addMenu("Open &recent")
         self.recent_menu.setObjectName("recent_menu")
         self.recent_menu.aboutToShow.connect(self._fill_recent)
+        add_events_actions(self, f)
         f.addSeparator()
         self._action(f, "&Export results…", self.ask_export, "Ctrl+E", "export_action")
         self._action(f, "&Decision record…", self.ask_decision, None, "decision_action")

@@ -19,7 +19,8 @@ from scipy.signal import lfilter
 from volbench.data.history import PriceHistory, _iso
 from volbench.errors import Cancelled
 from volbench.estimators import REGISTRY, availability, get_spec, rolling_vol
-from volbench.estimators.close_based import EWMA_LAMBDA, ewma_effective_n
+from volbench.estimators.close_based import EWMA_LAMBDA
+from volbench.estimators.registry import dof_series
 from volbench.events.mapping import EventMap, ex_event_history
 
 Progress = Callable[[int, int, str], None]
@@ -75,19 +76,26 @@ def aligned(history: PriceHistory, key: str, window: int, annualization: float) 
     return out
 
 
-def effective_dof(key: str, window: int) -> float:
+def effective_dof(history: PriceHistory, key: str, window: int, vol: np.ndarray | None = None,
+                  annualization: float = 252.0) -> float:
     """Effective observations behind an estimate, as its confidence interval counts them.
 
-    Close-to-close: window - 1 (mean removed); range estimators: window x efficiency; EWMA:
-    (1 + lambda) / (1 - lambda) (the registry's interval conventions, docs/METHODS.md,
-    "Confidence intervals and their coverage").
+    Read from the estimator's spec (``EstimatorSpec.dof`` through
+    :func:`volbench.estimators.registry.dof_series`), so hindsight's prediction intervals use the
+    same degrees of freedom as the estimates' own intervals: close-to-close window - 1 (mean
+    removed); EWMA (1 + lambda) / (1 - lambda); the range estimators window x efficiency, and
+    Yang-Zhang its per-window value from the overnight share, of which the median over the bars is
+    taken (one number per candidate). docs/METHODS.md, "Confidence intervals and their coverage".
     """
     spec = get_spec(key)
-    if key == "ewma":
-        return ewma_effective_n(EWMA_LAMBDA)
-    if spec.ci_exact:
-        return float(window - 1)
-    return float(window * spec.efficiency)
+    variance = np.full(history.n, np.nan) if vol is None else np.asarray(vol, dtype=float) ** 2 / annualization
+    options = {"lam": EWMA_LAMBDA} if "lam" in spec.options else {}
+    d = dof_series(spec, history, window, variance, options)
+    arr = np.asarray(d, dtype=float)
+    if arr.ndim == 0:
+        return float(arr)
+    finite = arr[np.isfinite(arr) & np.isfinite(variance)]
+    return float(np.median(finite)) if finite.size else float(window * spec.efficiency)
 
 
 def estimator_forecasts(history: PriceHistory, keys: Sequence[str], windows: Sequence[int],
@@ -105,8 +113,9 @@ def estimator_forecasts(history: PriceHistory, keys: Sequence[str], windows: Seq
             if reason:
                 missing[ck] = reason
                 continue
+            vol = aligned(history, key, w, annualization)
             out.append(Forecast(ck, f"{spec.label}, {w} bars", w, "estimator",
-                                aligned(history, key, w, annualization), effective_dof(key, w),
+                                vol, effective_dof(history, key, w, vol, annualization),
                                 "latest estimate over the window, flat over the period"))
     return out, missing
 
@@ -119,7 +128,7 @@ def ewma_forecast(history: PriceHistory, annualization: float) -> tuple[Forecast
     if reason:
         return None, reason
     return (Forecast("ewma", spec.label, None, "ewma", aligned(history, "ewma", seed, annualization),
-                     effective_dof("ewma", seed), f"all past returns, seeded with the first {seed}"), None)
+                     effective_dof(history, "ewma", seed), f"all past returns, seeded with the first {seed}"), None)
 
 
 def event_aware_forecasts(history: PriceHistory, emap: EventMap, windows: Sequence[int], days: int,

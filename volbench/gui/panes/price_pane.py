@@ -9,6 +9,7 @@ from PySide6.QtWidgets import QLabel, QVBoxLayout, QWidget
 from volbench.gui import palette
 from volbench.gui.controller import Results
 from volbench.gui.panes.base import Pane
+from volbench.gui.panes.price_overlay import PriceOverlay
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, Plot
 
@@ -37,6 +38,7 @@ class PricePane(Pane):
                                           label="as of", labelOpts={"position": 0.95,
                                                                     "color": palette.REFERENCE})
         self.plot.addItem(self.as_of_line)
+        self.overlay = PriceOverlay(self.plot, self.legend, self.line, results)
         self.caption = QLabel()
         self.caption.setObjectName("price_caption")
         self.caption.setProperty("role", "caption")

@@ -13,6 +13,7 @@ from volbench.format import pct
 from volbench.gui import palette
 from volbench.gui.controller import Results
 from volbench.gui.panes.base import Pane
+from volbench.gui.panes.price_overlay import EventLines
 from volbench.gui.panes.price_pane import epoch_seconds
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, FrameTable, Plot
@@ -84,6 +85,7 @@ class RollingPane(Pane):
         self._x: dict[str, np.ndarray] = {}
         self._y: dict[str, np.ndarray] = {}
         results.updated.connect(self._on_results)
+        self.event_lines = EventLines(self.plot, results)  # event days of the events file
         state.changed.connect(self._on_state)
         self.render()
 
