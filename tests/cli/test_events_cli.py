@@ -74,6 +74,8 @@ def test_compare_json_carries_the_events_block_and_the_event_aware_candidate(cap
     s2_all = np.var(ordinary, ddof=1)
     s2_e = max(np.mean(np.array([r[b - 1] for b in sorted(evbars)]) ** 2) - s2_all, 0.0)
     want = math.sqrt((s2_ex * 20 / 252 + 1 * (s2_ex / 252 + s2_e)) / (21 / 252))
+    # the life's total variance per ACT/365 year, like every history vol (docs/METHODS.md, Day counts)
+    want *= d["basis_factor"]
     row = next(c for c in d["candidates"] if c["key"] == "events")
     assert row["label"] == "ex-event + 1 event" and row["source"] == "events"
     assert row["vol"] == pytest.approx(want, rel=1e-10)

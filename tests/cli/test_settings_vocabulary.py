@@ -19,7 +19,7 @@ import pytest
 from volbench.cli import build_parser
 from volbench.cli.options import GROUPS, OptionGroup, export_argv, settings_from_args
 from volbench.export import build_bundle
-from volbench.settings import LifeSettings, OptionSettings, QuotesSettings, Settings, group_types
+from volbench.settings import EventsSettings, LifeSettings, OptionSettings, QuotesSettings, Settings, group_types
 
 # Values tried in turn for a field (the first the group accepts and that differs from the
 # default is used); a new field whose type none of these fits fails below with its name.
@@ -28,10 +28,13 @@ SAMPLES = (7, 3, 150, 0.9, 0.1, 0.3, 0.02, 300.0, 2.5, (5, 10, 21), (2, 4), "t",
 
 QUOTES = Path(__file__).resolve().parents[2] / "sample_prices" / "quotes" / "ironvale_mining_quotes.csv"
 
-BASE = {"option": {"pricing_vol": 0.25}, "life": {"days": 30}, "quotes": {"file": QUOTES}}
+EVENTS = QUOTES.parents[1] / "events" / "ironvale_mining_events.csv"
+
+BASE = {"option": {"pricing_vol": 0.25}, "life": {"days": 30}, "quotes": {"file": QUOTES}, "events": {"file": EVENTS}}
 """Required fields of groups that have no default object."""
 
-FILE_FIELDS = {"life.holidays", "quotes.file", "quotes.date_format", "life.expiry"}
+FILE_FIELDS = {"life.holidays", "quotes.file", "quotes.date_format", "life.expiry", "events.file",
+               "events.date_format", "events.calendar"}
 """Settings that name a file read when the settings are built, the expiry (which excludes the
 base's days) and a date format the sample file must match: round-tripped in
 ``test_settings_naming_files_survive_by_path``."""
@@ -127,8 +130,11 @@ def test_settings_naming_files_survive_by_path(tmp_path):
     hol.write_text("2024-12-25\n2025-01-01\n", encoding="utf-8")
     settings = Settings(option=OptionSettings(pricing_vol=0.25),
                         life=LifeSettings(expiry="2025-03-21", basis="calendar", holidays=hol),
-                        quotes=QuotesSettings(file=QUOTES, date_format="%Y-%m-%d", model="gjr"))
+                        quotes=QuotesSettings(file=QUOTES, date_format="%Y-%m-%d", model="gjr"),
+                        events=EventsSettings(file=EVENTS))
     back = _round_trip(settings, tmp_path)
+    assert Path(back.events.file).resolve() == EVENTS.resolve()
+    assert back.events.calendar.sha256 == settings.events.calendar.sha256
     assert (back.life.expiry, back.life.basis) == ("2025-03-21", "calendar")
     assert [str(d) for d in back.life.holidays.dates] == ["2024-12-25", "2025-01-01"]
     assert Path(back.life.holidays.source).resolve() == hol.resolve()
@@ -148,7 +154,7 @@ def test_every_setting_has_an_inputs_row(sample_dir):
     from volbench.settings import DecisionSettings, GarchSettings, OptionSettings
 
     settings = Settings(garch=GarchSettings(models=("garch",)), option=OptionSettings(pricing_vol=0.25),
-                        life=LifeSettings(days=21), quotes=QuotesSettings(file=QUOTES),
+                        life=LifeSettings(days=21), quotes=QuotesSettings(file=QUOTES), events=EventsSettings(file=EVENTS),
                         decision=DecisionSettings(vol=0.26, rationale="r", prepared_by="p"))
     histories = load_many([sample_dir / "ironvale_mining.csv"], settings.import_options)
     inputs = build_bundle(histories, settings).table("inputs")

@@ -71,12 +71,25 @@ def garch_columns() -> tuple[str, ...]:
     params = garch_parameters()
     return GARCH_FRONT + tuple(f"param_{p}" for p in params) + tuple(f"se_{p}" for p in params) + ("warnings",)
 
+EVENTS_COLUMNS = ("series", "as_of", "row", "key", "label", "window", "vol", "ci_low", "ci_high", "n", "blended_vol",
+                  "variance", "variance_ci_low", "variance_ci_high", "expected_abs_move", "events", "events_in_life",
+                  "days", "note")
+PRICE_BANDS_COLUMNS = ("series", "as_of", "days", "spot", "key", "label", "vol", "sigmas", "low_price", "high_price",
+                       "low_move", "high_move", "promised", "observed", "observed_ci_low", "observed_ci_high",
+                       "observed_below", "observed_above", "windows", "overlapping_observed", "overlapping_windows",
+                       "promise_in_ci")
+BREAKEVENS_COLUMNS = ("series", "as_of", "days", "spot", "key", "label", "vol", "option", "strike", "premium",
+                      "breakeven_move", "breakeven_low", "breakeven_high", "promised_share_beyond",
+                      "observed_share_beyond", "observed_ci_low", "observed_ci_high", "windows",
+                      "overlapping_share_beyond", "overlapping_windows", "promise_in_ci")
+
 
 def table_columns() -> dict[str, tuple[str, ...]]:
     """Fixed columns per table name."""
     return {"estimates": ESTIMATES_COLUMNS, "cone": CONE_COLUMNS, "scaling": SCALING_COLUMNS,
             "scaling_summary": SCALING_SUMMARY_COLUMNS, "garch": garch_columns(), "garch_term": GARCH_TERM_COLUMNS,
-            "comparison": COMPARISON_COLUMNS, "decision": DECISION_COLUMNS, "notes": NOTES_COLUMNS,
+            "events": EVENTS_COLUMNS, "comparison": COMPARISON_COLUMNS, "price_bands": PRICE_BANDS_COLUMNS,
+            "breakevens": BREAKEVENS_COLUMNS, "decision": DECISION_COLUMNS, "notes": NOTES_COLUMNS,
             "findings": FINDINGS_COLUMNS, "inputs": INPUTS_COLUMNS}
 
 
