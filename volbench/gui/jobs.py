@@ -180,12 +180,22 @@ class SurveyRequest:
     with_garch: bool = False
 
 
-def survey_settings(settings: Settings, with_garch: bool = False) -> SurveySettings:
+def survey_settings(settings: Settings, with_garch: bool = False, view=None) -> SurveySettings:
     """The survey the window's settings ask for: every group as chosen (GARCH only when asked),
-    the option's life and its pricing vol for every series."""
-    o = settings.option
+    the option's life and its pricing vol for every series.
+
+    The survey counts the life in bars of each file: the option's trading days, counted from the
+    shown series' as-of date when the life is an expiry or calendar days (``view``), else the days
+    as given."""
+    o, life = settings.option, settings.life
+    days = None if o is None else o.days
+    if days is None and life is not None:
+        if life.days is not None and life.basis == "trading":
+            days = life.days
+        elif view is not None:
+            days = analysis.option_days(view, settings)
     groups = settings.with_groups(garch=(settings.garch or GarchSettings()) if with_garch else None)
-    return SurveySettings(groups=groups, days=o.days if o is not None else DEFAULT_DAYS,
+    return SurveySettings(groups=groups, days=days or DEFAULT_DAYS,
                           pricing_vol=o.pricing_vol if o is not None else None)
 
 
@@ -317,9 +327,9 @@ def _hindsight(ctx: Context, progress: Progress, cancel: Cancel):
 
     s = ctx.settings
     calendar = None if s.events is None else s.events.calendar
+    _checkpoint(cancel)
     days = _option_days(ctx)[0]
     step = max(1, days // 5)  # a few as-of dates per option life: quick enough to follow the controls
-    _checkpoint(cancel)
     progress(0, 1, f"Scoring past forecasts of {ctx.view.name}")
     return hindsight(ctx.view, days, step=step, events=calendar, annualization=s.annualization,
                      progress=progress, cancel=cancel)
@@ -363,7 +373,7 @@ def _garch_all(ctx: Context, progress: Progress, cancel: Cancel):
 def _survey(ctx: Context, progress: Progress, cancel: Cancel):
     r: SurveyRequest = ctx.request
     _checkpoint(cancel)
-    settings = survey_settings(ctx.settings, r.with_garch)
+    settings = survey_settings(ctx.settings, r.with_garch, ctx.view)
     return run_survey(r.paths, settings, jobs=r.workers, progress=lambda done, total, name: progress(
         done, total, f"Surveying: {done} of {total} files ({name})"), cancel=cancel)
 
