@@ -283,18 +283,20 @@ def _job(kind, inputs, run, returns, **kw) -> Job:
 
 
 OPTION = ("pricing_vol", "days", "strike", "rate", "dividend_yield", "kind")
+WINDOW = ("window", "linked", "ewma_lambda")
+"""What decides the comparison's estimator candidates besides the option (one window per screen)."""
 
 JOBS: dict[str, Job] = {j.kind: j for j in (
-    _job("rolling", ("view", "window", "annualization"), _rolling, analysis.RollingSet),
-    _job("estimates", ("view", "window", "annualization"), _estimates, EstimateReport),
-    _job("cone", ("view", "annualization", "cone_estimator"), _cone, Cone),
+    _job("rolling", ("view", "window", "annualization", "ewma_lambda"), _rolling, analysis.RollingSet),
+    _job("estimates", ("view", "window", "annualization", "ewma_lambda"), _estimates, EstimateReport),
+    _job("cone", ("view", "annualization", "cone_estimator", "hodges_tompkins"), _cone, Cone),
     _job("placement", ("cone", "pricing_vol", "days"), _placement, ConePosition),
     _job("scaling", ("view", "annualization"), _scaling, ScalingResult, background=True,
          busy="Running the scaling check on {name}…"),
     _job("garch", ("view", "annualization", "garch_model", "garch_dist"), _garch, GarchComparison,
          background=True, busy="Fitting GARCH models to {name}…"),
     _job("forward", ("garch", "days"), _forward, ForwardVols),
-    _job("comparison", ("view", "annualization", *OPTION, "cone_estimator", "cone", "scaling", "garch"),
+    _job("comparison", ("view", "annualization", *OPTION, *WINDOW, "cone_estimator", "cone", "scaling", "garch"),
          _comparison, Comparison),
     _job("bands", ("comparison",), _bands, BandFans),
     _job("load", (), _load, Loaded, background=True, on_demand=True, busy="Reading {files}…"),
