@@ -103,7 +103,8 @@ EVERYTHING = ["rolling", "estimates", "cone", "placement", "scaling", "garch", "
 
 
 @pytest.mark.parametrize(("changed", "expected"), [
-    ({"window"}, ["rolling", "estimates"]),
+    ({"window"}, ["rolling", "estimates", "comparison", "bands"]),  # one window per screen (linked)
+    ({"linked"}, ["comparison", "bands"]),
     ({"days"}, ["placement", "forward", "comparison", "bands"]),
     ({"pricing_vol"}, ["placement", "comparison", "bands"]),
     ({"garch_dist"}, ["garch", "forward", "comparison", "bands"]),

@@ -37,6 +37,7 @@ from volbench.settings import (
     Settings,
 )
 
+
 @dataclass(frozen=True)
 class ScreenChoices:
     """Choices of the window that no command-line group holds.

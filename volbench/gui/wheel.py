@@ -15,8 +15,15 @@ start-up calls it on itself).
 
 from __future__ import annotations
 
-from PySide6.QtCore import QEvent, QObject, Qt
-from PySide6.QtWidgets import QAbstractSpinBox, QComboBox, QWidget
+from PySide6.QtCore import QEvent, QObject, QPointF, Qt
+from PySide6.QtGui import QWheelEvent
+from PySide6.QtWidgets import (
+    QAbstractScrollArea,
+    QAbstractSpinBox,
+    QApplication,
+    QComboBox,
+    QWidget,
+)
 
 GUARDED = (QAbstractSpinBox, QComboBox)
 """Controls whose value the wheel changes (QDateEdit and QDoubleSpinBox are QAbstractSpinBox)."""
@@ -25,15 +32,24 @@ GUARDED = (QAbstractSpinBox, QComboBox)
 class WheelGuard(QObject):
     """Event filter: a wheel event on an unfocused control goes to its parent instead.
 
-    Qt offers a wheel event to the parent when the receiver leaves it unaccepted, so the filter
-    marks the event ignored and stops the control from handling it.
+    The filter stops the control from handling the event and sends a copy, in its coordinates, to
+    the viewport of the nearest scroll area around the control (Qt does not pass a re-sent wheel
+    event on to parents by itself), else to the parent.
     """
 
-    def eventFilter(self, obj: QObject, event: QEvent) -> bool:  # noqa: N802 - Qt's name
-        if event.type() == QEvent.Type.Wheel and isinstance(obj, QWidget) and not obj.hasFocus():
-            event.ignore()
-            return True
-        return False
+    def eventFilter(self, obj: QObject, event: QEvent) -> bool:
+        if event.type() != QEvent.Type.Wheel or not isinstance(obj, QWidget) or obj.hasFocus():
+            return False
+        parent = obj.parentWidget()
+        while parent is not None and not isinstance(parent, QAbstractScrollArea):
+            parent = parent.parentWidget()
+        parent = parent.viewport() if parent is not None else obj.parentWidget()
+        if parent is not None:
+            pos = QPointF(obj.mapTo(parent, event.position().toPoint()))
+            copy = QWheelEvent(pos, event.globalPosition(), event.pixelDelta(), event.angleDelta(),
+                               event.buttons(), event.modifiers(), event.phase(), event.inverted())
+            QApplication.sendEvent(parent, copy)
+        return True
 
 
 _GUARD_PROPERTY = "volbench_wheel_guarded"

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import (
     QDockWidget,
@@ -23,6 +23,7 @@ from volbench.data.load import Loaded
 from volbench.errors import VolbenchError
 from volbench.gui import panes as pane_registry
 from volbench.gui.controller import Controller, Results
+from volbench.gui.cue import cue_text
 from volbench.gui.dialogs import (
     HelpDialog,
     ask_yes_no,
@@ -32,11 +33,12 @@ from volbench.gui.dialogs import (
     show_error,
 )
 from volbench.gui.import_dialog import ImportDialog
-from volbench.gui.jobs import BatchRequest, ExportRequest, LoadRequest
+from volbench.gui.jobs import BatchRequest, ExportRequest, LoadRequest, jobs_for
 from volbench.gui.panes import Pane
 from volbench.gui.session import Session, read_session, write_session
 from volbench.gui.settings import Settings
 from volbench.gui.state import IMPORT_FIELDS, Choices, WorkbenchState
+from volbench.gui.wheel import guard_wheel
 from volbench.gui.widgets import Plot
 from volbench.gui.workers import Dispatcher
 
@@ -76,6 +78,8 @@ class MainWindow(QMainWindow):
         self.setAcceptDrops(True)
         self.settings = settings or Settings()
         self.state = WorkbenchState(choices or self.settings.load_choices() or Choices(), self)
+        self._problem_in_change = False  # the controller reported a problem during the change under way
+        self.state.changed.connect(self._before_change)  # before the controller recomputes
         self.results = Results(self)
         self.dispatcher = Dispatcher(synchronous=synchronous, parent=self)
         self.controller = Controller(self.state, self.results, self.dispatcher, self)
@@ -101,8 +105,9 @@ class MainWindow(QMainWindow):
             pane.notice.connect(self.show_status)
         self._build_status_bar()
         self._build_menus()
+        guard_wheel(self)  # the wheel scrolls the panels; it edits a control only once it has focus
 
-        self.controller.status.connect(self.show_status)
+        self.controller.status.connect(self._on_controller_status)
         self.controller.finished.connect(self._on_job_finished)
         self.controller.failed.connect(self._on_job_failed)
         self.state.changed.connect(self._on_state)
@@ -128,6 +133,15 @@ class MainWindow(QMainWindow):
         self.status_label = QLabel("Ready.")
         self.status_label.setObjectName("status_label")
         bar.addWidget(self.status_label, 1)
+        self.changed_cue = QLabel()
+        self.changed_cue.setObjectName("changed_cue")
+        self.changed_cue.setProperty("role", "cue")
+        self.changed_cue.setVisible(False)
+        bar.addPermanentWidget(self.changed_cue)
+        self._cue_timer = QTimer(self)
+        self._cue_timer.setSingleShot(True)
+        self._cue_timer.setInterval(8000)
+        self._cue_timer.timeout.connect(lambda: self.changed_cue.setVisible(False))
         self.progress = QProgressBar()
         self.progress.setObjectName("progress_bar")
         self.progress.setRange(0, 0)
@@ -182,9 +196,25 @@ class MainWindow(QMainWindow):
             raise VolbenchError(f"unknown action {action!r}; choose one of: {', '.join(actions)}")
         actions[action]()
 
+    def _before_change(self, names) -> None:
+        self._problem_in_change = False
+
+    def _on_controller_status(self, text: str) -> None:
+        self._problem_in_change = True
+        self.show_status(text)
+
     def _on_state(self, names) -> None:
         if names & IMPORT_FIELDS:
             self.reload_files()
+            return
+        text = cue_text(names, jobs_for(frozenset(names)))
+        if text and self.state.histories:
+            self.changed_cue.setText(text)
+            self.changed_cue.setToolTip(text)
+            self.changed_cue.setVisible(True)
+            self._cue_timer.start()
+            if not self._problem_in_change and not self.dispatcher.is_running():
+                self.show_status("Ready.")  # an error shown before this change is stale now
 
     # ------------------------------------------------------------------ status and progress
     def show_status(self, text: str) -> None:

@@ -27,6 +27,7 @@ from PySide6.QtWidgets import (
 )
 
 from volbench import validate
+from volbench.errors import VolbenchError
 from volbench.estimators import REGISTRY
 from volbench.gui import palette
 from volbench.gui.binding import Binding
@@ -34,7 +35,6 @@ from volbench.gui.collapsible import Section
 from volbench.gui.controller import Results
 from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
-from volbench.errors import VolbenchError
 from volbench.models.family import DIST_REGISTRY, MODEL_REGISTRY
 from volbench.types import EWMA_LAMBDA
 
