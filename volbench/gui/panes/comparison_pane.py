@@ -14,9 +14,25 @@ from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, FrameTable
 
-COMPARE_COLUMNS = ["candidate", "window (bars)", "vol", "gap (vol points)", "option price", "price difference",
-                   "vega estimate", "note"]
+COMPARE_COLUMNS = ["candidate", "window (bars)", "vol", "95% interval", "pricing vol inside?", "gap (vol points)",
+                   "option price", "price difference", "vega estimate", "note"]
 PENDING_WORDS = {"garch": "GARCH forward vol", "scaling": "scaling-check horizon vol"}
+
+
+def inside_words(pricing_vol: float, lo, hi) -> str:
+    """Whether the pricing vol lies in a candidate's interval: "yes", "no: above", "no: below", or ""
+    when the candidate has no interval."""
+    if lo is None or hi is None or pd.isna(lo) or pd.isna(hi):
+        return ""
+    if pricing_vol > hi:
+        return "no: above"
+    if pricing_vol < lo:
+        return "no: below"
+    return "yes"
+
+
+def interval_words(lo, hi) -> str:
+    return "" if lo is None or hi is None or pd.isna(lo) or pd.isna(hi) else f"{pct(lo)} to {pct(hi)}"
 
 
 def candidate_colour(source: str, key: str) -> str | None:
@@ -28,6 +44,14 @@ def candidate_colour(source: str, key: str) -> str | None:
     if source == "estimator":
         return palette.estimator_colour(key)
     return palette.REFERENCE
+
+
+def window_words(window: int, linked: bool, days: int) -> str:
+    """Which window the comparison's estimators use, in words (one window of truth per screen)."""
+    if linked:
+        return f"Estimators over the last {window} bars: the Window, as in the estimates table and rolling plot."
+    return (f"Estimators over the last {window} bars: the option's life (unlinked from the Window; the "
+            "estimates table uses the Window).")
 
 
 class ComparisonPane(Pane):
@@ -74,7 +98,10 @@ class ComparisonPane(Pane):
         rows, swatch = [], {}
         for i, rec in enumerate(c.table.to_dict(orient="records")):
             win = rec["window"]
+            pricing = rec["source"] == "pricing"
             rows.append([rec["label"], "" if win is None or pd.isna(win) else int(win), pct(rec["vol"]),
+                         "" if pricing else interval_words(rec["ci_low"], rec["ci_high"]),
+                         "" if pricing else inside_words(c.pricing_vol, rec["ci_low"], rec["ci_high"]),
                          "" if rec["source"] == "pricing" else number(rec["gap_points"], 2, signed=True),
                          number(rec["price"], grouping=True),
                          "" if rec["source"] == "pricing" else number(rec["price_diff"], signed=True),
@@ -84,13 +111,12 @@ class ComparisonPane(Pane):
             if colour:
                 swatch[i] = colour
         self.table.set_frame(pd.DataFrame(rows, columns=COMPARE_COLUMNS), c.table, swatch=swatch,
-                             right=COMPARE_COLUMNS[1:7])
+                             right=COMPARE_COLUMNS[1:9])
         strike = "at the money" if abs(c.strike - c.spot) < 1e-12 else f"strike {c.strike:,.4g}"
         self.heading.setText(
             f"Pricing vol {pct(c.pricing_vol)} for a {c.days}-bar {c.kind} on {c.name} ({strike}, spot "
             f"{c.spot:,.4g}, rate {pct(c.rate)}, yield {pct(c.dividend_yield)}), as of {c.as_of}: price "
-            f"{c.price:,.4f}. Estimators over the last {c.window} bars"
-            + (" (the option's life)." if c.window == c.days else "."))
+            f"{c.price:,.4f}. " + window_words(c.window, self.state.linked, c.days))
         lines = [f"<li>{t[0].upper() + t[1:]}{'' if t.endswith('.') else '.'}</li>" for t in c.full_reading]
         lines += [f"<li>Note: {t}.</li>" for t in c.caveats]
         missing = []

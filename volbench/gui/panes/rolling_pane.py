@@ -93,6 +93,8 @@ class RollingPane(Pane):
             self.render()
 
     def _on_state(self, names) -> None:
+        if "linked" in names:
+            self._render_table()
         if "estimators" in names:
             self._apply_visibility()
             self._render_table()
@@ -189,7 +191,9 @@ class RollingPane(Pane):
         h = report.history
         self.table_heading.setText(
             f"Estimates for {h.name} as of {report.as_of}: last {report.window} bars, "
-            f"{report.annualization:g} bars/yr, flagged rows {'left out' if h.exclude_flagged else 'kept'}")
+            f"{report.annualization:g} bars/yr, flagged rows {'left out' if h.exclude_flagged else 'kept'}; "
+            + ("the comparison uses the same window" if self.state.linked
+               else "the comparison uses the option's life (unlinked)"))
         self.table.set_frame(pd.DataFrame(rows, columns=ESTIMATE_COLUMNS),
                              pd.DataFrame(raw, columns=["estimator", "vol", "ci_low", "ci_high", "n", "note"]),
                              swatch=swatch, right=("vol", "n"))
