@@ -230,6 +230,9 @@ def test_the_cone_estimator_stays_selectable_when_the_cone_cannot_be_built(make_
     w = make_window()
     w.open_files([sample_dir / "vell_harbour_index.csv"])
     combo = w.findChild(QComboBox, "cone_estimator_combo")
+    # the list offers only what a close-only series supports; a remembered choice still says why
+    assert not combo.model().item(combo.findData("parkinson")).isEnabled()
+    assert combo.model().item(combo.findData("ewma")).isEnabled()
     combo.setCurrentIndex(combo.findData("parkinson"))
     card = w.findChild(Card, "cone_card")
     assert card.currentIndex() == 1 and "needs high/low columns" in card.message  # the cause: the file's columns

@@ -454,11 +454,18 @@ def vol_cone(
                 dropped=dropped, notes=tuple(notes), rolling=rolling)
 
 
+def supported_estimators(h: PriceHistory) -> list[str]:
+    """Keys of the registered estimators whose columns ``h`` has (what a cone can be built with)."""
+    from volbench.estimators.registry import REGISTRY
+
+    return [k for k, sp in REGISTRY.items() if all(getattr(h, c) is not None for c in sp.needs)]
+
+
 def supported_labels(h: PriceHistory) -> list[str]:
     """Labels of the registered estimators whose columns ``h`` has."""
     from volbench.estimators.registry import REGISTRY
 
-    return [sp.label for sp in REGISTRY.values() if all(getattr(h, c) is not None for c in sp.needs)]
+    return [REGISTRY[k].label for k in supported_estimators(h)]
 
 
 def _columns(h: PriceHistory, spec, ws: tuple[int, ...], a: float) -> tuple[dict, dict[int, str]]:

@@ -28,7 +28,7 @@ class RollingPane(Pane):
     def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
         super().__init__(state, results, parent)
         self.plot = Plot("rolling_plot", left="Annualized volatility (%)", bottom="Date", date_axis=True)
-        self.legend = self.plot.legend(offset=(10, 10), colCount=3)
+        self.legend = self.plot.legend(colCount=6)
         self.lines: dict[str, pg.PlotDataItem] = {}
         self.keys: dict[pg.PlotDataItem, str] = {}
         self.muted: set[str] = set()  # estimators switched off by clicking their legend entry
