@@ -19,7 +19,7 @@ LEGEND_ROW = 4
 class OutsideLegend(pg.LegendItem):
     """A legend laid out below the plot's x-axis instead of floating over the view box."""
 
-    def updateSize(self) -> None:  # noqa: N802 - pyqtgraph's name
+    def updateSize(self) -> None:
         height = width = 0.0
         for row in range(self.layout.rowCount()):
             row_height = col_width = 0.0

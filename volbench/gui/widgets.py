@@ -219,7 +219,7 @@ class Plot(pg.PlotWidget):
         save = menu.addAction("Save plot as PNG or SVG…")
         save.triggered.connect(self.ask_save)
 
-    def legend(self, *, colCount: int = 4, **_placement) -> pg.LegendItem:  # noqa: N803 - pyqtgraph's name
+    def legend(self, *, colCount: int = 4, **_placement) -> pg.LegendItem:
         """A legend below the x-axis, outside the data area (:mod:`volbench.gui.legends`); entries
         toggle their line. Placement arguments of a floating legend (``offset``) are ignored."""
         from volbench.gui.legends import legend_outside
