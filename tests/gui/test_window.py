@@ -10,6 +10,7 @@ from PySide6.QtWidgets import QCheckBox, QComboBox, QLabel, QSpinBox
 
 from volbench.data import load_prices
 from volbench.estimators import REGISTRY, estimate_all, rolling_vol
+from volbench.gui.names import estimator_name
 from volbench.gui.widgets import Card, FrameTable, Plot
 from volbench.pricing.compare import OptionSpec, compare
 
@@ -61,7 +62,7 @@ def test_estimates_shown_equal_the_core_for_the_same_settings(make_window, kestr
     for key, est in report.estimates.items():
         assert raw.loc[key, "vol"] == est.vol
         assert raw.loc[key, "ci_low"] == est.ci_low and raw.loc[key, "ci_high"] == est.ci_high
-        assert shown_vol(w, REGISTRY[key].label) == f"{100 * est.vol:.2f}%"
+        assert shown_vol(w, estimator_name(key)) == f"{100 * est.vol:.2f}%"
     # the comparison dock agrees with volbench.pricing.compare for the same option; one window per
     # screen: linked (the default), its estimator candidates use the estimates table's 20 bars
     comp = compare(h, 0.25, 30, option=OptionSpec(), annualization=252.0, window=20)

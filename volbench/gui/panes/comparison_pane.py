@@ -10,6 +10,7 @@ from PySide6.QtWidgets import QLabel, QSplitter, QVBoxLayout, QWidget
 from volbench.format import number, pct
 from volbench.gui import palette
 from volbench.gui.controller import Results
+from volbench.gui.names import estimator_name
 from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, FrameTable
@@ -99,7 +100,8 @@ class ComparisonPane(Pane):
         for i, rec in enumerate(c.table.to_dict(orient="records")):
             win = rec["window"]
             pricing = rec["source"] == "pricing"
-            rows.append([rec["label"], "" if win is None or pd.isna(win) else int(win), pct(rec["vol"]),
+            label = estimator_name(rec["key"], self.state.ewma_lambda) if rec["source"] == "estimator" else rec["label"]
+            rows.append([label, "" if win is None or pd.isna(win) else int(win), pct(rec["vol"]),
                          "" if pricing else interval_words(rec["ci_low"], rec["ci_high"]),
                          "" if pricing else inside_words(c.pricing_vol, rec["ci_low"], rec["ci_high"]),
                          "" if rec["source"] == "pricing" else number(rec["gap_points"], 2, signed=True),

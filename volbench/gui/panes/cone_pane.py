@@ -24,6 +24,7 @@ from volbench.format import pct
 from volbench.gui import palette
 from volbench.gui.binding import Binding
 from volbench.gui.controller import Results
+from volbench.gui.names import estimator_help, estimator_name
 from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, FrameTable, Plot
@@ -48,10 +49,8 @@ class ConePane(Pane):
         top.addWidget(QLabel("Cone estimator"))
         self.estimator = QComboBox()
         self.estimator.setObjectName("cone_estimator_combo")
-        for key, spec in REGISTRY.items():
-            self.estimator.addItem(spec.label, key)
-            self.estimator.setItemData(self.estimator.count() - 1, f"{spec.label}: {spec.assumes}",
-                                       Qt.ItemDataRole.ToolTipRole)
+        for key in REGISTRY:
+            self.estimator.addItem(estimator_name(key), key)
         top.addWidget(self.estimator)
         self.hodges_tompkins = QCheckBox("Hodges-Tompkins correction")
         self.hodges_tompkins.setObjectName("hodges_tompkins_check")
@@ -126,7 +125,7 @@ class ConePane(Pane):
             spec = REGISTRY[key]
             item = model.item(i)
             item.setEnabled(key in ok)
-            item.setToolTip(f"{spec.label}: {spec.assumes}" if key in ok else
+            item.setToolTip(estimator_help(key) if key in ok else
                             f"{spec.label} needs {'/'.join(sorted(spec.needs))} columns; this series lacks them")
 
     def _on_results(self, kinds) -> None:

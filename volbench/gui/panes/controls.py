@@ -33,6 +33,7 @@ from volbench.gui import palette
 from volbench.gui.binding import Binding
 from volbench.gui.collapsible import Section
 from volbench.gui.controller import Results
+from volbench.gui.names import estimator_help, estimator_name
 from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
 from volbench.models.family import DIST_REGISTRY, MODEL_REGISTRY
@@ -42,9 +43,6 @@ LATEST = "latest"
 """What the As of control shows for the last row (``None`` in the settings)."""
 
 
-def estimator_help(spec) -> str:
-    """Tooltip of an estimator: its full name, what it assumes and its source."""
-    return f"{spec.label}: {spec.assumes}\nSource: {spec.source}"
 
 
 def garch_model_items() -> list[tuple[str, str]]:
@@ -184,15 +182,15 @@ class ControlsPane(Pane):
 
         s = self.section("estimators")
         self.estimator_boxes: dict[str, QCheckBox] = {}
-        for key, spec in REGISTRY.items():
+        for key in REGISTRY:
             row = QHBoxLayout()
             row.setContentsMargins(0, 0, 0, 0)
             swatch = QLabel()
             swatch.setFixedSize(14, 14)
             swatch.setStyleSheet(f"background: {palette.estimator_colour(key)}; border-radius: 2px;")
-            box = QCheckBox(spec.label)
+            box = QCheckBox(estimator_name(key, state.ewma_lambda))
             box.setObjectName(f"estimator_{key}")
-            box.setToolTip(estimator_help(spec))
+            box.setToolTip(estimator_help(key, state.ewma_lambda))
             row.addWidget(swatch)
             row.addWidget(box, 1)
             line = QWidget()
@@ -336,6 +334,10 @@ class ControlsPane(Pane):
             self._fill_series()
         elif "selected" in names:
             self._update_date_range()
+        if "ewma_lambda" in names:
+            for key, box in self.estimator_boxes.items():
+                box.setText(estimator_name(key, self.state.ewma_lambda))
+                box.setToolTip(estimator_help(key, self.state.ewma_lambda))
         if "as_of" in names:
             self._write_as_of(self.state.as_of)
             self._show_as_of_problem(None)

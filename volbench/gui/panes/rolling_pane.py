@@ -12,6 +12,7 @@ from volbench.estimators import REGISTRY
 from volbench.format import pct
 from volbench.gui import palette
 from volbench.gui.controller import Results
+from volbench.gui.names import estimator_name
 from volbench.gui.panes.base import Pane
 from volbench.gui.panes.price_pane import epoch_seconds
 from volbench.gui.state import WorkbenchState
@@ -32,15 +33,15 @@ class RollingPane(Pane):
         self.lines: dict[str, pg.PlotDataItem] = {}
         self.keys: dict[pg.PlotDataItem, str] = {}
         self.muted: set[str] = set()  # estimators switched off by clicking their legend entry
-        for key, spec in REGISTRY.items():
+        for key in REGISTRY:
             colour = palette.estimator_colour(key)
             # one-pixel (cosmetic) pens draw several times faster than wider ones on long series
             self.lines[key] = self.plot.plot([], [], pen=pg.mkPen(colour, width=1), skipFiniteCheck=True)
-            self.lines[key].opts["name"] = spec.label
+            self.lines[key].opts["name"] = estimator_name(key, state.ewma_lambda)
             # the legend shows a thick sample of the same colour; clicking it toggles the line
             sample = pg.PlotDataItem(pen=pg.mkPen(colour, width=3))
             self.keys[sample] = key
-            self.legend.addItem(sample, spec.label)
+            self.legend.addItem(sample, estimator_name(key, state.ewma_lambda))
         self.legend.sigSampleClicked.connect(self._on_legend_click)
         self.pricing_line = pg.InfiniteLine(
             angle=0, movable=False, pen=pg.mkPen(palette.PRICING_VOL, width=1.6, style=Qt.PenStyle.DashLine),
@@ -95,6 +96,9 @@ class RollingPane(Pane):
     def _on_state(self, names) -> None:
         if "linked" in names:
             self._render_table()
+        if "ewma_lambda" in names:
+            for sample, label in self.legend.items:
+                label.setText(estimator_name(self.keys[sample.item], self.state.ewma_lambda))
         if "estimators" in names:
             self._apply_visibility()
             self._render_table()
@@ -180,12 +184,12 @@ class RollingPane(Pane):
                 e = report.estimates[key]
                 approx = "" if spec.ci_exact else " ~"
                 method = e.ci_method + (f"; {e.note}" if e.note else "")
-                rows.append([spec.label, pct(e.vol), f"{pct(e.ci_low)} to {pct(e.ci_high)}{approx}", e.n, method])
+                rows.append([estimator_name(key, self.state.ewma_lambda), pct(e.vol), f"{pct(e.ci_low)} to {pct(e.ci_high)}{approx}", e.n, method])
                 raw.append({"estimator": key, "vol": e.vol, "ci_low": e.ci_low, "ci_high": e.ci_high,
                             "n": e.n, "note": method})
             else:
                 reason = report.unavailable.get(key, "")
-                rows.append([spec.label, "n/a", "", "", reason])
+                rows.append([estimator_name(key, self.state.ewma_lambda), "n/a", "", "", reason])
                 raw.append({"estimator": key, "vol": None, "ci_low": None, "ci_high": None, "n": None,
                             "note": reason})
         h = report.history
@@ -224,7 +228,7 @@ class RollingPane(Pane):
                 i -= 1
             date = date or pd.Timestamp(xs[i], unit="s").strftime("%Y-%m-%d")
             parts.append(f"<span style='color:{palette.estimator_colour(key)}'>&#9632;</span> "
-                         f"{REGISTRY[key].short or REGISTRY[key].label} {self._y[key][i]:.1f}%")
+                         f"{estimator_name(key, self.state.ewma_lambda)} {self._y[key][i]:.1f}%")
         if date is None:
             return " "
         return f"<b>{date}</b> &nbsp; " + " &nbsp; ".join(parts)
