@@ -31,8 +31,9 @@ class OutsideLegend(pg.LegendItem):
             width = max(width, col_width)
             height += row_height
         # tell the plot's layout instead of placing itself at (0, 0)
-        self.setMinimumHeight(height + 2)
-        self.setPreferredSize(width, height + 2)
+        self.layout.setContentsMargins(0, 0, 0, 0)
+        self.setMinimumHeight(height + 8)  # room for the labels' descenders
+        self.setPreferredSize(width, height + 8)
         self.updateGeometry()
 
 

@@ -168,6 +168,17 @@ class FrameTable(QTableView):
         if self.wordWrap():
             self.resizeRowsToContents()
 
+    def fit_rows(self, most: int = 12) -> int:
+        """Ask for enough height to show every row (up to ``most``) without scrolling, so a splitter
+        never cuts the last rows off; returns the height asked for."""
+        rows = min(self._model.rowCount(), most)
+        height = self.horizontalHeader().sizeHint().height() + 2 * self.frameWidth() + 2
+        height += sum(self.rowHeight(i) or self.verticalHeader().defaultSectionSize() for i in range(rows))
+        if self.horizontalScrollBar().isVisible():
+            height += self.horizontalScrollBar().sizeHint().height()
+        self.setMinimumHeight(height)
+        return height
+
     def raw_frame(self) -> pd.DataFrame:
         return self._raw
 

@@ -113,11 +113,30 @@ class MainWindow(QMainWindow):
         self.state.changed.connect(self._on_state)
         self.dispatcher.progress.connect(self._on_progress)
         self.dispatcher.busy.connect(self._on_busy)
+        self._docks_sized = False
         self.resize(1360, 900)
-        self.settings.restore_window(self)
+        self._restored = self.settings.restore_window(self)
+        if not self._restored:  # first start: the plots get most of the height
+            self.fit_docks()
         self.controller.recompute()
 
     # ------------------------------------------------------------------ layout helpers
+    def fit_docks(self) -> None:
+        """Share the height for the window's size: the bottom dock (the comparison) takes about
+        three tenths, the tabs the rest; the user's own sizes are remembered across sessions."""
+        bottom = [d for d in self.docks.values()
+                  if self.dockWidgetArea(d) == Qt.DockWidgetArea.BottomDockWidgetArea]
+        if bottom:
+            h = max(int(self.height() * 0.3), 170)
+            self.resizeDocks(bottom, [h] * len(bottom), Qt.Orientation.Vertical)
+
+    def resizeEvent(self, event) -> None:
+        super().resizeEvent(event)
+        if not self._docks_sized and self.isVisible():
+            self._docks_sized = True
+            if not self._restored:
+                self.fit_docks()
+
     def _dock(self, name: str, title: str, widget: QWidget, area) -> QDockWidget:
         dock = QDockWidget(title, self)
         dock.setObjectName(name)

@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import pandas as pd
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QLabel, QSplitter, QVBoxLayout, QWidget
+from PySide6.QtWidgets import QFrame, QLabel, QScrollArea, QSplitter, QVBoxLayout, QWidget
 
 from volbench.format import number, pct
 from volbench.gui import palette
@@ -71,9 +71,15 @@ class ComparisonPane(Pane):
         self.reading.setWordWrap(True)
         self.reading.setTextFormat(Qt.TextFormat.RichText)
         self.reading.setAlignment(Qt.AlignmentFlag.AlignTop | Qt.AlignmentFlag.AlignLeft)
+        reading_scroll = QScrollArea()
+        reading_scroll.setObjectName("comparison_reading_scroll")
+        reading_scroll.setWidgetResizable(True)
+        reading_scroll.setFrameShape(QFrame.Shape.NoFrame)
+        reading_scroll.setWidget(self.reading)  # a long reading scrolls; it is never clipped
         split = QSplitter(Qt.Orientation.Horizontal)
+        split.setObjectName("comparison_split")
         split.addWidget(self.table)
-        split.addWidget(self.reading)
+        split.addWidget(reading_scroll)
         split.setSizes([760, 420])
         body = QWidget()
         bl = QVBoxLayout(body)

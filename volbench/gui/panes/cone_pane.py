@@ -180,6 +180,7 @@ class ConePane(Pane):
                                       for k in ("min", "p10", "p25", "p50", "p75", "p90", "max", "current")]
                         + [f"{rec['current_percentile']:.0f}", int(rec["n_windows"]), int(rec["n_independent"])])
         self.table.set_frame(pd.DataFrame(rows, columns=CONE_COLUMNS), t.reset_index(), right=CONE_COLUMNS)
+        self.table.fit_rows()  # every window's row stays visible (the plot gives way)
         self._render_pricing(cone)
         self.plot.enableAutoRange()
         self.card.show_content()

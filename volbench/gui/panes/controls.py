@@ -85,7 +85,7 @@ def _dspin(name: str, lo: float, hi: float, decimals: int, suffix: str, step: fl
 
 SECTIONS: tuple[tuple[str, str, bool], ...] = (
     ("option", "Option terms", False),
-    ("estimators", "Estimators", True),
+    ("estimators", "Estimators", False),
     ("garch", "GARCH model", False),
 )
 """Folding sections below the always-open controls: key, title, open at start."""
@@ -215,9 +215,13 @@ class ControlsPane(Pane):
         recompute.setObjectName("recompute_button")
         recompute.setToolTip("Run every computation again for the current settings (F5)")
         recompute.clicked.connect(lambda: self.requested.emit("recompute"))
-        outer.addWidget(recompute)
+        self.recompute = recompute
         outer.addStretch(1)
         scroll.setWidget(body)
+        pinned = QHBoxLayout()  # outside the scroll area: always visible, whatever the screen height
+        pinned.setContentsMargins(6, 2, 6, 4)
+        pinned.addWidget(self.recompute)
+        lay.addLayout(pinned)
         self.setMinimumWidth(250)
         self._bind_all()
         self.as_of.editingFinished.connect(lambda: self._apply_as_of(self.as_of.text()))

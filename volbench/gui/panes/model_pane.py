@@ -8,6 +8,7 @@ import math
 import pandas as pd
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
+from PySide6.QtGui import QColor
 from PySide6.QtWidgets import (
     QComboBox,
     QHBoxLayout,
@@ -49,9 +50,11 @@ def t_stat(estimate: float, se: float) -> float | None:
     return estimate / se if se and math.isfinite(se) and se > 0 and math.isfinite(estimate) else None
 
 
-def _pen(model: str, width: float = 1.5):
+def _pen(model: str, width: float = 1.5, alpha: int = 255):
     spec = MODEL_REGISTRY.get(model)
-    pen = pg.mkPen(palette.model_colour(model), width=width, style=DASHES[spec.dash if spec is not None else "solid"])
+    colour = QColor(palette.model_colour(model))
+    colour.setAlpha(alpha)
+    pen = pg.mkPen(colour, width=width, style=DASHES[spec.dash if spec is not None else "solid"])
     pen.setCosmetic(True)
     return pen
 
@@ -168,7 +171,8 @@ class ModelPane(Pane):
                 # the preferred path drawn thicker and on top; the others keep their own dash
                 preferred = fit.model == comp.preferred
                 item = self.cond_plot.plot(epoch_seconds(cv.index.to_numpy()), cond[-1],
-                                           pen=_pen(fit.model, 2.2 if preferred else 1.2), name=name,
+                                           pen=_pen(fit.model, 2.2 if preferred else 1.2, 255 if preferred else 150),
+                                           name=name,
                                            skipFiniteCheck=True)
                 item.setZValue(2 if preferred else 1)
             ts = fit.term_structure
