@@ -10,8 +10,8 @@ from PySide6.QtWidgets import QCheckBox, QComboBox, QLabel, QSpinBox
 
 from volbench.data import load_prices
 from volbench.estimators import REGISTRY, estimate_all, rolling_vol
-from volbench.gui.names import estimator_name
 from volbench.gui.widgets import Card, FrameTable, Plot
+from volbench.names import estimator_name
 from volbench.pricing.compare import OptionSpec, compare
 
 

@@ -34,6 +34,7 @@ def command_modules() -> tuple[ModuleType, ...]:
         cmd_gui,
         cmd_hindsight,
         cmd_implied,
+        cmd_memo,
         cmd_pricing,
         cmd_realized,
         cmd_scaling,
@@ -41,7 +42,7 @@ def command_modules() -> tuple[ModuleType, ...]:
     )
 
     return (cmd_estimate, cmd_export, cmd_garch, cmd_gui, cmd_hindsight, cmd_implied, cmd_pricing, cmd_realized,
-            cmd_scaling, cmd_survey)
+            cmd_scaling, cmd_survey, cmd_memo)
 
 
 def build_parser() -> argparse.ArgumentParser:

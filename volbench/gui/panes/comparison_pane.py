@@ -10,10 +10,10 @@ from PySide6.QtWidgets import QFrame, QLabel, QScrollArea, QSplitter, QVBoxLayou
 from volbench.format import number, pct
 from volbench.gui import palette
 from volbench.gui.controller import Results
-from volbench.gui.names import estimator_name
 from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, FrameTable
+from volbench.names import estimator_name
 
 COMPARE_COLUMNS = ["candidate", "window (bars)", "vol", "95% interval", "pricing vol inside?", "gap (vol points)",
                    "option price", "price difference", "vega estimate", "note"]

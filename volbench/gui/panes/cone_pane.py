@@ -24,10 +24,10 @@ from volbench.format import pct
 from volbench.gui import palette
 from volbench.gui.binding import Binding
 from volbench.gui.controller import Results
-from volbench.gui.names import estimator_help, estimator_name
 from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, FrameTable, Plot
+from volbench.names import estimator_help, estimator_name
 from volbench.pricing.cone import supported_estimators
 
 CONE_COLUMNS = ["window (bars)", "min", "10th", "25th", "median", "75th", "90th", "max", "today",

@@ -33,10 +33,10 @@ from volbench.gui import palette
 from volbench.gui.binding import Binding
 from volbench.gui.collapsible import Section
 from volbench.gui.controller import Results
-from volbench.gui.names import estimator_help, estimator_name
 from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
 from volbench.models.family import DIST_REGISTRY, MODEL_REGISTRY
+from volbench.names import estimator_help, estimator_name
 from volbench.types import EWMA_LAMBDA
 
 LATEST = "latest"

@@ -12,11 +12,11 @@ from volbench.estimators import REGISTRY
 from volbench.format import pct
 from volbench.gui import palette
 from volbench.gui.controller import Results
-from volbench.gui.names import estimator_name
 from volbench.gui.panes.base import Pane
 from volbench.gui.panes.price_pane import epoch_seconds
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, FrameTable, Plot
+from volbench.names import estimator_name
 
 ESTIMATE_COLUMNS = ["estimator", "vol", "95% interval", "n", "interval method / why not"]
 

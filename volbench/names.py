@@ -1,4 +1,4 @@
-"""What the window calls things: full method names, never raw keys or two-letter codes.
+"""What volbench calls things on screen and in memos: full method names, never raw keys or two-letter codes.
 
 The exponentially weighted estimator is named by its decay, described as the standard daily decay
 0.94 when it has that value (the published source of the value is in docs/METHODS.md).
