@@ -67,7 +67,7 @@ def test_memo_runs_headless_with_garch(sample_dir, tmp_path):
     env = {k: v for k, v in os.environ.items() if k not in ("QT_QPA_PLATFORM", "DISPLAY", "WAYLAND_DISPLAY")}
     r = subprocess.run([sys.executable, "-m", "volbench.cli", "memo", str(sample_dir / "ironvale_mining.csv"),
                         "--pricing-vol", "0.25", "--days", "30", "--with-garch", "--model", "garch", "--to", str(out)],
-                       capture_output=True, text=True, env=env, timeout=120)
+                       capture_output=True, text=True, env=env, timeout=120, check=False)
     assert r.returncode == 0, r.stderr
     _, every = pdf_text(out)
     assert "GARCH(1,1)" in every and "term structure" in every
