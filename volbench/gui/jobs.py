@@ -32,6 +32,7 @@ from volbench.errors import Cancelled, VolbenchError
 from volbench.estimators import EstimateReport
 from volbench.export import ExportBundle, build_bundle, write_export
 from volbench.gui.loading import load_files
+from volbench.memo import Memo, build_memo
 from volbench.models import GarchComparison, fit_many
 from volbench.pricing.bands import band_fan
 from volbench.pricing.compare import Comparison
@@ -147,6 +148,23 @@ class ExportRequest:
 
 
 @dataclass(frozen=True)
+class MemoRequest:
+    """Build the vol memo of the view shown, to be drawn to ``path`` (``overwrite``: the user agreed)."""
+
+    path: Path
+    overwrite: bool = False
+
+
+@dataclass(frozen=True)
+class MemoReady:
+    """A built memo and where to draw it (the PDF is drawn in the GUI thread: Qt's painters)."""
+
+    memo: Memo
+    path: Path
+    overwrite: bool
+
+
+@dataclass(frozen=True)
 class BatchRequest:
     views: tuple[PriceHistory, ...]
     processes: int | None = None
@@ -230,6 +248,17 @@ def _export(ctx: Context, progress: Progress, cancel: Cancel):
     return write_export(r.path, bundle, overwrite=r.overwrite)
 
 
+def _memo(ctx: Context, progress: Progress, cancel: Cancel):
+    r: MemoRequest = ctx.request
+    if ctx.view is None:
+        raise VolbenchError("Nothing to write a memo about yet: open a price file first.")
+    _checkpoint(cancel)
+    progress(0, 1, f"Building the vol memo of {ctx.view.name}")
+    memo = build_memo(ctx.view, ctx.settings)
+    _checkpoint(cancel)
+    return MemoReady(memo, r.path, r.overwrite)
+
+
 def _garch_all(ctx: Context, progress: Progress, cancel: Cancel):
     r: BatchRequest = ctx.request
     _checkpoint(cancel)
@@ -303,6 +332,7 @@ JOBS: dict[str, Job] = {j.kind: j for j in (
     _job("export", (), _export, Path, background=True, on_demand=True, busy="Exporting to {file}…"),
     _job("garch_all", (), _garch_all, BatchFits, background=True, on_demand=True,
          busy="Fitting {count} series…"),
+    _job("memo", (), _memo, MemoReady, background=True, on_demand=True, busy="Building the vol memo…"),
 )}
 """Every job of the window, each listed after the jobs it depends on. Add a job with one entry."""
 

@@ -33,7 +33,14 @@ from volbench.gui.dialogs import (
     show_error,
 )
 from volbench.gui.import_dialog import ImportDialog
-from volbench.gui.jobs import BatchRequest, ExportRequest, LoadRequest, jobs_for
+from volbench.gui.jobs import (
+    BatchRequest,
+    ExportRequest,
+    LoadRequest,
+    MemoReady,
+    MemoRequest,
+    jobs_for,
+)
 from volbench.gui.panes import Pane
 from volbench.gui.session import Session, read_session, write_session
 from volbench.gui.settings import Settings
@@ -67,6 +74,8 @@ class MainWindow(QMainWindow):
     """
 
     exported = Signal(object)
+    memo_written = Signal(object)
+    """Emitted with the path of a vol memo once it is written."""
     files_loaded = Signal(int)
     """Emitted when a background load finished, with the number of series it read."""
 
@@ -192,6 +201,7 @@ class MainWindow(QMainWindow):
         f.addSeparator()
         self._action(f, "&Export results…", self.ask_export, "Ctrl+E", "export_action")
         self._action(f, "Save current &plot as PNG or SVG…", self.save_current_plot, None, "save_plot_action")
+        self._action(f, "Write vol &memo (PDF)…", self.ask_memo, "Ctrl+M", "memo_action")
         f.addSeparator()
         self._action(f, "&Save session…", self.ask_save_session, QKeySequence.StandardKey.Save,
                      "save_session_action")
@@ -482,6 +492,47 @@ class MainWindow(QMainWindow):
         self.show_status(f"Exporting to {path.name}…")
         self.controller.run("export", ExportRequest(path, tuple(views), overwrite, given))
 
+    def ask_memo(self) -> None:
+        if not self.state.histories:
+            show_error(self, "vol memo", "Nothing to write a memo about yet: open a price file first.")
+            return
+        name, _ = QFileDialog.getSaveFileName(self, "Write vol memo", f"{self.state.selected or 'volbench'}-memo.pdf",
+                                              "PDF document (*.pdf)", options=QFileDialog.Option.DontConfirmOverwrite)
+        if name:
+            self.write_memo(name if Path(name).suffix else name + ".pdf")
+
+    def write_memo(self, path) -> None:
+        """Build the vol memo of the series shown (background) and draw it to ``path`` as PDF.
+
+        The memo uses the settings on screen (its one window is the Window while the comparison is
+        linked to it); an existing file is replaced only after the user agrees.
+        """
+        path = Path(path)
+        if path.suffix.lower() != ".pdf":
+            show_error(self, "vol memo", f"{path.name}: a memo is written as PDF; choose a name ending in .pdf")
+            return
+        overwrite = False
+        if path.exists():
+            if not confirm_overwrite(self, path):
+                self.show_status("Memo cancelled; the existing file is unchanged.")
+                return
+            overwrite = True
+        try:
+            self.controller.current_view()
+        except VolbenchError as exc:
+            show_error(self, "vol memo", exc)
+            return
+        self.show_status(f"Building the vol memo for {path.name}…")
+        self.controller.run("memo", MemoRequest(path, overwrite))
+
+    def _draw_memo(self, ready: MemoReady) -> None:
+        from volbench.gui.memo_pdf import write_memo_pdf
+
+        out = guarded(self, "vol memo", lambda: write_memo_pdf(ready.path, ready.memo, overwrite=ready.overwrite))
+        if out is not None:
+            self.show_status(f"Vol memo written to {out}.")
+            self.memo_written.emit(out)
+
     def fit_all_series(self) -> None:
         views = self.state.views()
         if not views:
@@ -500,6 +551,8 @@ class MainWindow(QMainWindow):
         elif kind == "export":
             self.show_status(f"Exported to {value}.")
             self.exported.emit(value)
+        elif kind == "memo":
+            self._draw_memo(value)
         elif kind == "garch_all":
             self.results.put("garch_all", value)
             self.results.announce({"garch_all"})
@@ -509,9 +562,9 @@ class MainWindow(QMainWindow):
             self._after_load = None
             show_error(self, "could not read the files", exc)
             self.show_status("Reading the files failed; see the message.")
-        elif kind == "export":
-            show_error(self, "export", exc)
-            self.show_status("Export failed; see the message.")
+        elif kind in ("export", "memo"):
+            show_error(self, "export" if kind == "export" else "vol memo", exc)
+            self.show_status(("Export" if kind == "export" else "The memo") + " failed; see the message.")
         elif kind == "garch_all":
             self.results.fail("garch_all", error_text(exc))
             self.results.announce({"garch_all"})
