@@ -51,3 +51,28 @@ def test_the_cone_table_shows_every_window_at_1366x768(make_window, kestrel, qtb
     assert last >= 5
     assert table.rowViewportPosition(last) + table.rowHeight(last) <= table.viewport().height()
     assert w.findChild(Plot, "cone_plot").height() >= 150
+
+
+def test_legends_fit_inside_their_plots_at_1366x768(make_window, kestrel, qtbot):
+    from volbench.gui.legends import OutsideLegend, overlaps_data
+
+    w = make_window(garch_model="all")
+    w.resize(1366, 768)
+    w.show()
+    qtbot.waitExposed(w)
+    w.fit_docks()
+    w.open_files([kestrel])
+    for key in ("rolling", "scaling", "cone", "model", "prices"):
+        w.tabs.setCurrentWidget(w.panes[key])
+        QApplication.processEvents()
+        for plot in w.panes[key].findChildren(Plot):
+            legend = plot.getPlotItem().legend
+            if not isinstance(legend, OutsideLegend):
+                continue
+            bottom = plot.mapFromScene(legend.sceneBoundingRect().bottomLeft()).y()
+            assert bottom <= plot.viewport().height() + 1, (key, plot.objectName())  # not cut off
+            child = plot  # no container clips the plot's legend labels (the legend pads 8 pixels below them)
+            while child is not w.panes[key]:
+                assert child.geometry().bottom() < child.parentWidget().height() + 8, (key, plot.objectName())
+                child = child.parentWidget()
+            assert not overlaps_data(plot, legend)

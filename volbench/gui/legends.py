@@ -12,12 +12,18 @@ import pyqtgraph as pg
 
 from volbench.gui import palette
 
+MIN_PLOT_HEIGHT = 215
+"""Smallest height of a plot with an outside legend (pixels)."""
+
 LEGEND_ROW = 4
 """Row of the plot item's layout the legend takes (pyqtgraph: 0 title, 1 top axis, 2 view, 3 bottom axis)."""
 
 
 class OutsideLegend(pg.LegendItem):
     """A legend laid out below the plot's x-axis instead of floating over the view box."""
+
+    owner = None
+    """The plot widget it belongs to (set by :func:`legend_outside`)."""
 
     def updateSize(self) -> None:
         height = width = 0.0
@@ -35,6 +41,8 @@ class OutsideLegend(pg.LegendItem):
         self.setMinimumHeight(height + 8)  # room for the labels' descenders
         self.setPreferredSize(width, height + 8)
         self.updateGeometry()
+        if self.owner is not None:  # the plot asks for room for a legend of several rows
+            self.owner.setMinimumHeight(max(MIN_PLOT_HEIGHT, int(MIN_PLOT_HEIGHT - 30 + height + 8)))
 
 
 def legend_outside(plot: pg.PlotWidget, *, columns: int = 4) -> OutsideLegend:
@@ -42,8 +50,11 @@ def legend_outside(plot: pg.PlotWidget, *, columns: int = 4) -> OutsideLegend:
     item = plot.getPlotItem()
     legend = OutsideLegend(colCount=columns, labelTextColor=palette.FOREGROUND, frame=False,
                            brush=pg.mkBrush(255, 255, 255, 0), pen=pg.mkPen(None))
+    legend.owner = plot
     item.layout.addItem(legend, LEGEND_ROW, 1)
     item.legend = legend  # what PlotItem.addLegend would keep (plot(name=...) adds entries to it)
+    # title, axes and a legend row need this much, or the legend's labels overflow the plot's bottom
+    plot.setMinimumHeight(max(plot.minimumHeight(), MIN_PLOT_HEIGHT))
     return legend
 
 

@@ -15,6 +15,7 @@ from PySide6.QtWidgets import (
     QLabel,
     QPushButton,
     QSplitter,
+    QTabWidget,
     QVBoxLayout,
     QWidget,
 )
@@ -123,15 +124,18 @@ class ModelPane(Pane):
         row.addWidget(self.batch_note, 1)
         bl.addLayout(row)
         bl.addWidget(self.batch_table)
-        tables = QSplitter(Qt.Orientation.Horizontal)
-        tables.addWidget(self.fit_table)
-        tables.addWidget(self.params_table)
-        tables.setSizes([620, 380])
+        # the tables share one tabbed area under the plots, so the plots keep their room (and their
+        # legends) on a 768-pixel screen
+        tables = QTabWidget()
+        tables.setObjectName("garch_tables")
+        tables.addTab(self.fit_table, "Fits")
+        tables.addTab(self.params_table, "Parameters, standard errors, t-stats")
+        tables.addTab(batch, "Every loaded series")
+        self.tables = tables
         split = QSplitter(Qt.Orientation.Vertical)
         split.addWidget(self.card)
         split.addWidget(tables)
-        split.addWidget(batch)
-        split.setSizes([420, 130, 150])
+        split.setSizes([560, 170])
         lay = QVBoxLayout(self)
         lay.addWidget(split)
         results.updated.connect(self._on_results)
@@ -242,6 +246,7 @@ class ModelPane(Pane):
             self.batch_table.set_frame(pd.DataFrame(columns=BATCH_COLUMNS))
             return
         comps, days = batch.comparisons, batch.days
+        self.tables.setCurrentIndex(self.tables.indexOf(self.batch_table.parentWidget()))
         rows, raw = [], []
         for c, fwd in zip(comps, batch.forward):
             fallback = c.fits[0].candidate_label if c.fits else "no fit"
