@@ -101,3 +101,12 @@ def test_a_stale_error_leaves_the_status_bar_after_a_good_change(make_window, ke
     w.show_status("cone: something went wrong earlier")
     w.findChild(QSpinBox, "days_spin").setValue(40)
     assert "went wrong" not in w.status_label.text()
+
+
+def test_the_import_dialog_controls_are_guarded_too(make_window):
+    from volbench.gui.import_dialog import ImportDialog
+
+    w = make_window()
+    dialog = ImportDialog(w.state.choices, 1, w)
+    controls = dialog.findChildren(QAbstractSpinBox) + dialog.findChildren(QComboBox)
+    assert controls and all(is_guarded(c) for c in controls)
