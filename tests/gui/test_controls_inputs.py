@@ -61,3 +61,11 @@ def test_the_ewma_decay_input_changes_the_ewma_like_the_core(make_window, kestre
     assert raw.loc["ewma", "vol"] == core.vol
     shown = w.findChild(FrameTable, "estimates_table").table_model.display
     assert "EWMA (decay 0.97)" in list(shown["estimator"])
+
+
+def test_help_names_the_ewma_by_its_standard_daily_decay():
+    from volbench.gui.dialogs import help_html
+
+    text = help_html()
+    assert "EWMA (standard daily decay 0.94)" in text and "RiskMetrics" not in text
+    assert "Yang-Zhang" in text
