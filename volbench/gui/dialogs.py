@@ -102,7 +102,6 @@ def help_html() -> str:
     """Help text: cautions, how to use the window, and what each estimator assumes."""
     from volbench.estimators import REGISTRY
     from volbench.models import MODEL_REGISTRY
-
     from volbench.names import estimator_name
 
     def source(s) -> str:  # the decay-weighted estimator is described by its decay; its source is in the docs
