@@ -73,7 +73,8 @@ class ModelPane(Pane):
         self.cond_legend = self.cond_plot.legend(colCount=4)
         self.term_plot = Plot("garch_term_plot", title="Forward volatility over an option's life",
                               left="Annualized volatility (%)", bottom="Option life (bars)")
-        self.term_legend = self.term_plot.legend(colCount=2)
+        # no legend of its own: the models keep the conditional-vol plot's colours and dashes (its
+        # legend names them), and the title names the star
         self.paths = QComboBox()
         self.paths.setObjectName("garch_paths_combo")
         self.paths.setToolTip("Which conditional-vol paths to draw (a click on a legend entry also hides or "
@@ -161,9 +162,9 @@ class ModelPane(Pane):
             return
         forward = self.results.get("forward")
         days, pv = (forward.days if forward is not None else self.state.days), self.state.pricing_vol
-        for plot, legend in ((self.cond_plot, self.cond_legend), (self.term_plot, self.term_legend)):
-            plot.clear()
-            legend.clear()
+        self.cond_plot.clear()
+        self.cond_legend.clear()
+        self.term_plot.clear()
         self._fill_paths(comp)
         shown = self.paths.currentData()
         cond = []
@@ -190,7 +191,9 @@ class ModelPane(Pane):
         self.cond_legend.addItem(pg.PlotDataItem(pen=self.cond_pricing.pen), "pricing vol")
         self.term_pricing.setData([days], [100.0 * pv])
         self.term_plot.addItem(self.term_pricing)
-        self.term_legend.addItem(self.term_pricing, f"pricing vol at {days} bars")
+        self.term_plot.getPlotItem().setTitle(
+            f"Forward volatility over an option's life (★ pricing vol at {days} bars)", color=palette.FOREGROUND,
+            size="10pt")
         self.cond_plot.fit_view(cond + [[100.0 * pv]], headroom=0.35)
         self.term_plot.enableAutoRange()
 
