@@ -192,8 +192,7 @@ class ModelPane(Pane):
         self.term_pricing.setData([days], [100.0 * pv])
         self.term_plot.addItem(self.term_pricing)
         self.term_plot.getPlotItem().setTitle(
-            f"Forward volatility over an option's life (★ pricing vol at {days} bars)", color=palette.FOREGROUND,
-            size="10pt")
+            "Forward vol by option life (★ pricing vol)", color=palette.FOREGROUND, size="10pt")
         self.cond_plot.fit_view(cond + [[100.0 * pv]], headroom=0.35)
         self.term_plot.enableAutoRange()
 
