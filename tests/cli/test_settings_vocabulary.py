@@ -19,7 +19,14 @@ import pytest
 from volbench.cli import build_parser
 from volbench.cli.options import GROUPS, OptionGroup, export_argv, settings_from_args
 from volbench.export import build_bundle
-from volbench.settings import EventsSettings, LifeSettings, OptionSettings, QuotesSettings, Settings, group_types
+from volbench.settings import (
+    EventsSettings,
+    LifeSettings,
+    OptionSettings,
+    QuotesSettings,
+    Settings,
+    group_types,
+)
 
 # Values tried in turn for a field (the first the group accepts and that differs from the
 # default is used); a new field whose type none of these fits fails below with its name.

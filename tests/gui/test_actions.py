@@ -19,6 +19,7 @@ from volbench.gui.session import SESSION_VERSION
 from volbench.gui.state import Choices
 from volbench.gui.widgets import FrameTable, Plot
 from volbench.models import MODEL_REGISTRY
+from volbench.names import estimator_name
 
 
 @pytest.fixture
@@ -188,8 +189,8 @@ def test_help_lists_the_cautions_and_what_each_estimator_assumes(qtbot):
     text = dialog.findChild(QTextBrowser, "help_text").toPlainText()
     for caution in CAUTIONS:
         assert caution.split(":")[0] in text
-    for spec in REGISTRY.values():
-        assert spec.assumes in text and spec.label in text
+    for spec in REGISTRY.values():  # full names; the EWMA by its standard daily decay
+        assert spec.assumes in text and estimator_name(spec.key) in text
     for model in MODEL_REGISTRY.values():  # every registered GARCH-type model, from its spec
         assert model.label in text and model.source in text
     assert "not advice" in text.lower() or "nothing here is advice" in text.lower()

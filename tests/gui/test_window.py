@@ -11,6 +11,7 @@ from PySide6.QtWidgets import QCheckBox, QComboBox, QLabel, QSpinBox
 from volbench.data import load_prices
 from volbench.estimators import DAILY_KEYS, REGISTRY, estimate_all, rolling_vol
 from volbench.gui.widgets import Card, FrameTable, Plot
+from volbench.names import estimator_name
 from volbench.pricing.compare import OptionSpec, compare
 from volbench.pricing.daycount import option_life
 
@@ -62,10 +63,12 @@ def test_estimates_shown_equal_the_core_for_the_same_settings(make_window, kestr
     for key, est in report.estimates.items():
         assert raw.loc[key, "vol"] == est.vol
         assert raw.loc[key, "ci_low"] == est.ci_low and raw.loc[key, "ci_high"] == est.ci_high
-        assert shown_vol(w, REGISTRY[key].label) == f"{100 * est.vol:.2f}%"
-    # the comparison dock agrees with volbench.pricing.compare for the same option
-    # (30 trading days from the last row, as 'volbench compare --days 30': years = calendar days / 365)
-    comp = compare(h, 0.25, 30, option=OptionSpec(), annualization=252.0, life=option_life(h.last_date, days=30))
+        assert shown_vol(w, estimator_name(key)) == f"{100 * est.vol:.2f}%"
+    # the comparison dock agrees with volbench.pricing.compare for the same option (30 trading days
+    # from the last row, as 'volbench compare --days 30': years = calendar days / 365); one window per
+    # screen: linked (the default), its estimator candidates use the estimates table's 20 bars
+    comp = compare(h, 0.25, 30, option=OptionSpec(), annualization=252.0, life=option_life(h.last_date, days=30),
+                   window=20)
     shown = w.findChild(FrameTable, "comparison_table").raw_frame().set_index("key")
     for key, row in comp.table.set_index("key").iterrows():
         if key.startswith(("garch", "scaling")):
@@ -91,7 +94,9 @@ def test_changing_the_window_spin_updates_estimates_table_and_rolling_plot(make_
     core = rolling_vol(h, "close_to_close", 60).values
     assert len(plotted.xData) == len(core) == before_len - 40
     np.testing.assert_allclose(plotted.yData, core.to_numpy() * 100.0)
-    assert table(w, "comparison_table").loc[1, "window (bars)"] == 30  # the comparison follows the option's life
+    assert table(w, "comparison_table").loc[1, "window (bars)"] == 60  # linked: the comparison follows the Window
+    w.findChild(QCheckBox, "link_windows_check").setChecked(False)
+    assert table(w, "comparison_table").loc[1, "window (bars)"] == 30  # unlinked: the option's life
 
 
 def test_changing_the_state_window_updates_the_spin_without_echo(make_window, kestrel, qtbot):
@@ -99,7 +104,7 @@ def test_changing_the_state_window_updates_the_spin_without_echo(make_window, ke
     w.open_files([kestrel])
     with qtbot.waitSignal(w.controller.computed, timeout=5000) as blocker:
         w.state.set("window", 40)
-    assert blocker.args[0] == frozenset({"rolling", "estimates"})
+    assert blocker.args[0] == frozenset({"rolling", "estimates", "comparison", "bands"})  # linked window
     assert w.findChild(QSpinBox, "window_spin").value() == 40
 
 
@@ -230,9 +235,12 @@ def test_the_cone_estimator_stays_selectable_when_the_cone_cannot_be_built(make_
     w = make_window()
     w.open_files([sample_dir / "vell_harbour_index.csv"])
     combo = w.findChild(QComboBox, "cone_estimator_combo")
+    # the list offers only what a close-only series supports; a remembered choice still says why
+    assert not combo.model().item(combo.findData("parkinson")).isEnabled()
+    assert combo.model().item(combo.findData("ewma")).isEnabled()
     combo.setCurrentIndex(combo.findData("parkinson"))
     card = w.findChild(Card, "cone_card")
-    assert card.currentIndex() == 1 and "no cone window fits" in card.message
+    assert card.currentIndex() == 1 and "needs high/low columns" in card.message  # the cause: the file's columns
     assert not combo.isHidden()
     combo.setCurrentIndex(combo.findData("close_to_close"))
     assert card.currentIndex() == 0

@@ -105,7 +105,10 @@ AFTER_COMPARISON = ["comparison", "market", "bands", "implied", "promise"]
 
 
 @pytest.mark.parametrize(("changed", "expected"), [
-    ({"window"}, ["rolling", "estimates"]),
+    ({"window"}, ["rolling", "estimates", *AFTER_COMPARISON]),  # one window per screen (linked)
+    ({"linked"}, AFTER_COMPARISON),
+    ({"ewma_lambda"}, ["rolling", "estimates", *AFTER_COMPARISON]),
+    ({"hodges_tompkins"}, ["cone", "placement", *AFTER_COMPARISON]),
     ({"days"}, ["life", "placement", "forward", "quotes", "events", *AFTER_COMPARISON, "hindsight"]),
     ({"expiry"}, ["life", "placement", "forward", "quotes", "events", *AFTER_COMPARISON, "hindsight"]),
     ({"premium"}, ["implied"]),

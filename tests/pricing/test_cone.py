@@ -224,7 +224,8 @@ def test_short_range_drops_windows_with_reasons(gbm):
     ({"windows": (500, 600)}, (r"test: no cone window fits the 300 rows .*\(window 500 needs 501 rows, "
                                r"history has 300; window 600 needs 601 rows, history has 300\); "
                                r"use shorter windows or a longer range")),
-    ({"estimator": "parkinson"}, r"no cone window fits .*\(windows 10, 20, 40, 60, 120, 250: needs high/low columns\)"),
+    ({"estimator": "parkinson"}, (r"no Parkinson cone: the Parkinson estimator needs high/low columns and this "
+                                  r"series has close only; choose one it supports \(Close-to-close, EWMA")),
 ])
 def test_errors_are_clear(gbm, kwargs, message):
     with pytest.raises(VolbenchError, match=message):

@@ -34,6 +34,7 @@ def command_modules() -> tuple[ModuleType, ...]:
         cmd_gui,
         cmd_hindsight,
         cmd_implied,
+        cmd_memo,
         cmd_pricing,
         cmd_realized,
         cmd_replay,
@@ -42,7 +43,7 @@ def command_modules() -> tuple[ModuleType, ...]:
     )
 
     return (cmd_estimate, cmd_export, cmd_garch, cmd_gui, cmd_hindsight, cmd_implied, cmd_pricing, cmd_realized,
-            cmd_replay, cmd_scaling, cmd_survey)
+            cmd_replay, cmd_scaling, cmd_survey, cmd_memo)
 
 
 COMMAND_HELP: dict[str, str] = {
@@ -60,6 +61,7 @@ COMMAND_HELP: dict[str, str] = {
     "replay": "rebuild an .xlsx or .json export from its record and compare every cell",
     "scaling": "check that returns scale like Brownian motion (variance ratio, normality, ...)",
     "survey": "survey many series at once: estimates, cone, scaling verdicts (and GARCH)",
+    "memo": "write a vol memo (PDF) of a pricing vol against the history, to file with a decision",
 }
 """Every command word and its help line, in help order: ``volbench --help`` (and ``--version``)
 lists them without importing the commands, whose modules load pandas and scipy. A command

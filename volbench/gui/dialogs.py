@@ -102,10 +102,14 @@ def help_html() -> str:
     """Help text: cautions, how to use the window, and what each estimator assumes."""
     from volbench.estimators import REGISTRY
     from volbench.models import MODEL_REGISTRY
+    from volbench.names import estimator_name
+
+    def source(s) -> str:  # the decay-weighted estimator is described by its decay; its source is in the docs
+        return "the standard daily decay 0.94; source in docs/METHODS.md" if "lam" in s.options else s.source
 
     rows = "".join(
-        f"<tr><td><b>{html.escape(s.label)}</b></td><td>{html.escape(s.assumes)}</td>"
-        f"<td>{html.escape(s.source)}</td><td>{', '.join(sorted(s.needs))}</td></tr>"
+        f"<tr><td><b>{html.escape(estimator_name(s.key))}</b></td><td>{html.escape(s.assumes)}</td>"
+        f"<td>{html.escape(source(s))}</td><td>{', '.join(sorted(s.needs))}</td></tr>"
         for s in REGISTRY.values())
     rows += "".join(
         f"<tr><td><b>{html.escape(m.label)}</b></td><td>{html.escape(m.assumes)} Fits can fail to converge, and "

@@ -23,6 +23,7 @@ from PySide6.QtWidgets import (
 from volbench.data.options import ImportOptions
 from volbench.errors import VolbenchError
 from volbench.gui.state import Choices
+from volbench.gui.wheel import guard_wheel
 
 INFER = "infer from the file"
 DELIMITER_ITEMS = ((INFER, None), ("comma ,", ","), ("semicolon ;", ";"), ("tab", "\t"), ("pipe |", "|"))
@@ -93,6 +94,7 @@ class ImportDialog(QDialog):
         buttons.accepted.connect(self.accept)
         buttons.rejected.connect(self.reject)
         lay.addWidget(buttons)
+        guard_wheel(self)  # the wheel edits a list or number only once it has focus
 
     def values(self) -> dict:
         """The chosen import fields, as :class:`Choices` keywords."""

@@ -36,6 +36,7 @@ from volbench.export import ExportBundle, build_bundle, write_export
 from volbench.gui.loading import load_files
 from volbench.hindsight import Hindsight
 from volbench.market.candidate import MarketComparison, MarketView
+from volbench.memo import Memo, build_memo
 from volbench.models import GarchComparison, fit_many
 from volbench.pricing.bands import band_fan
 from volbench.pricing.compare import Comparison
@@ -162,6 +163,23 @@ class ExportRequest:
     overwrite: bool = False
     given: Mapping[str, Mapping[str, Any]] = field(default_factory=dict)
     decision: DecisionSettings | None = None
+
+
+@dataclass(frozen=True)
+class MemoRequest:
+    """Build the vol memo of the view shown, to be drawn to ``path`` (``overwrite``: the user agreed)."""
+
+    path: Path
+    overwrite: bool = False
+
+
+@dataclass(frozen=True)
+class MemoReady:
+    """A built memo and where to draw it (the PDF is drawn in the GUI thread: Qt's painters)."""
+
+    memo: Memo
+    path: Path
+    overwrite: bool
 
 
 @dataclass(frozen=True)
@@ -355,6 +373,17 @@ def _export(ctx: Context, progress: Progress, cancel: Cancel):
     return write_export(r.path, bundle, overwrite=r.overwrite)
 
 
+def _memo(ctx: Context, progress: Progress, cancel: Cancel):
+    r: MemoRequest = ctx.request
+    if ctx.view is None:
+        raise VolbenchError("Nothing to write a memo about yet: open a price file first.")
+    _checkpoint(cancel)
+    progress(0, 1, f"Building the vol memo of {ctx.view.name}")
+    memo = build_memo(ctx.view, ctx.settings)
+    _checkpoint(cancel)
+    return MemoReady(memo, r.path, r.overwrite)
+
+
 def _garch_all(ctx: Context, progress: Progress, cancel: Cancel):
     r: BatchRequest = ctx.request
     _checkpoint(cancel)
@@ -417,11 +446,13 @@ def _job(kind, inputs, run, returns, **kw) -> Job:
 
 LIFE = ("days", "day_basis", "expiry")
 OPTION = ("pricing_vol", *LIFE, "strike", "rate", "dividend_yield", "kind")
+WINDOW = ("window", "linked", "ewma_lambda")
+"""What decides the comparison's estimator candidates besides the option (one window per screen)."""
 
 JOBS: dict[str, Job] = {j.kind: j for j in (
-    _job("rolling", ("view", "window", "annualization"), _rolling, analysis.RollingSet),
-    _job("estimates", ("view", "window", "annualization"), _estimates, EstimateReport),
-    _job("cone", ("view", "annualization", "cone_estimator"), _cone, Cone),
+    _job("rolling", ("view", "window", "annualization", "ewma_lambda"), _rolling, analysis.RollingSet),
+    _job("estimates", ("view", "window", "annualization", "ewma_lambda"), _estimates, EstimateReport),
+    _job("cone", ("view", "annualization", "cone_estimator", "hodges_tompkins"), _cone, Cone),
     _job("life", ("view", *LIFE), _life, OptionLife),
     _job("placement", ("cone", "pricing_vol", "life", "annualization"), _placement, ConePosition),
     _job("scaling", ("view", "annualization"), _scaling, ScalingResult, background=True,
@@ -434,7 +465,7 @@ JOBS: dict[str, Job] = {j.kind: j for j in (
     _job("events", ("view", "annualization", "life", "garch_model", "garch_dist", "events_file"),
          _events, EventReport, background=True, busy="Studying the events of {name}…"),
     _job("comparison", ("view", "annualization", *OPTION, "cone_estimator", "cone", "scaling", "garch", "quotes",
-                        "events"),
+                        "events", *WINDOW),
          _comparison, Comparison),
     _job("market", ("comparison", "quotes"), _market, (MarketComparison, Absent)),
     _job("bands", ("comparison",), _bands, BandFans),
@@ -447,6 +478,7 @@ JOBS: dict[str, Job] = {j.kind: j for j in (
     _job("garch_all", (), _garch_all, BatchFits, background=True, on_demand=True,
          busy="Fitting {count} series…"),
     _job("survey", (), _survey, SurveyResult, background=True, on_demand=True, busy="Surveying {count} files…"),
+    _job("memo", (), _memo, MemoReady, background=True, on_demand=True, busy="Building the vol memo…"),
 )}
 """Every job of the window, each listed after the jobs it depends on. Add a job with one entry."""
 

@@ -26,7 +26,7 @@ SHOTS = {
 }
 
 
-def write_screenshots(out: str | Path, files=None) -> list[Path]:
+def write_screenshots(out: str | Path, files=None, size: tuple[int, int] = SIZE) -> list[Path]:
     """Save window.png and one PNG per pane into ``out``; returns the paths written."""
     out = Path(out)
     out.mkdir(parents=True, exist_ok=True)
@@ -38,7 +38,7 @@ def write_screenshots(out: str | Path, files=None) -> list[Path]:
 
         app = application()
         w = MainWindow(synchronous=True, choices=Choices(garch_model="all"))
-        w.resize(*SIZE)
+        w.resize(*size)
         w.show()
         w.open_files(list(files or sample_files()))
         written = []
@@ -67,8 +67,16 @@ def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(prog="python -m volbench.gui.screenshots", description=__doc__.splitlines()[0])
     ap.add_argument("--out", default="resources/screenshots", help="folder to write into")
     ap.add_argument("files", nargs="*", help="price files (default: the bundled samples)")
+    ap.add_argument("--size", default=f"{SIZE[0]}x{SIZE[1]}", metavar="WxH",
+                    help="window size in pixels (default %(default)s; e.g. 1366x768 to check a small screen)")
     args = ap.parse_args(argv)
-    for p in write_screenshots(args.out, args.files or None):
+    try:
+        size = tuple(int(v) for v in args.size.lower().split("x"))
+    except ValueError:
+        size = ()
+    if len(size) != 2 or min(size) < 200:
+        ap.error(f"--size must be WIDTHxHEIGHT in pixels, e.g. 1366x768, got {args.size!r}")
+    for p in write_screenshots(args.out, args.files or None, size):
         print(p)
     return 0
 

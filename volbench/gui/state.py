@@ -17,7 +17,7 @@ the command line's message, word for word.
 from __future__ import annotations
 
 from collections.abc import Callable
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field, fields, replace
 from typing import Any
 
 from PySide6.QtCore import QObject, Signal
@@ -89,6 +89,33 @@ class QuotesChoice:
         return self.read
 
 
+
+@dataclass(frozen=True)
+class ScreenChoices:
+    """Choices of the window that no command-line group holds.
+
+    Attributes
+    ----------
+    linked
+        One window per screen: the comparison's estimator candidates use the estimation Window
+        (as the estimates table and the rolling plot do). Unlinked, they use the option's life,
+        as ``volbench compare`` does without ``--window``. See DEVELOPERS.md, "One window of truth".
+    """
+
+    linked: bool = True
+
+    def __post_init__(self) -> None:
+        for f in fields(self):
+            if not isinstance(getattr(self, f.name), bool):
+                raise VolbenchError(f"{f.name} must be true or false, got {getattr(self, f.name)!r}")
+
+    def with_changes(self, **changes: Any) -> ScreenChoices:
+        return replace(self, **changes)
+
+
+SCREEN_GROUP = "screen"
+"""The group of :class:`ScreenChoices` (held by :class:`Choices`, not passed to the core)."""
+
 GROUPS: dict[str, Callable[[], Any]] = {
     "import_options": ImportOptions,
     "estimation": lambda: EstimationSettings(window=20),
@@ -101,6 +128,7 @@ GROUPS: dict[str, Callable[[], Any]] = {
     "intraday": IntradaySettings,
     "har": HarSettings,
     "events": lambda: None,
+    SCREEN_GROUP: ScreenChoices,
 }
 """The settings groups the window holds, with the window's defaults (the option's life in
 :class:`LifeChoice`, given to jobs as :class:`~volbench.settings.LifeSettings`)."""
@@ -167,6 +195,9 @@ FIELDS: dict[str, Field] = {
     "session_break": Field("intraday", "session_break", _optional_text),
     "estimators": Field(None, "estimators", lambda v: tuple(validate.estimator(str(k)) for k in v)),
     "events_file": Field("events", "file", _optional_text),
+    "linked": Field(SCREEN_GROUP, "linked"),
+    "hodges_tompkins": Field("cone", "hodges_tompkins"),
+    "ewma_lambda": Field("estimation", "lam"),
 }
 """Every control's field name -> the settings group and attribute that hold it."""
 
@@ -213,10 +244,23 @@ class Choices:
         return self._groups[name]
 
     def settings(self) -> Settings:
-        """Every group as the one :class:`Settings` a job runs with (the same object the CLI builds)."""
+        """Every group as the one :class:`Settings` a job runs with (the same object the CLI builds).
+
+        With ``linked`` (the default) the comparison's estimator window is the estimation window,
+        so the estimates table, the rolling plot, the comparison and an export agree.
+        """
         groups = {k: (g.settings() if isinstance(g, (LifeChoice, QuotesChoice)) else g)
-                  for k, g in self._groups.items()}
+                  for k, g in self._groups.items() if k != SCREEN_GROUP}
+        option, window = groups.get("option"), groups["estimation"].window
+        if option is not None and self._groups[SCREEN_GROUP].linked and window is not None and window >= 2:
+            groups["option"] = option.with_changes(window=window)
         return Settings(**groups)
+
+    @property
+    def comparison_window(self) -> int | None:
+        """Bars behind the comparison's estimator candidates (``None``: the option's life in trading days)."""
+        o = self.settings().option
+        return None if o is None else o.window
 
     def import_options(self) -> ImportOptions:
         """How files are read. Flagged rows are kept at import: the window applies the choice to what it shows."""

@@ -168,6 +168,17 @@ class FrameTable(QTableView):
         if self.wordWrap():
             self.resizeRowsToContents()
 
+    def fit_rows(self, most: int = 12) -> int:
+        """Ask for enough height to show every row (up to ``most``) without scrolling, so a splitter
+        never cuts the last rows off; returns the height asked for."""
+        rows = min(self._model.rowCount(), most)
+        height = self.horizontalHeader().sizeHint().height() + 2 * self.frameWidth() + 2
+        height += sum(self.rowHeight(i) or self.verticalHeader().defaultSectionSize() for i in range(rows))
+        if self.horizontalScrollBar().isVisible():
+            height += self.horizontalScrollBar().sizeHint().height()
+        self.setMinimumHeight(height)
+        return height
+
     def raw_frame(self) -> pd.DataFrame:
         return self._raw
 
@@ -219,11 +230,12 @@ class Plot(pg.PlotWidget):
         save = menu.addAction("Save plot as PNG or SVG…")
         save.triggered.connect(self.ask_save)
 
-    def legend(self, **kw) -> pg.LegendItem:
-        """A legend with dark text on a light, slightly transparent card; entries toggle their line."""
-        kw.setdefault("offset", (10, 10))
-        return self.addLegend(labelTextColor=palette.FOREGROUND, brush=pg.mkBrush(255, 255, 255, 215),
-                              pen=pg.mkPen("#D3D6CD"), **kw)
+    def legend(self, *, colCount: int = 4, **_placement) -> pg.LegendItem:
+        """A legend below the x-axis, outside the data area (:mod:`volbench.gui.legends`); entries
+        toggle their line. Placement arguments of a floating legend (``offset``) are ignored."""
+        from volbench.gui.legends import legend_outside
+
+        return legend_outside(self, columns=colCount)
 
     def fit_view(self, arrays, headroom: float = 0.3, x_range: tuple[float, float] | None = None) -> None:
         """Fit x to ``x_range`` (auto when None) and y to ``arrays``, ``headroom`` of the span on top.

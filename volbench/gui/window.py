@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from PySide6.QtCore import Qt, Signal
+from PySide6.QtCore import Qt, QTimer, Signal
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import (
     QDockWidget,
@@ -23,6 +23,7 @@ from volbench.data.load import Loaded
 from volbench.errors import VolbenchError
 from volbench.gui import panes as pane_registry
 from volbench.gui.controller import Controller, Results
+from volbench.gui.cue import cue_text
 from volbench.gui.dialogs import (
     HelpDialog,
     ask_yes_no,
@@ -33,11 +34,19 @@ from volbench.gui.dialogs import (
 )
 from volbench.gui.events_menu import add_events_actions
 from volbench.gui.import_dialog import ImportDialog
-from volbench.gui.jobs import BatchRequest, ExportRequest, LoadRequest
+from volbench.gui.jobs import (
+    BatchRequest,
+    ExportRequest,
+    LoadRequest,
+    MemoReady,
+    MemoRequest,
+    jobs_for,
+)
 from volbench.gui.panes import Pane
 from volbench.gui.session import Session, read_session, write_session
 from volbench.gui.settings import Settings
 from volbench.gui.state import IMPORT_FIELDS, Choices, WorkbenchState
+from volbench.gui.wheel import guard_wheel
 from volbench.gui.widgets import Plot
 from volbench.gui.workers import Dispatcher
 
@@ -66,6 +75,8 @@ class MainWindow(QMainWindow):
     """
 
     exported = Signal(object)
+    memo_written = Signal(object)
+    """Emitted with the path of a vol memo once it is written."""
     files_loaded = Signal(int)
     """Emitted when a background load finished, with the number of series it read."""
 
@@ -78,6 +89,8 @@ class MainWindow(QMainWindow):
         self.settings = settings or Settings()
         self.decision = None  # DecisionSettings exports carry (set from File > Decision record)
         self.state = WorkbenchState(choices or self.settings.load_choices() or Choices(), self)
+        self._problem_in_change = False  # the controller reported a problem during the change under way
+        self.state.changed.connect(self._before_change)  # before the controller recomputes
         self.results = Results(self)
         self.dispatcher = Dispatcher(synchronous=synchronous, parent=self)
         self.controller = Controller(self.state, self.results, self.dispatcher, self)
@@ -103,18 +116,38 @@ class MainWindow(QMainWindow):
             pane.notice.connect(self.show_status)
         self._build_status_bar()
         self._build_menus()
+        guard_wheel(self)  # the wheel scrolls the panels; it edits a control only once it has focus
 
-        self.controller.status.connect(self.show_status)
+        self.controller.status.connect(self._on_controller_status)
         self.controller.finished.connect(self._on_job_finished)
         self.controller.failed.connect(self._on_job_failed)
         self.state.changed.connect(self._on_state)
         self.dispatcher.progress.connect(self._on_progress)
         self.dispatcher.busy.connect(self._on_busy)
+        self._docks_sized = False
         self.resize(1360, 900)
-        self.settings.restore_window(self)
+        self._restored = self.settings.restore_window(self)
+        if not self._restored:  # first start: the plots get most of the height
+            self.fit_docks()
         self.controller.recompute()
 
     # ------------------------------------------------------------------ layout helpers
+    def fit_docks(self) -> None:
+        """Share the height for the window's size: the bottom dock (the comparison) takes about
+        three tenths, the tabs the rest; the user's own sizes are remembered across sessions."""
+        bottom = [d for d in self.docks.values()
+                  if self.dockWidgetArea(d) == Qt.DockWidgetArea.BottomDockWidgetArea]
+        if bottom:
+            h = max(int(self.height() * 0.3), 170)
+            self.resizeDocks(bottom, [h] * len(bottom), Qt.Orientation.Vertical)
+
+    def resizeEvent(self, event) -> None:
+        super().resizeEvent(event)
+        if not self._docks_sized and self.isVisible():
+            self._docks_sized = True
+            if not self._restored:
+                self.fit_docks()
+
     def _dock(self, name: str, title: str, widget: QWidget, area) -> QDockWidget:
         dock = QDockWidget(title, self)
         dock.setObjectName(name)
@@ -130,6 +163,15 @@ class MainWindow(QMainWindow):
         self.status_label = QLabel("Ready.")
         self.status_label.setObjectName("status_label")
         bar.addWidget(self.status_label, 1)
+        self.changed_cue = QLabel()
+        self.changed_cue.setObjectName("changed_cue")
+        self.changed_cue.setProperty("role", "cue")
+        self.changed_cue.setVisible(False)
+        bar.addPermanentWidget(self.changed_cue)
+        self._cue_timer = QTimer(self)
+        self._cue_timer.setSingleShot(True)
+        self._cue_timer.setInterval(8000)
+        self._cue_timer.timeout.connect(lambda: self.changed_cue.setVisible(False))
         self.progress = QProgressBar()
         self.progress.setObjectName("progress_bar")
         self.progress.setRange(0, 0)
@@ -163,6 +205,7 @@ class MainWindow(QMainWindow):
         self._action(f, "&Export results…", self.ask_export, "Ctrl+E", "export_action")
         self._action(f, "&Decision record…", self.ask_decision, None, "decision_action")
         self._action(f, "Save current &plot as PNG or SVG…", self.save_current_plot, None, "save_plot_action")
+        self._action(f, "Write vol &memo (PDF)…", self.ask_memo, "Ctrl+M", "memo_action")
         f.addSeparator()
         self._action(f, "&Save session…", self.ask_save_session, QKeySequence.StandardKey.Save,
                      "save_session_action")
@@ -186,9 +229,25 @@ class MainWindow(QMainWindow):
             raise VolbenchError(f"unknown action {action!r}; choose one of: {', '.join(actions)}")
         actions[action]()
 
+    def _before_change(self, names) -> None:
+        self._problem_in_change = False
+
+    def _on_controller_status(self, text: str) -> None:
+        self._problem_in_change = True
+        self.show_status(text)
+
     def _on_state(self, names) -> None:
         if names & IMPORT_FIELDS:
             self.reload_files()
+            return
+        text = cue_text(names, jobs_for(frozenset(names)))
+        if text and self.state.histories:
+            self.changed_cue.setText(text)
+            self.changed_cue.setToolTip(text)
+            self.changed_cue.setVisible(True)
+            self._cue_timer.start()
+            if not self._problem_in_change and not self.dispatcher.is_running():
+                self.show_status("Ready.")  # an error shown before this change is stale now
 
     # ------------------------------------------------------------------ status and progress
     def show_status(self, text: str) -> None:
@@ -452,6 +511,47 @@ class MainWindow(QMainWindow):
         self.show_status(f"Exporting to {path.name}…")
         self.controller.run("export", ExportRequest(path, tuple(views), overwrite, given, decision=self.decision))
 
+    def ask_memo(self) -> None:
+        if not self.state.histories:
+            show_error(self, "vol memo", "Nothing to write a memo about yet: open a price file first.")
+            return
+        name, _ = QFileDialog.getSaveFileName(self, "Write vol memo", f"{self.state.selected or 'volbench'}-memo.pdf",
+                                              "PDF document (*.pdf)", options=QFileDialog.Option.DontConfirmOverwrite)
+        if name:
+            self.write_memo(name if Path(name).suffix else name + ".pdf")
+
+    def write_memo(self, path) -> None:
+        """Build the vol memo of the series shown (background) and draw it to ``path`` as PDF.
+
+        The memo uses the settings on screen (its one window is the Window while the comparison is
+        linked to it); an existing file is replaced only after the user agrees.
+        """
+        path = Path(path)
+        if path.suffix.lower() != ".pdf":
+            show_error(self, "vol memo", f"{path.name}: a memo is written as PDF; choose a name ending in .pdf")
+            return
+        overwrite = False
+        if path.exists():
+            if not confirm_overwrite(self, path):
+                self.show_status("Memo cancelled; the existing file is unchanged.")
+                return
+            overwrite = True
+        try:
+            self.controller.current_view()
+        except VolbenchError as exc:
+            show_error(self, "vol memo", exc)
+            return
+        self.show_status(f"Building the vol memo for {path.name}…")
+        self.controller.run("memo", MemoRequest(path, overwrite))
+
+    def _draw_memo(self, ready: MemoReady) -> None:
+        from volbench.gui.memo_pdf import write_memo_pdf
+
+        out = guarded(self, "vol memo", lambda: write_memo_pdf(ready.path, ready.memo, overwrite=ready.overwrite))
+        if out is not None:
+            self.show_status(f"Vol memo written to {out}.")
+            self.memo_written.emit(out)
+
     def fit_all_series(self) -> None:
         views = self.state.views()
         if not views:
@@ -470,6 +570,8 @@ class MainWindow(QMainWindow):
         elif kind == "export":
             self.show_status(f"Exported to {value}.")
             self.exported.emit(value)
+        elif kind == "memo":
+            self._draw_memo(value)
         elif kind == "garch_all":
             self.results.put("garch_all", value)
             self.results.announce({"garch_all"})
@@ -479,9 +581,9 @@ class MainWindow(QMainWindow):
             self._after_load = None
             show_error(self, "could not read the files", exc)
             self.show_status("Reading the files failed; see the message.")
-        elif kind == "export":
-            show_error(self, "export", exc)
-            self.show_status("Export failed; see the message.")
+        elif kind in ("export", "memo"):
+            show_error(self, "export" if kind == "export" else "vol memo", exc)
+            self.show_status(("Export" if kind == "export" else "The memo") + " failed; see the message.")
         elif kind == "garch_all":
             self.results.fail("garch_all", error_text(exc))
             self.results.announce({"garch_all"})

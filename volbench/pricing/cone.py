@@ -475,6 +475,20 @@ class RollingColumns(Mapping):
         return self._columns[window].vols
 
 
+def supported_estimators(h: PriceHistory) -> list[str]:
+    """Keys of the registered estimators whose columns ``h`` has (what a cone can be built with)."""
+    from volbench.estimators.registry import REGISTRY
+
+    return [k for k, sp in REGISTRY.items() if all(getattr(h, c) is not None for c in sp.needs)]
+
+
+def supported_labels(h: PriceHistory) -> list[str]:
+    """Labels of the registered estimators whose columns ``h`` has."""
+    from volbench.estimators.registry import REGISTRY
+
+    return [REGISTRY[k].label for k in supported_estimators(h)]
+
+
 def _columns(h: PriceHistory, spec, ws: tuple[int, ...], a: float) -> tuple[dict, dict[int, str]]:
     """The rolling series of each cone window that fits (at least two values), and why the others do
     not; raises the cone's errors when none fits."""
@@ -491,6 +505,12 @@ def _columns(h: PriceHistory, spec, ws: tuple[int, ...], a: float) -> tuple[dict
                           f"at least 2, i.e. {spec.bars_needed(w) + 1} rows, history has {h.n}")
             continue
         kept[w] = series[w]
+    missing = sorted(c for c in spec.needs if getattr(h, c) is None)
+    if missing:  # the cause is the file's columns, not the windows
+        raise VolbenchError(f"{h.name}: no {spec.label} cone: the {spec.label} estimator needs "
+                            f"{'/'.join(missing)} column{'s' if len(missing) > 1 else ''} and this series has "
+                            f"{', '.join(c for c in ('open', 'high', 'low', 'close') if getattr(h, c) is not None)} "
+                            f"only; choose one it supports ({', '.join(supported_labels(h))})")
     if not kept and dropped and len(set(dropped.values())) == 1 and next(iter(dropped.values())).startswith(
             ("no range on any bar", "the closes do not change")):
         raise VolbenchError(f"{h.name}: no {spec.label} cone: {next(iter(dropped.values()))}; choose another "

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 import pyqtgraph as pg
-from PySide6.QtWidgets import QLabel, QVBoxLayout, QWidget
+from PySide6.QtWidgets import QCheckBox, QHBoxLayout, QLabel, QVBoxLayout, QWidget
 
 from volbench.gui import palette
 from volbench.gui.controller import Results
@@ -27,12 +27,18 @@ class PricePane(Pane):
         self.setObjectName("price_pane")
         lay = QVBoxLayout(self)
         self.plot = Plot("price_plot", left="Close price", bottom="Date", date_axis=True)
-        self.legend = self.plot.legend(offset=(10, 10))
+        self.legend = self.plot.legend()
         self.line = self.plot.plot([], [], pen=pg.mkPen(palette.PRICE_LINE, width=1.4), name="Close")
-        self.flagged = pg.ScatterPlotItem(symbol="x", size=11, pen=pg.mkPen(palette.FLAGGED, width=2),
-                                          brush=pg.mkBrush(palette.FLAGGED))
+        # a data item (not a bare scatter) so the log scale transforms the marks with the line
+        self.flagged = pg.PlotDataItem([], [], pen=None, symbol="x", symbolSize=11,
+                                       symbolPen=pg.mkPen(palette.FLAGGED, width=2),
+                                       symbolBrush=pg.mkBrush(palette.FLAGGED))
         self.plot.addItem(self.flagged)
         self.legend.addItem(self.flagged, "Flagged row")
+        self.log_scale = QCheckBox("Log price scale")
+        self.log_scale.setObjectName("price_log_check")
+        self.log_scale.setToolTip("Plot prices on a logarithmic axis: equal percentage moves look equal")
+        self.log_scale.toggled.connect(self._on_log)
         self.as_of_line = pg.InfiniteLine(angle=90, pen=pg.mkPen(palette.REFERENCE, width=1,
                                                                  style=pg.QtCore.Qt.PenStyle.DashLine),
                                           label="as of", labelOpts={"position": 0.95,
@@ -46,12 +52,21 @@ class PricePane(Pane):
         inner = QWidget()
         il = QVBoxLayout(inner)
         il.setContentsMargins(0, 0, 0, 0)
+        bar = QHBoxLayout()
+        bar.addWidget(self.log_scale)
+        bar.addStretch(1)
+        il.addLayout(bar)
         il.addWidget(self.plot, 1)
         il.addWidget(self.caption)
         self.card = Card(inner, "price_card")
         lay.addWidget(self.card)
         state.changed.connect(self._on_state)
         self.render()
+
+    def _on_log(self, on: bool) -> None:
+        self.plot.getPlotItem().setLogMode(x=False, y=on)
+        self.plot.getPlotItem().setLabel("left", "Close price (log scale)" if on else "Close price")
+        self.plot.enableAutoRange()
 
     def _on_state(self, names) -> None:
         if names & {"histories", "selected", "exclude_flagged", "as_of"}:
@@ -63,18 +78,15 @@ class PricePane(Pane):
             self.card.show_message("Load a price file to see its history.")
             return
         x = epoch_seconds(h.dates)
-        self.line.setData(x, h.close)
         flagged = h.flagged_lines
         mask = np.isin(h.lines, np.fromiter(flagged, dtype=np.int64, count=len(flagged)))
         excluded = self.state.exclude_flagged
-        if excluded:
-            self.flagged.setPen(pg.mkPen(palette.EXCLUDED, width=2))
-            self.flagged.setBrush(pg.mkBrush(palette.EXCLUDED))
+        if excluded:  # left-out rows are not drawn, so a bad tick cannot stretch the price axis
+            self.line.setData(x[~mask], h.close[~mask])
+            self.flagged.setData([], [])
         else:
-            self.flagged.setPen(pg.mkPen(palette.FLAGGED, width=2))
-            self.flagged.setBrush(pg.mkBrush(palette.FLAGGED))
-        self.flagged.setData(x[mask], h.close[mask],
-                             data=[int(v) for v in h.lines[mask]])
+            self.line.setData(x, h.close)
+            self.flagged.setData(x[mask], h.close[mask], data=[int(v) for v in h.lines[mask]])
         self.legend.removeItem(self.flagged)
         self.legend.addItem(self.flagged, "Flagged row (left out)" if excluded else "Flagged row (kept)")
         if self.state.as_of:
@@ -87,7 +99,8 @@ class PricePane(Pane):
         self.plot.enableAutoRange()
         errors = sum(f.severity == "error" for f in h.findings)
         self.caption.setText(
-            f"{int(mask.sum())} row(s) flagged by warnings are marked "
-            f"({'left out of' if excluded else 'kept in'} every result); {errors} unusable row(s) "
+            (f"{int(mask.sum())} row(s) flagged by warnings are left out of every result and not drawn; "
+             if excluded else f"{int(mask.sum())} row(s) flagged by warnings are marked (kept in every result); ")
+            + f"{errors} unusable row(s) "
             "are not in the file's usable rows and cannot be drawn. See the Data tab for details.")
         self.card.show_content()

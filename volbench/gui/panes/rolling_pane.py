@@ -17,6 +17,7 @@ from volbench.gui.panes.price_overlay import EventLines
 from volbench.gui.panes.price_pane import epoch_seconds
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, FrameTable, Plot
+from volbench.names import estimator_name
 
 ESTIMATE_COLUMNS = ["estimator", "vol", "95% interval", "n", "interval method / why not"]
 
@@ -29,19 +30,19 @@ class RollingPane(Pane):
     def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
         super().__init__(state, results, parent)
         self.plot = Plot("rolling_plot", left="Annualized volatility (%)", bottom="Date", date_axis=True)
-        self.legend = self.plot.legend(offset=(10, 10), colCount=3)
+        self.legend = self.plot.legend(colCount=6)
         self.lines: dict[str, pg.PlotDataItem] = {}
         self.keys: dict[pg.PlotDataItem, str] = {}
         self.muted: set[str] = set()  # estimators switched off by clicking their legend entry
-        for key, spec in REGISTRY.items():
+        for key in REGISTRY:
             colour = palette.estimator_colour(key)
             # one-pixel (cosmetic) pens draw several times faster than wider ones on long series
             self.lines[key] = self.plot.plot([], [], pen=pg.mkPen(colour, width=1), skipFiniteCheck=True)
-            self.lines[key].opts["name"] = spec.label
+            self.lines[key].opts["name"] = estimator_name(key, state.ewma_lambda)
             # the legend shows a thick sample of the same colour; clicking it toggles the line
             sample = pg.PlotDataItem(pen=pg.mkPen(colour, width=3))
             self.keys[sample] = key
-            self.legend.addItem(sample, spec.label)
+            self.legend.addItem(sample, estimator_name(key, state.ewma_lambda))
         self.legend.sigSampleClicked.connect(self._on_legend_click)
         self.pricing_line = pg.InfiniteLine(
             angle=0, movable=False, pen=pg.mkPen(palette.PRICING_VOL, width=1.6, style=Qt.PenStyle.DashLine),
@@ -76,7 +77,9 @@ class RollingPane(Pane):
         split = QSplitter(Qt.Orientation.Vertical)
         split.addWidget(top)
         split.addWidget(bottom)
-        split.setSizes([420, 200])
+        split.setSizes([480, 170])
+        split.setStretchFactor(0, 3)
+        split.setStretchFactor(1, 1)
         self.card = Card(split, "rolling_card")
         lay = QVBoxLayout(self)
         lay.addWidget(self.card)
@@ -95,6 +98,11 @@ class RollingPane(Pane):
             self.render()
 
     def _on_state(self, names) -> None:
+        if "linked" in names:
+            self._render_table()
+        if "ewma_lambda" in names:
+            for sample, label in self.legend.items:
+                label.setText(estimator_name(self.keys[sample.item], self.state.ewma_lambda))
         if "estimators" in names:
             self._apply_visibility()
             self._render_table()
@@ -180,18 +188,20 @@ class RollingPane(Pane):
                 e = report.estimates[key]
                 approx = "" if spec.ci_exact else " ~"
                 method = e.ci_method + (f"; {e.note}" if e.note else "")
-                rows.append([spec.label, pct(e.vol), f"{pct(e.ci_low)} to {pct(e.ci_high)}{approx}", e.n, method])
+                rows.append([estimator_name(key, self.state.ewma_lambda), pct(e.vol), f"{pct(e.ci_low)} to {pct(e.ci_high)}{approx}", e.n, method])
                 raw.append({"estimator": key, "vol": e.vol, "ci_low": e.ci_low, "ci_high": e.ci_high,
                             "n": e.n, "note": method})
             else:
                 reason = report.unavailable.get(key, "")
-                rows.append([spec.label, "n/a", "", "", reason])
+                rows.append([estimator_name(key, self.state.ewma_lambda), "n/a", "", "", reason])
                 raw.append({"estimator": key, "vol": None, "ci_low": None, "ci_high": None, "n": None,
                             "note": reason})
         h = report.history
         self.table_heading.setText(
             f"Estimates for {h.name} as of {report.as_of}: last {report.window} bars, "
-            f"{report.annualization:g} bars/yr, flagged rows {'left out' if h.exclude_flagged else 'kept'}")
+            f"{report.annualization:g} bars/yr, flagged rows {'left out' if h.exclude_flagged else 'kept'}; "
+            + ("the comparison uses the same window" if self.state.linked
+               else "the comparison uses the option's life (unlinked)"))
         self.table.set_frame(pd.DataFrame(rows, columns=ESTIMATE_COLUMNS),
                              pd.DataFrame(raw, columns=["estimator", "vol", "ci_low", "ci_high", "n", "note"]),
                              swatch=swatch, right=("vol", "n"))
@@ -222,7 +232,7 @@ class RollingPane(Pane):
                 i -= 1
             date = date or pd.Timestamp(xs[i], unit="s").strftime("%Y-%m-%d")
             parts.append(f"<span style='color:{palette.estimator_colour(key)}'>&#9632;</span> "
-                         f"{REGISTRY[key].short or REGISTRY[key].label} {self._y[key][i]:.1f}%")
+                         f"{estimator_name(key, self.state.ewma_lambda)} {self._y[key][i]:.1f}%")
         if date is None:
             return " "
         return f"<b>{date}</b> &nbsp; " + " &nbsp; ".join(parts)

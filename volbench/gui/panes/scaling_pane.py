@@ -108,7 +108,7 @@ class ScalingPane(Pane):
         tl.addWidget(plots, 1)
         body.addWidget(top)
         body.addWidget(tables)
-        body.setSizes([360, 300])
+        body.setSizes([480, 200])  # the plots keep room for their legends on a 768-pixel screen
         self.card = Card(body, "scaling_card")
         lay = QVBoxLayout(self)
         lay.addWidget(self.card)
