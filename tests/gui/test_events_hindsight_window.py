@@ -26,8 +26,9 @@ def test_events_in_the_window_equal_compare_events(make_window, ironvale, capsys
     assert set_events(w, str(ev))
     report = w.results.get("events")
     assert report is not None
+    # one window per screen: the window's comparison (and so its events) reads the 20-bar Window
     assert main(["compare", str(prices), "--events", str(ev), "--pricing-vol", "0.25", "--days", "63",
-                 "--format", "json"]) == 0
+                 "--window", "20", "--format", "json"]) == 0
     d = json.loads(capsys.readouterr().out)
     assert json.loads(json.dumps(report.as_dict()["ex_event"])) == d["events"]["ex_event"]
     assert report.event_move.as_dict() == d["events"]["event_move"]

@@ -25,8 +25,9 @@ def test_changing_days_and_basis_updates_the_counts_and_the_comparison(make_wind
     assert "2024-10-17 to 2024-11-16: 30 calendar days = 0.0822 years" in _label(w, "life_summary")
     assert "21 trading days" in _label(w, "life_summary") and "Saturday" in _label(w, "life_summary")
     # the window's comparison equals 'volbench compare --days 30 --day-basis calendar' (same core, same numbers)
+    # (the window's candidates read its Window, linked: one window per screen)
     code = main(["compare", str(kestrel), "--pricing-vol", "0.25", "--days", "30", "--day-basis", "calendar",
-                 "--format", "json"])
+                 "--window", str(w.state.window), "--format", "json"])
     cli = json.loads(capsys.readouterr().out)
     comp = w.results.get("comparison")
     assert code == 0 and comp.years == cli["years"] and comp.days == cli["trading_days"] == 21

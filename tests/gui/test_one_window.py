@@ -23,8 +23,10 @@ def test_one_window_drives_the_estimates_table_and_the_comparison(make_window, k
     w.open_files([kestrel])
     raw = w.findChild(FrameTable, "estimates_table").raw_frame().set_index("estimator")
     comp = w.findChild(FrameTable, "comparison_table").raw_frame().set_index("key")
-    # agreement check, no external source: the same close-to-close number in both tables
-    assert comp.loc["close_to_close", "vol"] == raw.loc["close_to_close", "vol"]
+    # agreement check, no external source: the same close-to-close number in both tables, the
+    # comparison's restated per ACT/365 year by the life's basis factor (docs/METHODS.md, Day counts)
+    factor = w.results.get("comparison").basis_factor
+    assert comp.loc["close_to_close", "vol"] == raw.loc["close_to_close", "vol"] * factor
     assert comp.loc["close_to_close", "window"] == 20
     assert "the comparison uses the same window" in w.findChild(QLabel, "estimates_heading").text()
     assert "Estimators over the last 20 bars: the Window" in w.findChild(QLabel, "comparison_heading").text()
@@ -45,7 +47,8 @@ def test_the_export_carries_the_same_window(make_window, kestrel, tmp_path, qtbo
     est = {r["estimator"]: r for r in doc["tables"]["estimates"]}
     cmp_rows = {r["key"]: r for r in doc["tables"]["comparison"]}
     assert est["close_to_close"]["window"] == 20 and cmp_rows["close_to_close"]["candidate_window"] == 20
-    assert cmp_rows["close_to_close"]["vol"] == est["close_to_close"]["vol"]
+    factor = cmp_rows["close_to_close"]["basis_factor"]  # history's vol per ACT/365 year
+    assert cmp_rows["close_to_close"]["vol"] == est["close_to_close"]["vol"] * factor
 
 
 def test_comparison_rows_show_each_interval_and_whether_the_pricing_vol_is_inside(make_window, kestrel):
@@ -55,8 +58,10 @@ def test_comparison_rows_show_each_interval_and_whether_the_pricing_vol_is_insid
     # source: volbench.estimators.estimate_all (the CLI's call), agreement check
     e = estimate_all(load_prices(kestrel)[0], 20).estimates["close_to_close"]
     row = shown.loc["Close-to-close"]
-    assert row["95% interval"] == f"{100 * e.ci_low:.2f}% to {100 * e.ci_high:.2f}%"
-    assert row["pricing vol inside?"] == inside_words(0.25, e.ci_low, e.ci_high)
+    f = w.results.get("comparison").basis_factor  # the comparison's vols per ACT/365 year
+    lo, hi = e.ci_low * f, e.ci_high * f
+    assert row["95% interval"] == f"{100 * lo:.2f}% to {100 * hi:.2f}%"
+    assert row["pricing vol inside?"] == inside_words(0.25, lo, hi)
     assert shown.loc["Pricing vol", "pricing vol inside?"] == ""
 
 

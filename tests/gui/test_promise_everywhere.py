@@ -14,10 +14,11 @@ from volbench.gui.widgets import FrameTable
 def test_bands_and_straddle_are_identical_in_cli_json_export_and_window(make_window, kestrel, tmp_path, capsys):
     # the window compares every estimator, the scaling check and every GARCH model: so do the commands
     argv = [str(kestrel), "--pricing-vol", "0.25", "--days", "30", "--with-garch"]
-    assert main(["compare", *argv, "--with-scaling", "--format", "json"]) == 0
+    # one window per screen: the window's candidates read its 20-bar Window, so the commands are told so
+    assert main(["compare", *argv, "--window", "20", "--with-scaling", "--format", "json"]) == 0
     d = json.loads(capsys.readouterr().out)
     xlsx = tmp_path / "out.xlsx"
-    assert main(["export", *argv, "--to", str(xlsx)]) == 0
+    assert main(["export", *argv, "--candidate-window", "20", "--to", str(xlsx)]) == 0
     capsys.readouterr()
     sheets = pd.read_excel(xlsx, sheet_name=None, engine="openpyxl")
     bands, bes = sheets["price_bands"].set_index(["key", "sigmas"]), sheets["breakevens"]

@@ -104,7 +104,8 @@ def test_changing_the_state_window_updates_the_spin_without_echo(make_window, ke
     w.open_files([kestrel])
     with qtbot.waitSignal(w.controller.computed, timeout=5000) as blocker:
         w.state.set("window", 40)
-    assert blocker.args[0] == frozenset({"rolling", "estimates", "comparison", "bands"})  # linked window
+    assert blocker.args[0] == frozenset({"rolling", "estimates", "comparison", "market", "bands", "implied",
+                                         "promise"})  # linked window
     assert w.findChild(QSpinBox, "window_spin").value() == 40
 
 

@@ -61,7 +61,7 @@ COMMAND_HELP: dict[str, str] = {
     "replay": "rebuild an .xlsx or .json export from its record and compare every cell",
     "scaling": "check that returns scale like Brownian motion (variance ratio, normality, ...)",
     "survey": "survey many series at once: estimates, cone, scaling verdicts (and GARCH)",
-    "memo": "write a vol memo (PDF) of a pricing vol against the history, to file with a decision",
+    "memo": "write a PDF vol memo for a pricing vol (estimates, cone, scaling, GARCH, comparison)",
 }
 """Every command word and its help line, in help order: ``volbench --help`` (and ``--version``)
 lists them without importing the commands, whose modules load pandas and scipy. A command
