@@ -23,7 +23,15 @@ SHOTS = {
     "scaling": ("scaling.png", "ironvale_mining"),
     "cone": ("cone.png", "ironvale_mining"),
     "model": ("model.png", "ironvale_mining"),
+    "life": ("life.png", "ironvale_mining"),
+    "promise": ("promise.png", "ironvale_mining"),
+    "events": ("events.png", "ironvale_mining"),
+    "hindsight": ("hindsight.png", "ironvale_mining"),
+    "market": ("market.png", "ironvale_mining"),
+    "intraday": ("intraday.png", "gullridge_energy_5min"),
 }
+EXTRAS = {"events": ("events", "ironvale_mining_events.csv"), "market": ("quotes", "ironvale_mining_quotes.csv")}
+"""Panes shown with a sample file of their own (the events and quotes of Ironvale Mining)."""
 
 
 def write_screenshots(out: str | Path, files=None, size: tuple[int, int] = SIZE) -> list[Path]:
@@ -40,11 +48,22 @@ def write_screenshots(out: str | Path, files=None, size: tuple[int, int] = SIZE)
         w = MainWindow(synchronous=True, choices=Choices(garch_model="all"))
         w.resize(*size)
         w.show()
-        w.open_files(list(files or sample_files()))
+        samples = Path(sample_files()[0]).parent
+        w.open_files(list(files or [*sample_files(), samples / "intraday" / "gullridge_energy_5min.csv"]))
         written = []
         for key, (name, series) in SHOTS.items():
+            if key not in w.panes:
+                continue
             if any(h.name == series for h in w.state.histories):
                 w.state.set("selected", series)
+            if key in EXTRAS and not files:
+                folder, extra = EXTRAS[key]
+                if key == "events":
+                    from volbench.gui.events_menu import set_events
+
+                    set_events(w, str(samples / folder / extra))
+                else:
+                    w.panes["market"].open_quotes(str(samples / folder / extra))
             w.tabs.setCurrentWidget(w.panes[key])
             if key == "model":
                 w.fit_all_series()
@@ -53,6 +72,8 @@ def write_screenshots(out: str | Path, files=None, size: tuple[int, int] = SIZE)
             path = out / name
             w.panes[key].grab().save(str(path))
             written.append(path)
+        if any(h.name == "ironvale_mining" for h in w.state.histories):
+            w.state.set("selected", "ironvale_mining")
         w.tabs.setCurrentWidget(w.panes["rolling"])
         for _ in range(3):
             app.processEvents()

@@ -159,8 +159,9 @@ class ControlsPane(Pane):
         self.pricing_vol = _dspin("pricing_vol_spin", 0.1, 100 * validate.PRICING_VOL_MAX - 0.01, 2, " %", 0.25)
         self.pricing_vol.setToolTip("The proposed annualized volatility, in percent")
         f1.addRow("Pricing vol", self.pricing_vol)
-        self.days = _spin("days_spin", 1, 5000, " bars")
-        self.days.setToolTip("Option life in bars (trading days for daily data)")
+        self.days = _spin("days_spin", 1, 5000, " days")
+        self.days.setToolTip("Option life in days on the basis chosen in the Option life tab (trading days by "
+                             "default: one bar each of daily data); an expiry date set there replaces it")
         f1.addRow("Days to expiry", self.days)
         outer.addWidget(g1)
 

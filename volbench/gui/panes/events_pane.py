@@ -13,6 +13,7 @@ from volbench.gui.controller import Results
 from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, FrameTable
+from volbench.names import estimator_name
 
 EVENT_COLUMNS = ["estimator", "ex-event vol", "95% interval", "returns or bars", "blended vol (same window)"]
 
@@ -51,15 +52,18 @@ class EventsPane(Pane):
                                    else why)
             return
         comp = self.results.get("comparison")
-        blended = {} if comp is None else {k: v for k, v in zip(comp.table["key"], comp.table["vol"])
+        # the comparison's estimators over the same window, back on the history's own basis (the
+        # comparison restates them per ACT/365 year by its basis factor; this table does not)
+        blended = {} if comp is None else {k: v / comp.basis_factor for k, v in zip(comp.table["key"],
+                                                                                    comp.table["vol"])
                                            if k in REGISTRY}
         rows, raw = [], []
-        for key, spec in REGISTRY.items():
+        for key in REGISTRY:
             e = r.ex_event.get(key)
             if e is None:
-                rows.append([spec.label, "n/a", r.unavailable.get(key, ""), "", pct(blended.get(key))])
+                rows.append([estimator_name(key, self.state.ewma_lambda), "n/a", r.unavailable.get(key, ""), "", pct(blended.get(key))])
             else:
-                rows.append([spec.label, pct(e.vol), f"{pct(e.ci_low)} - {pct(e.ci_high)}", e.n,
+                rows.append([estimator_name(key, self.state.ewma_lambda), pct(e.vol), f"{pct(e.ci_low)} - {pct(e.ci_high)}", e.n,
                              pct(blended.get(key))])
             raw.append({"key": key, "vol": None if e is None else e.vol, "blended_vol": blended.get(key)})
         self.table.set_frame(pd.DataFrame(rows, columns=EVENT_COLUMNS), pd.DataFrame(raw), right=EVENT_COLUMNS[1:])

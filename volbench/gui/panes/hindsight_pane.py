@@ -34,7 +34,7 @@ class HindsightPane(Pane):
     def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
         super().__init__(state, results, parent)
         self.plot = Plot("hindsight_plot", left="Annualized volatility (%)", bottom="As-of date", date_axis=True)
-        self.legend = self.plot.legend(offset=(10, 10))
+        self.legend = self.plot.legend(colCount=2)  # long candidate names: two a row fit a narrow pane
         self.realized = self.plot.plot([], [], pen=pg.mkPen(palette.PRICE_LINE, width=1.2),
                                        name="realized over the next N bars")
         self.lines: list = []
@@ -79,7 +79,10 @@ class HindsightPane(Pane):
             item = self.plot.plot(x, 100 * r.forecasts[rec["key"]].to_numpy(), pen=pg.mkPen(colour, width=1.2),
                                   name=f"{rec['label']} (QLIKE rank {int(rec['rank'])})")
             self.lines.append(item)
-        self.plot.enableAutoRange()
+        if len(x):  # the whole span of as-of dates, set now (a tab not shown yet does not auto-range)
+            self.plot.fit_view([100 * np.asarray(r.realized, dtype=float),
+                                *(100 * r.forecasts[rec["key"]].to_numpy() for rec in sc.head(SHOWN).to_dict("records"))],
+                               headroom=0.1, x_range=(float(x[0]), float(x[-1])))
         rows = []
         for rec in sc.to_dict(orient="records"):
             best = rec["key"] == r.best

@@ -5,6 +5,8 @@ at-the-money implied vol for the option's expiry as the pricing vol."""
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtWidgets import (
@@ -40,7 +42,9 @@ class MarketPane(Pane):
         self.open.clicked.connect(self._ask_file)
         self.file = QLabel()
         self.file.setObjectName("quotes_file_label")
-        self.use = QPushButton("Use ATM implied for this expiry as pricing vol")
+        self.file.setWordWrap(True)  # a long path or reading never widens the window
+        self.use = QPushButton("Use ATM implied as pricing vol")
+        self.use.setToolTip("Make the at-the-money implied vol for the option's expiry the pricing vol")
         self.use.setObjectName("use_atm_button")
         self.use.clicked.connect(self._use_atm)
         top.addWidget(self.open)
@@ -52,7 +56,7 @@ class MarketPane(Pane):
         self.smile_legend = self.smile.legend(offset=(-10, 10))
         self.term = Plot("term_plot", title="Implied term structure over the cone and the forecast",
                          left="Annualized vol over trading bars (%)", bottom="Option life (trading days)")
-        self.term_legend = self.term.legend(offset=(-10, 10))
+        self.term_legend = self.term.legend(colCount=3)
         split = QSplitter()
         split.addWidget(self.smile)
         split.addWidget(self.term)
@@ -95,7 +99,9 @@ class MarketPane(Pane):
 
     # ------------------------------------------------------------------ rendering
     def render(self) -> None:
-        self.file.setText(self.state.quotes_file or "No quotes file: open one to compare with the market.")
+        self.file.setText(Path(self.state.quotes_file).name if self.state.quotes_file
+                          else "No quotes file: open one to compare with the market.")
+        self.file.setToolTip(self.state.quotes_file or "")
         view = self.results.get("quotes")
         market = self.results.get("market")
         if not isinstance(market, MarketComparison):
@@ -150,5 +156,5 @@ class MarketPane(Pane):
                            pen=pg.mkPen(palette.PRICING_VOL, width=2), symbol="s", symbolSize=7,
                            symbolBrush=palette.PRICING_VOL, name="ATM implied (trading-bar basis)")
         if view.atm_implied_vol is not None:
-            self.file.setText(f"{self.state.quotes_file}: ATM implied {pct(view.atm_implied_vol)} for "
+            self.file.setText(f"{Path(self.state.quotes_file).name}: ATM implied {pct(view.atm_implied_vol)} for "
                               f"{view.life.expiry} ({view.how})")

@@ -30,7 +30,7 @@ class RollingPane(Pane):
     def __init__(self, state: WorkbenchState, results: Results, parent: QWidget | None = None) -> None:
         super().__init__(state, results, parent)
         self.plot = Plot("rolling_plot", left="Annualized volatility (%)", bottom="Date", date_axis=True)
-        self.legend = self.plot.legend(colCount=6)
+        self.legend = self.plot.legend(colCount=4)
         self.lines: dict[str, pg.PlotDataItem] = {}
         self.keys: dict[pg.PlotDataItem, str] = {}
         self.muted: set[str] = set()  # estimators switched off by clicking their legend entry
@@ -42,7 +42,8 @@ class RollingPane(Pane):
             # the legend shows a thick sample of the same colour; clicking it toggles the line
             sample = pg.PlotDataItem(pen=pg.mkPen(colour, width=3))
             self.keys[sample] = key
-            self.legend.addItem(sample, estimator_name(key, state.ewma_lambda))
+        self._legend_keys: tuple[str, ...] = ()
+        self._sync_legend(tuple(REGISTRY))
         self.legend.sigSampleClicked.connect(self._on_legend_click)
         self.pricing_line = pg.InfiniteLine(
             angle=0, movable=False, pen=pg.mkPen(palette.PRICING_VOL, width=1.6, style=Qt.PenStyle.DashLine),
@@ -132,6 +133,7 @@ class RollingPane(Pane):
             y = rv.values.to_numpy() * 100.0
             self._x[key], self._y[key] = x, y
             line.setData(x, y)
+        self._sync_legend(tuple(k for k in REGISTRY if k in rolling.series))
         self._apply_visibility()
         self._render_pricing()
         self._span = rolling.span
@@ -142,6 +144,17 @@ class RollingPane(Pane):
             self._title = title
         self._render_table()
         self.card.show_content()
+
+    def _sync_legend(self, keys: tuple[str, ...]) -> None:
+        """Legend entries for the estimators that have a line on this file (an unavailable one,
+        such as the realized measures of a daily file, has none; the table says why)."""
+        if keys == self._legend_keys:
+            return
+        self.legend.clear()
+        samples = {k: s for s, k in self.keys.items()}
+        for key in keys:
+            self.legend.addItem(samples[key], estimator_name(key, self.state.ewma_lambda))
+        self._legend_keys = keys
 
     def _fit(self) -> None:
         chosen = [k for k in self.state.estimators if k in self._y and k not in self.muted]
