@@ -125,7 +125,7 @@ class MainWindow(QMainWindow):
         self.dispatcher.progress.connect(self._on_progress)
         self.dispatcher.busy.connect(self._on_busy)
         self._docks_sized = False
-        self.resize(1360, 900)
+        self.resize(*fitted_size(1360, 900))
         self._restored = self.settings.restore_window(self)
         if not self._restored:  # first start: the plots get most of the height
             self.fit_docks()
@@ -613,3 +613,15 @@ class MainWindow(QMainWindow):
         for pane in self.panes.values():
             pane.unbind()
         super().closeEvent(event)
+
+
+def fitted_size(width: int, height: int) -> tuple[int, int]:
+    """``width`` x ``height``, shrunk to the primary screen's available area (a 1366x768 laptop
+    must show the status bar and the comparison's last row without moving the window)."""
+    from PySide6.QtGui import QGuiApplication
+
+    screen = QGuiApplication.primaryScreen()
+    if screen is None:
+        return width, height
+    area = screen.availableGeometry()
+    return min(width, area.width()), min(height, area.height())
