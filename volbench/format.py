@@ -110,3 +110,17 @@ def ordinal(n: int) -> str:
     """1 -> '1st', 22 -> '22nd', 13 -> '13th'."""
     suffix = "th" if 10 <= n % 100 <= 20 else {1: "st", 2: "nd", 3: "rd"}.get(n % 10, "th")
     return f"{n}{suffix}"
+
+
+def json_safe(obj):
+    """A structure made JSON-safe: NaN and infinities become null (never passed off as numbers),
+    numpy scalars plain numbers, keys text."""
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, dict):
+        return {str(k): json_safe(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [json_safe(v) for v in obj]
+    if hasattr(obj, "item") and callable(obj.item):  # numpy scalars
+        return json_safe(obj.item())
+    return obj

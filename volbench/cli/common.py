@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import argparse
 import json
-import math
 import sys
 from collections.abc import Sequence
 
@@ -18,6 +17,7 @@ from volbench.cli.options import (
 from volbench.data import load_many
 from volbench.data.history import PriceHistory
 from volbench.data.options import ImportOptions
+from volbench.format import json_safe
 from volbench.intraday.days import by_days, interval_phrase
 from volbench.settings import Settings
 
@@ -84,17 +84,7 @@ def parse_int_list(text: str, what: str) -> list[int]:
     return int_list(text, what)
 
 
-def _clean(obj):
-    """Make a structure JSON-safe: NaN/inf become null (never passed off as numbers)."""
-    if isinstance(obj, float):
-        return obj if math.isfinite(obj) else None
-    if isinstance(obj, dict):
-        return {str(k): _clean(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_clean(v) for v in obj]
-    if hasattr(obj, "item") and callable(obj.item):  # numpy scalars
-        return _clean(obj.item())
-    return obj
+_clean = json_safe  # the one JSON-safe conversion (volbench.format)
 
 
 def print_json(obj) -> None:

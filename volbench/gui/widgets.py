@@ -18,6 +18,7 @@ from PySide6.QtWidgets import (
     QFileDialog,
     QHeaderView,
     QLabel,
+    QSplitter,
     QStackedWidget,
     QTableView,
     QVBoxLayout,
@@ -334,3 +335,24 @@ class Card(QStackedWidget):
     @property
     def message(self) -> str:
         return self._label.text() if self.currentIndex() == 1 else ""
+
+
+def plot_reading_table(name: str, plot: QWidget, sizes: tuple[int, int]) -> tuple[Card, QLabel, FrameTable]:
+    """The layout of a pane that shows a plot, its plain reading below it and a table under a
+    splitter: returns the card holding them (``{name}_card``), the reading (``{name}_reading``)
+    and the table (``{name}_table``)."""
+    reading = QLabel()
+    reading.setObjectName(f"{name}_reading")
+    reading.setProperty("role", "reading")
+    reading.setWordWrap(True)
+    table = FrameTable(f"{name}_table")
+    upper = QWidget()
+    ul = QVBoxLayout(upper)
+    ul.setContentsMargins(0, 0, 0, 0)
+    ul.addWidget(plot, 1)
+    ul.addWidget(reading)
+    split = QSplitter(Qt.Orientation.Vertical)
+    split.addWidget(upper)
+    split.addWidget(table)
+    split.setSizes(list(sizes))
+    return Card(split, f"{name}_card"), reading, table

@@ -6,24 +6,15 @@ from __future__ import annotations
 import csv
 import io
 import json
-import math
+
+from volbench.format import json_safe
 
 VERDICT_ORDER = ("variance_proportional_to_horizon", "normal_increments", "independent_increments",
                  "negligible_drift")
 """The scaling verdicts in the order tables show them."""
 
 
-def _clean(obj):
-    """JSON-safe: NaN and infinities become null (never passed off as numbers)."""
-    if isinstance(obj, float):
-        return obj if math.isfinite(obj) else None
-    if isinstance(obj, dict):
-        return {str(k): _clean(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_clean(v) for v in obj]
-    if hasattr(obj, "item") and callable(obj.item):  # numpy scalars
-        return _clean(obj.item())
-    return obj
+_clean = json_safe  # the one JSON-safe conversion (volbench.format)
 
 
 def survey_json(result) -> str:

@@ -14,7 +14,6 @@ from PySide6.QtWidgets import (
     QComboBox,
     QHBoxLayout,
     QLabel,
-    QSplitter,
     QVBoxLayout,
     QWidget,
 )
@@ -26,7 +25,7 @@ from volbench.gui.binding import Binding
 from volbench.gui.controller import Results
 from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
-from volbench.gui.widgets import Card, FrameTable, Plot
+from volbench.gui.widgets import Plot, plot_reading_table
 from volbench.names import estimator_help, estimator_name
 from volbench.pricing.cone import supported_estimators
 
@@ -82,22 +81,7 @@ class ConePane(Pane):
         self.legend.addItem(self.pricing, "pricing vol at option life")
         self.life = pg.InfiniteLine(angle=90, pen=pg.mkPen(palette.PRICING_VOL, style=Qt.PenStyle.DotLine))
         self.plot.addItem(self.life, ignoreBounds=True)
-        self.reading = QLabel()
-        self.reading.setObjectName("cone_reading")
-        self.reading.setProperty("role", "reading")
-        self.reading.setWordWrap(True)
-        self.table = FrameTable("cone_table")
-
-        upper = QWidget()
-        ul = QVBoxLayout(upper)
-        ul.setContentsMargins(0, 0, 0, 0)
-        ul.addWidget(self.plot, 1)
-        ul.addWidget(self.reading)
-        split = QSplitter(Qt.Orientation.Vertical)
-        split.addWidget(upper)
-        split.addWidget(self.table)
-        split.setSizes([460, 200])
-        self.card = Card(split, "cone_card")
+        self.card, self.reading, self.table = plot_reading_table("cone", self.plot, (460, 200))
         lay = QVBoxLayout(self)
         lay.addLayout(top)  # outside the card: the estimator can be changed even when the cone fails
         lay.addWidget(self.card)

@@ -11,8 +11,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pyqtgraph as pg
-from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QLabel, QSplitter, QVBoxLayout, QWidget
+from PySide6.QtWidgets import QVBoxLayout, QWidget
 
 from volbench.format import p_value, pct
 from volbench.gui import palette
@@ -20,7 +19,7 @@ from volbench.gui.controller import Results
 from volbench.gui.panes.base import Pane
 from volbench.gui.panes.price_pane import epoch_seconds
 from volbench.gui.state import WorkbenchState
-from volbench.gui.widgets import Card, FrameTable, Plot
+from volbench.gui.widgets import Plot, plot_reading_table
 
 SHOWN = 3
 """Best candidates drawn against the realized vol."""
@@ -38,21 +37,7 @@ class HindsightPane(Pane):
         self.realized = self.plot.plot([], [], pen=pg.mkPen(palette.PRICE_LINE, width=1.2),
                                        name="realized over the next N bars")
         self.lines: list = []
-        self.reading = QLabel()
-        self.reading.setObjectName("hindsight_reading")
-        self.reading.setProperty("role", "reading")
-        self.reading.setWordWrap(True)
-        self.table = FrameTable("hindsight_table")
-        upper = QWidget()
-        ul = QVBoxLayout(upper)
-        ul.setContentsMargins(0, 0, 0, 0)
-        ul.addWidget(self.plot, 1)
-        ul.addWidget(self.reading)
-        split = QSplitter(Qt.Orientation.Vertical)
-        split.addWidget(upper)
-        split.addWidget(self.table)
-        split.setSizes([400, 240])
-        self.card = Card(split, "hindsight_card")
+        self.card, self.reading, self.table = plot_reading_table("hindsight", self.plot, (400, 240))
         lay = QVBoxLayout(self)
         lay.addWidget(self.card)
         results.updated.connect(self._on_results)

@@ -13,14 +13,14 @@ import numpy as np
 import pandas as pd
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
-from PySide6.QtWidgets import QLabel, QSplitter, QVBoxLayout, QWidget
+from PySide6.QtWidgets import QVBoxLayout, QWidget
 
 from volbench.format import pct
 from volbench.gui import palette
 from volbench.gui.controller import Results
 from volbench.gui.panes.base import Pane
 from volbench.gui.state import WorkbenchState
-from volbench.gui.widgets import Card, FrameTable, Plot
+from volbench.gui.widgets import Plot, plot_reading_table
 
 
 class PromisePane(Pane):
@@ -37,21 +37,7 @@ class PromisePane(Pane):
         self.normal = self.plot.plot([], [], pen=pg.mkPen(palette.PRICING_VOL, width=2),
                                      name="normal density at the pricing vol")
         self.edges = []
-        self.reading = QLabel()
-        self.reading.setObjectName("promise_reading")
-        self.reading.setProperty("role", "reading")
-        self.reading.setWordWrap(True)
-        self.table = FrameTable("promise_table")
-        upper = QWidget()
-        ul = QVBoxLayout(upper)
-        ul.setContentsMargins(0, 0, 0, 0)
-        ul.addWidget(self.plot, 1)
-        ul.addWidget(self.reading)
-        split = QSplitter(Qt.Orientation.Vertical)
-        split.addWidget(upper)
-        split.addWidget(self.table)
-        split.setSizes([420, 220])
-        self.card = Card(split, "promise_card")
+        self.card, self.reading, self.table = plot_reading_table("promise", self.plot, (420, 220))
         lay = QVBoxLayout(self)
         lay.addWidget(self.card)
         results.updated.connect(self._on_results)
