@@ -92,3 +92,20 @@ def test_memo_without_an_option_says_what_to_give(sample_dir):
     h = load_prices(sample_dir / "kestrel_orchards.csv")[0]
     with pytest.raises(VolbenchError, match="a memo needs a pricing vol"):
         build_memo(h, Settings())
+
+
+def test_memo_carries_the_decision_record_and_an_expiry(sample_dir, tmp_path, capsys):
+    # agreement with the core's decision record, no external source
+    src = sample_dir / "ironvale_mining.csv"
+    out = tmp_path / "decision.pdf"
+    assert main(["memo", str(src), "--pricing-vol", "0.28", "--expiry", "2024-12-20", "--decision-vol", "0.27",
+                 "--rationale", "forecast over the life", "--prepared-by", "desk B", "--to", str(out)]) == 0
+    capsys.readouterr()
+    _, every = pdf_text(out)
+    assert "Decision record" in every
+    assert "chosen vol 27.00% for an option of 46 bars" in every  # 46 trading days to 2024-12-20
+    assert "rationale: forecast over the life" in every and "prepared by: desk B" in every
+    # without a decision the memo has no such section
+    plain = tmp_path / "plain.pdf"
+    assert main(["memo", str(src), "--pricing-vol", "0.28", "--expiry", "2024-12-20", "--to", str(plain)]) == 0
+    assert "Decision record" not in pdf_text(plain)[1]

@@ -8,7 +8,14 @@ from pathlib import Path
 
 from volbench.cli.cmd_pricing import _pick_series
 from volbench.cli.common import add_file_options, load_from_args
-from volbench.cli.options import add_cone, add_estimation, add_garch, add_option, settings_from_args
+from volbench.cli.options import (
+    add_cone,
+    add_decision,
+    add_estimation,
+    add_garch,
+    add_option,
+    settings_from_args,
+)
 from volbench.errors import VolbenchError
 from volbench.export.atomic import check_destination
 
@@ -32,6 +39,7 @@ def register(sub) -> None:
     add_garch(p, full=True, switch="--with-garch",
               help_switch="add GARCH-family fits (--model, default all) and their term structure")
     add_estimation(p, as_of="last date used (default: the file's last row)")
+    add_decision(p)
     p.add_argument("--to", required=True, metavar="PATH", help="the PDF to write (suffix .pdf)")
     p.add_argument("--force", action="store_true", help="replace the output file if it exists")
     p.set_defaults(func=run_memo)

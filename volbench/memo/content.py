@@ -286,6 +286,19 @@ def build_memo(history: PriceHistory, settings: Settings, *, created: str | None
             (_table(("vol", "value", "straddle premium", "breakeven move", "promised beyond", "observed beyond"),
                     srows),)))
 
+    # --- the decision record (with --decision-vol, --rationale or --prepared-by)
+    if settings.decision is not None:
+        rec = analysis.decision_for(view, settings, comp, scaling=scaling if scaling is not None else scaling_problem,
+                                    cone=cone)
+        drows = [[c["label"], pct(c["vol"]),
+                  "" if c.get("ci_low") is None or c.get("ci_high") is None
+                  else f"{pct(c['ci_low'])} to {pct(c['ci_high'])}",
+                  number(c["gap_points"], 2, signed=True),
+                  {True: "yes", False: "no", None: ""}[c.get("within_interval")]] for c in rec.candidates]
+        sections.append(Section("Decision record", tuple(rec.lines),
+                                (_table(("candidate", "vol", "95% interval", "chosen minus candidate (vol points)",
+                                         "chosen vol inside?"), drows),)))
+
     # --- data findings and cautions
     kinds: dict[str, int] = {}
     for f in view.findings:
