@@ -43,5 +43,6 @@ def test_the_frame_has_the_window_title_and_default_size(qtbot, make_window):
     qtbot.addWidget(frame)
     window = make_window()
     assert frame.windowTitle() == TITLE == window.windowTitle()
-    assert (frame.width(), frame.height()) == SIZE
-    assert "self.resize(1360, 900)" in Path(window_module.__file__).read_text()  # the window's default size
+    # the default size, shrunk to the screen's available area like the window's
+    assert (frame.width(), frame.height()) == window_module.fitted_size(*SIZE)
+    assert "self.resize(*fitted_size(1360, 900))" in Path(window_module.__file__).read_text()  # the window's default
