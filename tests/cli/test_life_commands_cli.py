@@ -1,0 +1,44 @@
+"""garch, scaling, hindsight and survey take the option's life group: --days N (trading days by
+default, as before), or --expiry YYYY-MM-DD resolved per series from its as-of date."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+from volbench.cli import main
+from volbench.data import load_prices
+from volbench.hindsight import hindsight
+
+ROOT = Path(__file__).resolve().parents[2]
+KESTREL = ROOT / "sample_prices" / "kestrel_orchards.csv"  # last row 2024-10-17, a Thursday
+EXPIRY = "2024-11-15"  # 21 weekdays after 2024-10-17, 29 calendar days
+
+
+def _json(capsys, *argv):
+    code = main([*map(str, argv), "--format", "json"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    return json.loads(out)
+
+
+def _drop_life(d: dict) -> dict:
+    return {k: v for k, v in d.items() if k != "life"}
+
+
+def test_hindsight_days_unchanged_and_expiry_equals_its_trading_days(capsys):
+    by_days = _json(capsys, "hindsight", KESTREL, "--days", 21, "--windows", "20,60", "--step", 5)
+    by_expiry = _json(capsys, "hindsight", KESTREL, "--expiry", EXPIRY, "--windows", "20,60", "--step", 5)
+    (d,), (e,) = by_days["series"], by_expiry["series"]
+    core = hindsight(load_prices(KESTREL)[0], 21, windows=(20, 60), step=5)
+    # agreement checks: --days N is N trading bars as before; an expiry 21 weekdays out is --days 21
+    # (common practice, no source)
+    assert d["days"] == 21 and d["best"] == core.best and d["candidates"][0]["qlike"] == core.scores["qlike"].iloc[0]
+    assert _drop_life(d) == _drop_life(e)
+    assert (e["life"]["expiry"], e["life"]["calendar_days"], e["life"]["trading_days"]) == (EXPIRY, 29, 21)
+    assert d["life"]["trading_days"] == 21 and d["life"]["given_as"] == "trading days"
+
+
+def test_hindsight_without_a_life_says_what_to_give(capsys):
+    assert main(["hindsight", str(KESTREL)]) == 2
+    assert "--days N" in capsys.readouterr().err
