@@ -42,3 +42,23 @@ def test_hindsight_days_unchanged_and_expiry_equals_its_trading_days(capsys):
 def test_hindsight_without_a_life_says_what_to_give(capsys):
     assert main(["hindsight", str(KESTREL)]) == 2
     assert "--days N" in capsys.readouterr().err
+
+
+def test_survey_days_unchanged_and_expiry_equals_its_trading_days_per_series(capsys):
+    common = ("survey", KESTREL, "--pricing-vol", "0.25", "--jobs", 1)
+    (before,) = _json(capsys, *common)["series"]  # no life given: the default 21 trading days, as before
+    (by_days,) = _json(capsys, *common, "--days", 21)["series"]
+    (by_expiry,) = _json(capsys, *common, "--expiry", EXPIRY)["series"]
+    # agreement checks: --days 21 is the old 21 bars; an expiry 21 weekdays out is --days 21
+    # (common practice, no source)
+    assert before["life"] is None and before["days"] == by_days["days"] == by_expiry["days"] == 21
+    assert _drop_life(before) == _drop_life(by_days) == _drop_life(by_expiry)
+    assert (by_expiry["life"]["expiry"], by_expiry["life"]["calendar_days"],
+            by_expiry["life"]["trading_days"]) == (EXPIRY, 29, 21)
+    code = main([*map(str, common), "--expiry", EXPIRY])
+    assert code == 0 and f"option life to expiry {EXPIRY}" in capsys.readouterr().out
+
+
+def test_survey_calendar_days_become_each_series_trading_days(capsys):
+    (d,) = _json(capsys, "survey", KESTREL, "--days", 29, "--day-basis", "calendar", "--jobs", 1)["series"]
+    assert d["days"] == d["window"] == d["life"]["trading_days"] == 21 and d["life"]["calendar_days"] == 29
