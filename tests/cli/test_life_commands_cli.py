@@ -13,6 +13,7 @@ from volbench.hindsight import hindsight
 ROOT = Path(__file__).resolve().parents[2]
 KESTREL = ROOT / "sample_prices" / "kestrel_orchards.csv"  # last row 2024-10-17, a Thursday
 EXPIRY = "2024-11-15"  # 21 weekdays after 2024-10-17, 29 calendar days
+IRONVALE = ROOT / "sample_prices" / "ironvale_mining.csv"  # last row 2024-10-17 too
 
 
 def _json(capsys, *argv):
@@ -62,3 +63,19 @@ def test_survey_days_unchanged_and_expiry_equals_its_trading_days_per_series(cap
 def test_survey_calendar_days_become_each_series_trading_days(capsys):
     (d,) = _json(capsys, "survey", KESTREL, "--days", 29, "--day-basis", "calendar", "--jobs", 1)["series"]
     assert d["days"] == d["window"] == d["life"]["trading_days"] == 21 and d["life"]["calendar_days"] == 29
+
+
+def test_garch_days_adds_the_life_and_expiry_equals_its_trading_days(capsys):
+    common = ("garch", IRONVALE, "--model", "garch")
+    (plain,) = _json(capsys, *common, "--horizons", "10,21,63")["series"]
+    (by_days,) = _json(capsys, *common, "--horizons", "10,63", "--days", 21)["series"]
+    (by_expiry,) = _json(capsys, *common, "--horizons", "10,63", "--expiry", EXPIRY)["series"]
+    # agreement checks: --days 21 adds a 21-bar horizon, the same fit and forward vols as listing it;
+    # an expiry 21 weekdays out is --days 21 (common practice, no source)
+    assert "life" not in plain and _drop_life(plain) == _drop_life(by_days) == _drop_life(by_expiry)
+    assert by_days["life"]["forward_vols"] == by_expiry["life"]["forward_vols"]
+    fit = plain["models"][0]
+    (at21,) = [t["vol"] for t in fit["term_structure"] if t["horizon"] == 21]
+    assert by_expiry["life"]["forward_vols"]["garch"] == at21
+    assert (by_expiry["life"]["expiry"], by_expiry["life"]["calendar_days"],
+            by_expiry["life"]["trading_days"]) == (EXPIRY, 29, 21)
