@@ -79,3 +79,18 @@ def test_garch_days_adds_the_life_and_expiry_equals_its_trading_days(capsys):
     assert by_expiry["life"]["forward_vols"]["garch"] == at21
     assert (by_expiry["life"]["expiry"], by_expiry["life"]["calendar_days"],
             by_expiry["life"]["trading_days"]) == (EXPIRY, 29, 21)
+
+
+def test_scaling_days_leaves_the_check_alone_and_expiry_equals_its_trading_days(capsys):
+    (plain,) = _json(capsys, "scaling", IRONVALE)["series"]
+    (by_days,) = _json(capsys, "scaling", IRONVALE, "--days", 21)["series"]
+    (by_expiry,) = _json(capsys, "scaling", IRONVALE, "--expiry", EXPIRY)["series"]
+    (listed,) = _json(capsys, "scaling", IRONVALE, "--horizons", "21")["series"]
+    # agreement checks: the life adds its horizon vol beside an unchanged check, the same row the check
+    # gives for a 21-bar horizon; an expiry 21 weekdays out is --days 21 (common practice, no source)
+    assert "life" not in plain and _drop_life(plain) == _drop_life(by_days) == _drop_life(by_expiry)
+    assert by_days["life"]["annualized_vol"] == by_expiry["life"]["annualized_vol"]
+    (row,) = [t for t in listed["horizons"] if t["h"] == 21]
+    assert (by_expiry["life"]["annualized_vol"], by_expiry["life"]["sqrt_time_vol"]) == (
+        row["annualized_vol"], row["sqrt_time_vol"])
+    assert (by_expiry["life"]["expiry"], by_expiry["life"]["trading_days"]) == (EXPIRY, 21)
