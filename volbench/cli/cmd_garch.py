@@ -15,7 +15,7 @@ from volbench.cli.common import (
     render_table,
     with_import,
 )
-from volbench.cli.options import add_estimation, add_garch, settings_from_args
+from volbench.cli.options import add_estimation, add_garch, add_life, settings_from_args
 from volbench.format import number, pct, sig
 from volbench.models import DIST_REGISTRY, GarchComparison, GarchFit, fit_many
 
@@ -38,6 +38,8 @@ def register(sub) -> None:
     add_file_options(p)
     add_garch(p, full=True)
     add_estimation(p)
+    add_life(p, title="the option's life, added to the --horizons as its trading days from each series' as-of date "
+                      "(docs/METHODS.md, Day counts and the option's life)")
     p.add_argument("--processes", type=int, default=None, metavar="N",
                    help=f"worker processes (default: one per CPU when more than {PARALLEL_FROM} series, "
                         "else 1: starting workers costs a few seconds)")
@@ -52,6 +54,12 @@ def run_garch(args: argparse.Namespace) -> int:
     if processes is None:  # worker start-up (imports) costs seconds: only worth it for many series
         processes = None if len(histories) > PARALLEL_FROM else 1
     garch = settings.garch.with_changes(processes=processes)
+    lives = [None] * len(histories)
+    if settings.life is not None:  # each series' life in trading days joins the forecast horizons
+        from volbench.analysis import life_for
+
+        lives = [life_for(h, settings) for h in histories]
+        garch = garch.with_changes(horizons=tuple(sorted(set(garch.horizons) | {v.trading_days for v in lives})))
     show = len(histories) > 1 and sys.stderr.isatty()
 
     def progress(done: int, total: int, name: str) -> None:
@@ -71,8 +79,9 @@ def run_garch(args: argparse.Namespace) -> int:
                   for h, r in zip(histories, results)]
     if args.format == "json":
         print_json({"series": [with_import({**r.as_dict(), **({} if ev is None else {
-            "events": {"models": [t.as_dict() for t in ev], "file": settings.events.as_dict()}})}, h)
-            for h, r, ev in zip(histories, results, events)]})
+            "events": {"models": [t.as_dict() for t in ev], "file": settings.events.as_dict()}}),
+            **({} if life is None else {"life": _life_dict(life, r)})}, h)
+            for h, r, ev, life in zip(histories, results, events, lives)]})
         return 0
     for i, (h, r) in enumerate(zip(histories, results)):
         if i:
@@ -80,6 +89,8 @@ def run_garch(args: argparse.Namespace) -> int:
         print(f"{h.name}  ({h.source.name if h.source else ''}: {h.n} rows, {h.first_date} to {h.last_date})")
         print_interval(h)
         _print_comparison(r, settings.annualization)
+        if lives[i] is not None:
+            _print_life(lives[i], r)
         if events[i]:
             _print_events(events[i])
     print("\nForward vol: annualized sqrt of the average expected variance over bars 1..T after the last bar.")
@@ -88,6 +99,17 @@ def run_garch(args: argparse.Namespace) -> int:
               "horizon; the warnings say why.")
     print("Estimates are statistical and carry model risk; they are not advice.")
     return 0
+
+
+def _life_dict(life, r: GarchComparison) -> dict:
+    """The life used and each model's forward vol over its trading days."""
+    return {**life.as_dict(), "forward_vols": {f.model: f.forward_vol(life.trading_days) for f in r.fits}}
+
+
+def _print_life(life, r: GarchComparison) -> None:
+    vols = "  ".join(f"{f.label} {pct(f.forward_vol(life.trading_days))}" for f in r.fits)
+    print(f"\noption life: {life.trading_days} trading days, {life.calendar_days} calendar days, from {life.as_of} "
+          f"to expiry {life.expiry} (given as {life.given_as}); forward vol over it: {vols}")
 
 
 def _print_events(terms) -> None:

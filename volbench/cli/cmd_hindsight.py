@@ -17,7 +17,7 @@ from volbench.cli.common import (
     print_json,
     render_table,
 )
-from volbench.cli.options import settings_from_args
+from volbench.cli.options import add_life, settings_from_args
 from volbench.errors import VolbenchError
 from volbench.hindsight import (
     DEFAULT_REFIT_EVERY,
@@ -41,7 +41,8 @@ def register(sub) -> None:
                "model risk; they are not advice.",
     )
     add_file_options(p)
-    p.add_argument("--days", required=True, metavar="N", help="bars in each forecast period (the option's life)")
+    add_life(p, title="the option's life: bars in each forecast period (docs/METHODS.md, Day counts and the "
+                      "option's life)")
     g = p.add_mutually_exclusive_group()
     g.add_argument("--window", metavar="W", default=None, help="one estimator window in bars")
     g.add_argument("--windows", metavar="LIST", default=None,
@@ -72,11 +73,17 @@ def run_hindsight(args: argparse.Namespace) -> int:
     if calendar is not None and len(histories) > 1:
         raise VolbenchError(f"--events lists the events of one instrument; give one price series "
                             f"(got {len(histories)}: {', '.join(h.name for h in histories)})")
-    results = [hindsight(h, args.days, windows=windows, step=args.step, with_garch=args.with_garch,
+    if settings.life is None:
+        raise VolbenchError("hindsight needs the option's life: give --days N (trading days by default) or "
+                            "--expiry YYYY-MM-DD")
+    from volbench.analysis import life_for
+
+    lives = [life_for(h, settings) for h in histories]  # resolved per series from its own as-of date
+    results = [hindsight(h, life.trading_days, windows=windows, step=args.step, with_garch=args.with_garch,
                          events=calendar, annualization=args.annualization, refit_every=args.refit_every)
-               for h in histories]
+               for h, life in zip(histories, lives)]
     if args.format == "json":
-        doc = {"series": [r.as_dict() for r in results]}
+        doc = {"series": [{**r.as_dict(), "life": life.as_dict()} for r, life in zip(results, lives)]}
         if calendar is not None:
             doc["events_file"] = {"source": str(calendar.source), "sha256": calendar.sha256, "events": len(calendar),
                                   "findings": [f.as_dict() for f in calendar.findings]}
@@ -99,9 +106,15 @@ def run_hindsight(args: argparse.Namespace) -> int:
         if i:
             print()
         _print_table(r, histories[i])
+        print(_life_line(lives[i]))
     print("\nQLIKE ranks (lower is better); bias and RMSE in vol points; DM p: Diebold-Mariano against the best.\n"
           "Past forecast accuracy is evidence, not a guarantee. Estimates are statistical, not advice.")
     return 0
+
+
+def _life_line(life) -> str:
+    return (f"option life: {life.trading_days} trading days, {life.calendar_days} calendar days, from "
+            f"{life.as_of} to expiry {life.expiry} (given as {life.given_as})")
 
 
 def _csv_cell(v):

@@ -12,7 +12,7 @@ from volbench.cli.common import (
     render_table,
     with_import,
 )
-from volbench.cli.options import add_estimation, add_scaling, settings_from_args
+from volbench.cli.options import add_estimation, add_life, add_scaling, settings_from_args
 from volbench.format import number, p_value, pct
 from volbench.intraday.sessions import format_interval
 from volbench.scaling import ScalingResult, scaling_check
@@ -44,6 +44,8 @@ def register(sub) -> None:
     add_file_options(p)
     add_scaling(p, full=True)
     add_estimation(p)
+    add_life(p, title="the option's life: the horizon vol over its trading days from each series' as-of date, "
+                      "beside the check (docs/METHODS.md, Day counts and the option's life)")
     add_format(p)
     p.set_defaults(func=run_scaling)
 
@@ -53,15 +55,38 @@ def run_scaling(args: argparse.Namespace) -> int:
     s = settings.scaling
     histories = load_from_args(args, settings)
     results = [scaling_check(h, s.horizons, alpha=s.alpha, annualization=settings.annualization) for h in histories]
+    lives = [None] * len(histories)
+    if settings.life is not None:  # the life's horizon row, computed apart so the check's tests stay as they are
+        from volbench.analysis import life_for
+
+        lives = [_life_dict(h, r, life_for(h, settings), settings.annualization) for h, r in zip(histories, results)]
     if args.format == "json":
-        print_json({"series": [with_import(r.as_dict(), h) for h, r in zip(histories, results)]})
+        print_json({"series": [with_import({**r.as_dict(), **({} if life is None else {"life": life})}, h)
+                               for h, r, life in zip(histories, results, lives)]})
         return 0
     for i, r in enumerate(results):
         if i:
             print("\n")
         print(render_result(r))
+        if lives[i] is not None:
+            v = lives[i]
+            print(f"\noption life: {v['trading_days']} trading days, {v['calendar_days']} calendar days, from "
+                  f"{v['as_of']} to expiry {v['expiry']} (given as {v['given_as']}); horizon vol over it "
+                  f"{pct(v['annualized_vol'])} against {pct(v['sqrt_time_vol'])} by sqrt-time scaling of the 1-bar vol")
     print("\nStatistical evidence under stated assumptions, not advice.")
     return 0
+
+
+def _life_dict(h, r: ScalingResult, life, annualization: float) -> dict:
+    """The life used and the annualized vol its trading days saw (the check's horizon row for that many bars)."""
+    days = life.trading_days
+    rows = r.horizons[r.horizons["h"] == days]
+    if rows.empty:  # the same row the check gives when its horizons include the life
+        rows = scaling_check(h, (days,), alpha=r.alpha, annualization=annualization).horizons
+        rows = rows[rows["h"] == days]
+    row = rows.iloc[0]
+    return {**life.as_dict(), "annualized_vol": float(row["annualized_vol"]),
+            "sqrt_time_vol": float(row["sqrt_time_vol"]), "vol_ratio": float(row["vol_ratio"])}
 
 
 def render_result(r: ScalingResult) -> str:

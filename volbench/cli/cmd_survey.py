@@ -11,7 +11,7 @@ from volbench.cli.common import (
     add_file_options,
     render_table,
 )
-from volbench.cli.options import add_cone, add_garch, add_scaling, settings_from_args
+from volbench.cli.options import add_cone, add_garch, add_life, add_scaling, settings_from_args
 from volbench.errors import VolbenchError
 from volbench.format import pct
 from volbench.survey.report import VERDICT_ORDER
@@ -40,8 +40,8 @@ def register(sub) -> None:
                            "'data/**/*.csv'; a file with a symbol column holds several series")
     p.add_argument("--window", default=None, metavar="N",
                    help="bars in the estimation window (default: --days, the option's life)")
-    p.add_argument("--days", default=None, metavar="N",
-                   help="option life in bars: the cone column and GARCH horizon (default 21)")
+    add_life(p, title="the option's life: the cone column and GARCH horizon, resolved per series from its as-of "
+                      "date (default 21 trading days; docs/METHODS.md, Day counts and the option's life)")
     add_annualization(p)
     vols = p.add_mutually_exclusive_group()
     vols.add_argument("--pricing-vol", default=None, metavar="V",
@@ -79,8 +79,24 @@ def _settings(args: argparse.Namespace):
     if base.garch is not None:
         changes["garch"] = SURVEY_GARCH.with_changes(models=args.garch_model)
     per_series = read_pricing_vols(args.pricing_vols) if args.pricing_vols else {}
-    return SurveySettings(groups=base.with_groups(**changes), days=DEFAULT_DAYS if args.days is None else args.days,
+    return SurveySettings(groups=base.with_groups(**changes), days=_days(base.life, DEFAULT_DAYS),
                           pricing_vol=args.pricing_vol, pricing_vols=per_series)
+
+
+def _days(life, default: int):
+    """The survey's days before per-series resolution: --days on the trading basis, else the default
+    (an expiry or calendar days become trading days per series, in the worker)."""
+    if life is None or life.expiry is not None or life.basis != "trading":
+        return default
+    return life.days
+
+
+def _life_text(s) -> str:
+    life = s.groups.life
+    if life is None or (life.expiry is None and life.basis == "trading"):
+        return f"option life {s.days} bars"
+    given = f"to expiry {life.expiry}" if life.expiry is not None else f"{life.days} {life.basis} days"
+    return f"option life {given}, in trading days from each series' as-of date (JSON: life)"
 
 
 class _Bar:
@@ -176,7 +192,7 @@ def _table(result) -> str:
         row += ["/".join(str(r.findings.get(k, 0)) for k in ("error", "warning", "info"))]
         rows.append(row)
     head_line = (f"survey of {len(result.records)} series ({result.failed} failed) in {result.elapsed_s:.1f} s "
-                 f"{_engine_text(result)}; window {s.estimate_window} bars, option life {s.days} bars, annualized "
+                 f"{_engine_text(result)}; window {s.estimate_window} bars, {_life_text(s)}, annualized "
                  f"with {s.annualization:g} bars/year, flagged rows "
                  f"{'excluded' if s.import_options.exclude_flagged else 'kept'}")
     out = [head_line]
@@ -185,12 +201,16 @@ def _table(result) -> str:
     if failures:
         out += ["", "not surveyed:"] + [f"  {r.name}: {r.error}" for r in failures]
     cone_line = (f"cone pctl: percentile of the series' {s.cone_estimator.replace('_', '-')} vol over the last "
-                 f"{s.days} bars in its own cone at {s.days} bars; its pctl: the pricing vol's percentile there.")
+                 f"{_cone_days(s)} bars in its own cone at {_cone_days(s)} bars; its pctl: the pricing vol's percentile there.")
     verdict_line = ("VNID: variance proportional to horizon, normal, independent increments, negligible drift "
                     "(+ consistent, ? doubtful, x rejected, - not available; 'volbench scaling' explains).")
     out += ["", cone_line, verdict_line,
             "Figures a series lacks are listed with their reasons in --format json or csv. " + CAUTION]
     return "\n".join(out) + "\n"
+
+
+def _cone_days(s) -> str:
+    return str(s.days) if _life_text(s).endswith("bars") else "the life's trading"
 
 
 def _engine_text(result) -> str:

@@ -70,6 +70,7 @@ class SurveyRecord:
     unavailable: dict[str, str] = field(default_factory=dict)
     error: str | None = None
     series: str | None = None
+    life: dict | None = None
 
     @property
     def ok(self) -> bool:
@@ -96,6 +97,7 @@ class SurveyRecord:
             "findings": {s: int(self.findings.get(s, 0)) for s in SEVERITIES},
             "unavailable": dict(self.unavailable),
             "error": self.error,
+            "life": self.life,
         }
 
 

@@ -70,6 +70,12 @@ def _count(history: PriceHistory) -> dict[str, int]:
 
 
 def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> SurveyRecord:
+    life = None
+    if s.groups.life is not None:  # the option's life from this series' own as-of date sets its days
+        from volbench.analysis import life_for
+
+        life = life_for(h, s.groups)
+        s = replace(s, days=life.trading_days)
     a, days, window, e = s.annualization, s.days, s.estimate_window, s.estimation
     report = estimate_all(h, window, keys=DAILY_KEYS, as_of=e.as_of, annualization=a,  # bars as they are
                           confidence=e.confidence, **e.options)
@@ -116,6 +122,7 @@ def _survey(h: PriceHistory, s: SurveySettings, pricing_vol: float | None) -> Su
         days=days, estimates=dict(report.estimates), current_vol=current, cone_percentile=cone_pct,
         pricing_vol=pricing_vol, pricing_vol_percentile=pv_pct, verdicts=verdicts, forward_vol=forward,
         forward_vol_source=source, findings=_count(h), unavailable=unavailable, series=h.name,
+        life=None if life is None else life.as_dict(),
     )
 
 
