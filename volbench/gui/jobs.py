@@ -444,7 +444,7 @@ def _job(kind, inputs, run, returns, **kw) -> Job:
     return Job(kind, frozenset(inputs), run, returns, **kw)
 
 
-LIFE = ("days", "day_basis", "expiry")
+LIFE = ("days", "day_basis", "expiry", "holidays_file")
 OPTION = ("pricing_vol", *LIFE, "strike", "rate", "dividend_yield", "kind")
 WINDOW = ("window", "linked", "ewma_lambda")
 """What decides the comparison's estimator candidates besides the option (one window per screen)."""

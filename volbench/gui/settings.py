@@ -64,6 +64,8 @@ class Settings:
                 return None
             data.pop("as_of", None)  # an as-of date belongs to a session, not to every run
             data.pop("events_file", None)  # so do one instrument's events
+            data.pop("quotes_file", None)  # and its quotes
+            data.pop("holidays_file", None)  # a file is chosen per run (a moved one would lose every choice)
             return Choices.from_dict(data)
         except (json.JSONDecodeError, VolbenchError, TypeError):
             return None

@@ -55,19 +55,26 @@ class LifeChoice:
     days: int = 30
     basis: str = "trading"
     expiry: str | None = None
+    holidays: str | None = None
+    read: Any = field(default=None, compare=False, repr=False)
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "days", validate.days(self.days))
         object.__setattr__(self, "basis", validate.day_basis(self.basis))
         object.__setattr__(self, "expiry", validate.expiry(self.expiry))
+        if self.holidays is not None and self.read is None:  # read once, when chosen (bad rows: findings)
+            from volbench.pricing.daycount import read_holidays
+
+            object.__setattr__(self, "read", read_holidays(self.holidays))
 
     def with_changes(self, **changes: Any) -> LifeChoice:
-        return replace(self, **changes)
+        keep = {} if "holidays" in changes else {"read": self.read}
+        return replace(self, **keep, **changes) if keep else replace(self, read=None, **changes)
 
     def settings(self) -> LifeSettings:
         if self.expiry is not None:
-            return LifeSettings(expiry=self.expiry)
-        return LifeSettings(days=self.days, basis=self.basis)
+            return LifeSettings(expiry=self.expiry, holidays=self.read)
+        return LifeSettings(days=self.days, basis=self.basis, holidays=self.read)
 
 
 @dataclass(frozen=True)
@@ -175,6 +182,7 @@ FIELDS: dict[str, Field] = {
     "days": Field("life", "days"),
     "day_basis": Field("life", "basis"),
     "expiry": Field("life", "expiry", _optional_text),
+    "holidays_file": Field("life", "holidays", _optional_text),
     "premium": Field("option", "premium", _optional_text),
     "quotes_file": Field("quotes", "file", _optional_text),
     "strike": Field("option", "strike", _strike),

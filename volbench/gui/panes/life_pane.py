@@ -4,13 +4,17 @@ premium (the ``implied`` job), which can be taken as the pricing vol with one cl
 
 from __future__ import annotations
 
+from pathlib import Path
+
 from PySide6.QtCore import QDate
 from PySide6.QtWidgets import (
     QComboBox,
     QDateEdit,
     QDoubleSpinBox,
+    QFileDialog,
     QFormLayout,
     QGroupBox,
+    QHBoxLayout,
     QLabel,
     QPushButton,
     QSpinBox,
@@ -67,6 +71,18 @@ class LifePane(Pane):
         self.expiry.setDisplayFormat("yyyy-MM-dd")
         self.expiry.setKeyboardTracking(False)
         f1.addRow("Expiry", self.expiry)
+        self.holidays = QPushButton("Holidays file…")
+        self.holidays.setObjectName("holidays_button")
+        self.holidays.setToolTip("Exchange holidays, one YYYY-MM-DD per line, left out of the trading-day count "
+                                 "(the command line's --holidays FILE)")
+        self.holidays.clicked.connect(self._ask_holidays)
+        self.holidays_clear = QPushButton("No holidays")
+        self.holidays_clear.setObjectName("holidays_clear_button")
+        self.holidays_clear.clicked.connect(lambda: self.open_holidays(None))
+        hrow = QHBoxLayout()
+        hrow.addWidget(self.holidays)
+        hrow.addWidget(self.holidays_clear)
+        f1.addRow("Holidays", hrow)
         self.summary = QLabel()
         self.summary.setObjectName("life_summary")
         self.summary.setWordWrap(True)
@@ -112,6 +128,7 @@ class LifePane(Pane):
         state.changed.connect(self._on_state)
         results.updated.connect(self._on_results)
         self._show_mode()
+        self._show_holidays()
         self.render()
 
     # ------------------------------------------------------------------ bindings
@@ -153,6 +170,28 @@ class LifePane(Pane):
     def _on_state(self, names) -> None:
         if "expiry" in names:
             self._show_mode()
+        if "holidays_file" in names:
+            self._show_holidays()
+
+    def _ask_holidays(self) -> None:
+        path, _ = QFileDialog.getOpenFileName(self, "Open exchange holidays", "",
+                                              "CSV or text files (*.csv *.txt);;All files (*)")
+        if path:
+            self.open_holidays(path)
+
+    def open_holidays(self, path: str | None) -> None:
+        """Use an exchange-holidays file for the trading-day count (``None``: weekdays only); a
+        refused file goes to the status line and changes nothing."""
+        try:
+            self.state.set("holidays_file", path)
+        except Exception as exc:  # noqa: BLE001 - VolbenchError: shown, the state is unchanged
+            self.notice.emit(str(exc))
+        self._show_holidays()
+
+    def _show_holidays(self) -> None:
+        path = self.state.holidays_file
+        self.holidays.setText("Holidays file…" if path is None else Path(path).name)
+        self.holidays_clear.setEnabled(path is not None)
 
     def _use_implied(self) -> None:
         iv = self.results.get("implied")
