@@ -41,6 +41,10 @@ RANK_COLUMNS = ["#", "candidate", "bias (pts)", "RMSE (pts)", "QLIKE", "in 95% i
                 "of premium", "DM p vs best"]
 
 
+def _colour(i: int):
+    return palette.FALLBACK_COLOURS[i % len(palette.FALLBACK_COLOURS)]
+
+
 class HindsightPane(Pane):
     key, title = "hindsight", "Hindsight"
 
@@ -76,22 +80,23 @@ class HindsightPane(Pane):
         self._garch_base = None  # the automatic result the GARCH run belongs to
         self._garch_k = DEFAULT_REFIT_EVERY  # K of the GARCH run shown
         self._hooked = None
-        top = QHBoxLayout()
-        top.addWidget(self.garch_box)
-        top.addWidget(self.refit_spin)
-        top.addWidget(self.garch_status, 1)
-        side = QVBoxLayout()
-        side.addWidget(QLabel("Drawn candidates"))
-        side.addWidget(self.picker, 1)
+        self.garch_box.setText("Include GARCH\n(refit every K bars)")
         side_w = QWidget()
-        side_w.setLayout(side)
-        side_w.setMaximumWidth(230)
-        row = QHBoxLayout()
-        row.addWidget(self.card, 1)
-        row.addWidget(side_w)
-        lay = QVBoxLayout(self)
-        lay.addLayout(top)
-        lay.addLayout(row, 1)
+        side_w.setObjectName("hindsight_side")
+        side = QVBoxLayout(side_w)
+        side.setContentsMargins(0, 0, 0, 0)
+        side.addWidget(self.garch_box)
+        side.addWidget(self.refit_spin)
+        side.addWidget(self.garch_status)
+        key_label = QLabel("Drawn over the realized vol of the next N bars (dark line), each ticked "
+                           "candidate in its line's colour (QLIKE rank):")
+        key_label.setWordWrap(True)
+        side.addWidget(key_label)
+        side.addWidget(self.picker, 1)
+        side_w.setMaximumWidth(240)
+        lay = QHBoxLayout(self)
+        lay.addWidget(self.card, 1)
+        lay.addWidget(side_w)
         results.updated.connect(self._on_results)
         self.render()
 
@@ -172,6 +177,7 @@ class HindsightPane(Pane):
     def _picked_changed(self, item: QListWidgetItem) -> None:
         self.picked = [self.picker.item(i).data(Qt.ItemDataRole.UserRole) for i in range(self.picker.count())
                        if self.picker.item(i).checkState() == Qt.CheckState.Checked]
+        self._recolour()
         self._draw(self.shown())
 
     def pick(self, keys) -> None:
@@ -188,7 +194,7 @@ class HindsightPane(Pane):
         return top + (["garch"] if "garch" in keys and "garch" not in top else [])
 
     def _fill_picker(self, r) -> None:
-        drawn = set(self._drawn_keys(r))
+        drawn = self._drawn_keys(r)
         self.picker.blockSignals(True)
         self.picker.clear()
         for rec in r.scores.to_dict(orient="records"):
@@ -196,7 +202,22 @@ class HindsightPane(Pane):
             item.setData(Qt.ItemDataRole.UserRole, rec["key"])
             item.setFlags(item.flags() | Qt.ItemFlag.ItemIsUserCheckable)
             item.setCheckState(Qt.CheckState.Checked if rec["key"] in drawn else Qt.CheckState.Unchecked)
+            item.setToolTip(f"{rec['label']}: QLIKE {rec['qlike']:.4f}, rank {int(rec['rank'])}")
             self.picker.addItem(item)
+        self.picker.blockSignals(False)
+        self._recolour()
+
+    def _recolour(self) -> None:
+        """Each ticked item in its line's colour (the picker reads as a legend too), the others plain."""
+        self.picker.blockSignals(True)
+        drawn = 0
+        for i in range(self.picker.count()):
+            item = self.picker.item(i)
+            if item.checkState() == Qt.CheckState.Checked:
+                item.setForeground(pg.mkColor(_colour(drawn)))
+                drawn += 1
+            else:
+                item.setForeground(self.picker.palette().text())
         self.picker.blockSignals(False)
 
     def _draw(self, r) -> None:
@@ -211,7 +232,7 @@ class HindsightPane(Pane):
         labels = dict(zip(r.scores["key"], r.scores["label"]))
         keys = self._drawn_keys(r)
         for i, key in enumerate(keys):
-            colour = palette.FALLBACK_COLOURS[i % len(palette.FALLBACK_COLOURS)]
+            colour = _colour(i)
             item = self.plot.plot(x, 100 * r.forecasts[key].to_numpy(), pen=pg.mkPen(colour, width=1.2),
                                   name=f"{labels[key]} (QLIKE rank {int(ranks[key])})")
             self.lines.append(item)
