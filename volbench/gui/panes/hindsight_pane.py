@@ -281,6 +281,5 @@ class HindsightPane(Pane):
         k = self._garch_k
         every = max(1, -(-k // r.step)) * r.step
         notes = " ".join(n[0].upper() + n[1:] + "." for n in r.notes if "GARCH" in n)
-        return (f"GARCH(1,1) forward vol included: refit every K = {k} bars asked, so one fit every {every} bars "
-                f"(a multiple of the {r.step}-bar step) with its parameters reused in between. {notes} "
-                "With GARCH the as-of dates start once enough returns exist for a fit.")
+        return (f"GARCH(1,1) included: refit every K = {k} bars asked, rounded up to one fit every {every} bars "
+                f"(a multiple of the {r.step}-bar step). {notes} As-of dates start once a fit has enough returns.")
