@@ -7,6 +7,7 @@ import json
 
 import numpy as np
 import pytest
+from PySide6.QtCore import Qt
 
 from volbench.cli import main
 from volbench.gui.events_menu import set_events
@@ -71,3 +72,74 @@ def test_hindsight_pane_shows_the_cores_ranking(make_window, ironvale):
     shown = w.findChild(FrameTable, "hindsight_table").raw_frame()
     assert list(shown["key"]) == list(ref.scores["key"])
     assert len(w.panes["hindsight"].lines) == 3
+
+
+def test_include_garch_runs_the_hindsight_garch_job_and_agrees_with_the_command(make_window, ironvale, capsys):
+    prices, _ = ironvale
+    w = make_window(days=21)
+    w.open_files([prices])
+    pane = w.panes["hindsight"]
+    assert "garch" not in set(w.results.get("hindsight").scores["key"])
+    pane.refit_spin.setValue(126)
+    pane.garch_box.setChecked(True)  # the on-demand job runs synchronously in tests
+    r = pane.shown()
+    assert r is w.results.get("hindsight_garch") and "garch" in set(r.scores["key"])
+    # agreement check with the command line (same settings: 21-bar periods every 4 bars, refit every 126)
+    assert main(["hindsight", str(prices), "--days", "21", "--step", "4", "--with-garch", "--refit-every", "126",
+                 "--format", "json"]) == 0
+    cli = json.loads(capsys.readouterr().out)["series"][0]
+    shown = w.findChild(FrameTable, "hindsight_table").raw_frame()
+    assert list(shown["key"]) == [c["key"] for c in cli["candidates"]]
+    assert r.best == cli["best"]
+    np.testing.assert_allclose(shown["qlike"].to_numpy(), [c["qlike"] for c in cli["candidates"]], rtol=1e-12)
+    assert "garch" in pane._drawn_keys(r)  # drawn by default beside the best three
+    text = w.findChild(type(pane.reading), "hindsight_reading").text()
+    assert "refit every K = 126 bars" in text and "one fit every 128 bars" in text
+    pane.garch_box.setChecked(False)
+    assert "garch" not in set(w.findChild(FrameTable, "hindsight_table").raw_frame()["key"])
+
+
+def test_cancel_stops_the_garch_refits(make_window, ironvale, qtbot):
+    from volbench.errors import Cancelled
+    from volbench.gui.jobs import JOBS, Context, HindsightGarchRequest
+    from volbench.gui.state import Choices
+
+    prices, _ = ironvale
+    w = make_window(days=21)
+    w.open_files([prices])
+    ctx = Context(None, Choices().settings(), {}, HindsightGarchRequest(w.state.view(), 21, 4, 63))
+    told = []
+    with pytest.raises(Cancelled, match="after 2 of"):  # stops between two refits once asked
+        JOBS["hindsight_garch"].run(ctx, lambda d, t, s="": told.append(s), lambda: len(told) >= 3)
+    assert told[1].startswith("GARCH refit 1 of")
+    # in the window: a stopped run leaves the automatic ranking and unticks the box
+    pane = w.panes["hindsight"]
+    w.dispatcher.synchronous = False  # a real background run, stopped by the window's Cancel
+    pane.garch_box.setChecked(True)
+    assert w.dispatcher.is_running("hindsight_garch")
+    w.cancel_work()
+    w.dispatcher.wait()
+    qtbot.waitUntil(lambda: not pane.garch_box.isChecked(), timeout=10000)
+    assert "stopped" in pane.garch_status.text() and w.results.get("hindsight_garch") is None
+    assert pane.shown() is w.results.get("hindsight")
+
+
+def test_the_picker_chooses_the_drawn_lines(make_window, ironvale):
+    prices, _ = ironvale
+    w = make_window(days=21)
+    w.open_files([prices])
+    pane = w.panes["hindsight"]
+    r = w.results.get("hindsight")
+    keys = list(r.scores["key"])
+    assert pane.picker.count() == len(keys)
+    checked = [pane.picker.item(i) for i in range(pane.picker.count())
+               if pane.picker.item(i).checkState() == Qt.CheckState.Checked]
+    assert [i.data(Qt.ItemDataRole.UserRole) for i in checked] == keys[:3]  # default: best three by QLIKE
+    last = pane.picker.item(len(keys) - 1)
+    last.setCheckState(Qt.CheckState.Checked)  # as a click does
+    assert len(pane.lines) == 4
+    np.testing.assert_array_equal(pane.lines[-1].getData()[1], 100 * r.forecasts[keys[-1]].to_numpy())
+    pane.picker.item(0).setCheckState(Qt.CheckState.Unchecked)
+    assert len(pane.lines) == 3 and pane._drawn_keys(r) == [*keys[1:3], keys[-1]]
+    pane.pick([keys[5]])
+    assert len(pane.lines) == 1 and pane.picker.item(5).checkState() == Qt.CheckState.Checked

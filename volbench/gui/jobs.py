@@ -198,6 +198,18 @@ class SurveyRequest:
     with_garch: bool = False
 
 
+@dataclass(frozen=True)
+class HindsightGarchRequest:
+    """Re-run the Hindsight tab's scoring of ``view`` with the GARCH(1,1) candidate: ``days``-bar
+    periods every ``step`` bars, GARCH refitted every ``refit_every`` bars (rounded up to a multiple
+    of ``step``) with its parameters kept in between (``volbench hindsight --with-garch``)."""
+
+    view: PriceHistory
+    days: int
+    step: int
+    refit_every: int
+
+
 def survey_settings(settings: Settings, with_garch: bool = False, view=None) -> SurveySettings:
     """The survey the window's settings ask for: every group as chosen (GARCH only when asked),
     the option's life and its pricing vol for every series.
@@ -353,6 +365,21 @@ def _hindsight(ctx: Context, progress: Progress, cancel: Cancel):
                      progress=progress, cancel=cancel)
 
 
+def _hindsight_garch(ctx: Context, progress: Progress, cancel: Cancel):
+    """The hindsight run with GARCH (many fits: on demand, with progress and Cancel)."""
+    from volbench.hindsight import hindsight
+
+    _checkpoint(cancel)
+    r: HindsightGarchRequest | None = ctx.request
+    if r is None:
+        raise VolbenchError("Nothing to score yet: open a price file first.")
+    s = ctx.settings
+    calendar = None if s.events is None else s.events.calendar
+    progress(0, 1, f"Refitting GARCH through {r.view.name}'s history")
+    return hindsight(r.view, r.days, step=r.step, with_garch=True, refit_every=r.refit_every, events=calendar,
+                     annualization=s.annualization, progress=progress, cancel=cancel)
+
+
 def _load(ctx: Context, progress: Progress, cancel: Cancel):
     r: LoadRequest = ctx.request
     return load_files(r.paths, r.options, taken=r.taken, progress=progress, cancel=cancel,
@@ -479,6 +506,8 @@ JOBS: dict[str, Job] = {j.kind: j for j in (
          busy="Fitting {count} series…"),
     _job("survey", (), _survey, SurveyResult, background=True, on_demand=True, busy="Surveying {count} files…"),
     _job("memo", (), _memo, MemoReady, background=True, on_demand=True, busy="Building the vol memo…"),
+    _job("hindsight_garch", (), _hindsight_garch, Hindsight, background=True, on_demand=True,
+         busy="Refitting GARCH through the history…"),
 )}
 """Every job of the window, each listed after the jobs it depends on. Add a job with one entry."""
 
