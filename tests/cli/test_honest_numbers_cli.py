@@ -173,7 +173,8 @@ def test_scaling_json_and_text_state_the_family_false_alarm(capsys):
     assert fa["level"] == 0.05 and fa["rejected_at_most"] == 0.05 and 0.1 < fa["not_consistent"] < 0.25
     assert fa["length_bucket"] == 1260
     code, out, _ = _run(capsys, "scaling", KESTREL)
-    assert "On a perfectly Brownian series of about this length, at least one of the four" in out
+    # daily file: four properties plus the low-power daily jump screen, judged as five
+    assert "On a perfectly Brownian series of about this length, at least one of the five" in out
 
 
 # ------------------------------------------------------------------------------ dates and limits

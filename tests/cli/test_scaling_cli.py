@@ -39,7 +39,9 @@ def test_json_has_the_issue_shape(capsys, sample_dir):
             "jarque_bera_p"} <= set(s["horizons"][0])
     assert s["horizons"][0]["z"] is None  # undefined at h = 1: null, not NaN
     assert [v["property"] for v in s["verdicts"]] == ["variance_proportional_to_horizon", "normal_increments",
-                                                      "independent_increments", "negligible_drift"]
+                                                      "independent_increments", "negligible_drift",
+                                                      "continuous_paths"]
+    assert s["continuity"]["method"] == "lee_mykland" and s["continuity"]["low_power"] is True
     assert {v["status"] for v in s["verdicts"]} <= {"consistent", "doubtful", "rejected"}
     assert s["flagged_rows"] == "kept"
 

@@ -39,7 +39,7 @@ def test_json_has_the_issue_shape(capsys, folder):
         assert ISSUE_FIELDS <= set(s)
         assert set(s["findings"]) == {"error", "warning", "info"}
         assert set(s["verdicts"]) == {"variance_proportional_to_horizon", "normal_increments",
-                                      "independent_increments", "negligible_drift"}
+                                      "independent_increments", "negligible_drift", "continuous_paths"}
         for e in s["estimates"].values():
             assert set(e) == {"vol", "ci_low", "ci_high", "n"} and e["ci_low"] < e["vol"] < e["ci_high"]
         assert s["forward_vol"] is None and s["forward_vol_source"] is None  # GARCH not asked for

@@ -39,6 +39,10 @@ def test_intraday_file_opens_by_day_with_signature_and_jump_marks(make_window, s
     planted = {j["date"] for j in meta["planted_jumps"]}
     assert planted <= set(jumps["date"])
     assert len(pane.marks.data) == len(jumps)
+    # the Prices chart marks the same jump days on the daily close
+    price = w.panes["prices"]
+    marked = {str(np.datetime64(int(x * 1e9), "ns").astype("datetime64[D]")) for x in price.jumps.xData}
+    assert marked == set(jumps["date"])
     assert "5-minute bars, 78 a session" in pane.summary.text()
     assert len(_table(w, "verdict_table")) == 5
     w.tabs.setCurrentWidget(pane)

@@ -89,7 +89,7 @@ def test_import_dialog_returns_choices_and_refuses_a_contradiction(qtbot):
     d = ImportDialog(Choices(decimal=",", adjust_splits=True), files=2)
     qtbot.addWidget(d)
     assert d.values() == {"delimiter": None, "decimal": ",", "thousands": None, "date_format": None,
-                          "use_adjusted": False, "adjust_splits": True, "gap_days": 5}
+                          "use_adjusted": False, "adjust_splits": True, "gap_days": 5, "session_break": None}
     d.thousands.setCurrentIndex(d.thousands.findData(","))
     d.accept()
     assert d.result() != ImportDialog.DialogCode.Accepted
@@ -99,6 +99,25 @@ def test_import_dialog_returns_choices_and_refuses_a_contradiction(qtbot):
     d.accept()
     assert d.result() == ImportDialog.DialogCode.Accepted
     assert d.options().delimiter == ";" and d.options().thousands == "."
+
+
+def test_import_dialog_session_break_is_checked_and_reaches_the_load(make_window, sample_dir, monkeypatch, qtbot):
+    # the dialog's "Session break" field is --session-break: validated like it, then the file is read with it
+    d = ImportDialog(Choices(), files=1)
+    qtbot.addWidget(d)
+    d.session_break.setText("4 parsecs")
+    d.accept()
+    assert d.result() != ImportDialog.DialogCode.Accepted
+    assert d.findChild(QLabel, "import_problem_label").text()
+    d.session_break.setText("2h")
+    assert d.values()["session_break"] == "2h"
+    w = make_window()
+    monkeypatch.setattr(ImportDialog, "exec", lambda self: (self.session_break.setText("2h"),
+                                                            ImportDialog.DialogCode.Accepted)[1])
+    values = w.ask_import_choices(1)
+    w.open_files([sample_dir / "intraday" / "gullridge_energy_5min.csv"], import_choices=values)
+    (h,) = w.state.histories
+    assert w.state.choices.session_break == "2h" and h.intraday.layout.session_break_seconds == 7200.0
 
 
 def test_open_dialog_choices_settle_an_ambiguous_file(make_window, tmp_path, monkeypatch, message_boxes):

@@ -43,7 +43,7 @@ def test_loading_a_sample_file_fills_every_pane(make_window, quillon):
     assert len(findings) == 7 and set(findings["severity"]) == {"error", "warning", "info"}
     assert len(table(w, "estimates_table")) == len(REGISTRY)
     assert len(line(w, "rolling_plot", "Close-to-close").xData) > 1000
-    assert len(table(w, "verdict_table")) == 4
+    assert len(table(w, "verdict_table")) == 5  # the fifth: low-power jump screen on daily returns
     assert len(table(w, "cone_table")) == 6
     assert len(table(w, "garch_fit_table")) == 1
     comparison = table(w, "comparison_table")

@@ -14,13 +14,17 @@ from volbench.scaling import scaling_check
 from volbench.scaling.verdicts import PROPERTIES
 
 
-def test_daily_file_keeps_the_four_properties_exactly(simulate_ohlc):
+def test_daily_file_gets_the_low_power_daily_screen_as_fifth_property(simulate_ohlc):
     h = simulate_ohlc(500, 0.2, seed=4, steps=5)
     r = scaling_check(h)
-    assert tuple(v.property for v in r.verdicts) == PROPERTIES and r.intraday is None
+    assert tuple(v.property for v in r.verdicts) == (*PROPERTIES, "continuous_paths") and r.intraday is None
+    v = r.verdict("continuous_paths")
+    assert "Screen on daily returns only" in v.message and "low power" in v.message
     d = r.as_dict()
-    assert "continuity" not in d and "signature" not in d
-    assert "four properties" in r.family_false_alarm["sentence"]
+    assert d["continuity"]["method"] == "lee_mykland" and d["continuity"]["low_power"] is True
+    assert "signature" not in d and d["jump_days"] == d["continuity"]["jump_days"]
+    assert "five properties" in r.family_false_alarm["sentence"]
+    assert "jump screen on daily returns" in r.family_false_alarm["method"]
 
 
 def test_planted_jumps_reject_continuous_paths_and_mark_the_days():

@@ -36,7 +36,7 @@ def register(sub) -> None:
                     "saw against sqrt-time scaling of the 1-bar vol, and a verdict on each property.",
         epilog="Verdicts come from the tests alone: 'consistent' when p >= alpha (the data do not "
                "contradict the property; they do not prove it); 'rejected' when the test rejects even "
-               "after allowing for the four properties tested together (Holm); 'doubtful' when p < alpha "
+               "after allowing for the five properties tested together (Holm); 'doubtful' when p < alpha "
                "on its own but not after that allowance. Effect sizes are described in the sentence. "
                "The output states how often a perfectly Brownian series of the same length gets at least "
                "one non-consistent verdict by chance. Statistical evidence, not advice.",
@@ -148,7 +148,13 @@ def intraday_lines(r: ScalingResult) -> list[str]:
     """Signature plot and jump days of an intraday file analysed by day (none for daily bars)."""
     part = r.intraday
     if part is None:
-        return []
+        c = r.daily_continuity
+        if c is None or not len(c.jump_days):
+            return []
+        jd = c.jump_days
+        return ["", f"Jump days ({c.label}; {len(jd)} of {c.days_tested} returns at the {c.alpha:.0%} level)",
+                render_table(["date", "z", "p"], [[d.strftime("%Y-%m-%d"), number(z, 2), p_value(p)]
+                                                  for d, z, p in zip(jd["date"], jd["z"], jd["p_value"])], "lrr")]
     out = []
     if part.signature is not None:
         s = part.signature

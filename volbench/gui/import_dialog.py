@@ -20,6 +20,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from volbench import validate
 from volbench.data.options import ImportOptions
 from volbench.errors import VolbenchError
 from volbench.gui.state import Choices
@@ -83,6 +84,12 @@ class ImportDialog(QDialog):
         form.addRow("", self.use_adjusted)
         form.addRow("", self.adjust_splits)
         form.addRow("Report gaps over", self.gap_days)
+        self.session_break = QLineEdit(choices.session_break or "")
+        self.session_break.setObjectName("session_break_edit")
+        self.session_break.setPlaceholderText("calendar date; e.g. 4h or 90min")
+        self.session_break.setToolTip("Intraday files: a gap between bars longer than this starts a new session "
+                                      "(as --session-break); empty: one session per calendar date")
+        form.addRow("Session break", self.session_break)
         lay.addLayout(form)
         self.problem = QLabel("")
         self.problem.setObjectName("import_problem_label")
@@ -106,11 +113,15 @@ class ImportDialog(QDialog):
             "use_adjusted": self.use_adjusted.isChecked(),
             "adjust_splits": self.adjust_splits.isChecked(),
             "gap_days": self.gap_days.value(),
+            "session_break": self.session_break.text().strip() or None,
         }
 
     def options(self) -> ImportOptions:
-        """The choices as the validated settings object; raises :class:`VolbenchError` if invalid."""
-        return ImportOptions().with_changes(**self.values())
+        """The choices as the validated settings object; raises :class:`VolbenchError` if invalid
+        (the session break included, checked by :func:`volbench.validate.session_break`)."""
+        values = self.values()
+        validate.session_break(values.pop("session_break"))
+        return ImportOptions().with_changes(**values)
 
     def accept(self) -> None:
         try:

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -40,6 +40,7 @@ from volbench.scaling.verdicts import (
 from volbench.types import DEFAULT_ANNUALIZATION, check_annualization
 
 if TYPE_CHECKING:
+    from volbench.intraday.jumps import ContinuityCheck
     from volbench.scaling.continuity import IntradayPart
 
 DEFAULT_HORIZONS: tuple[int, ...] = (1, 2, 5, 10, 20, 40, 60)
@@ -123,6 +124,9 @@ class ScalingResult:
     intraday: IntradayPart | None = None
     """For a file of intraday bars analysed by day: the continuity check (its verdict is the fifth,
     ``continuous_paths``), the jump days and the signature plot (:mod:`volbench.scaling.continuity`)."""
+    daily_continuity: ContinuityCheck | None = None
+    """For a file of daily bars: the low-power jump screen on daily returns behind the fifth verdict,
+    ``continuous_paths`` (:func:`volbench.scaling.continuity.daily_continuity`)."""
 
     @property
     def exclude_flagged(self) -> bool:
@@ -187,6 +191,9 @@ class ScalingResult:
             "notes": list(self.notes),
             "provenance": self.provenance,
             **(self._intraday_dict() if self.intraday is not None else {}),
+            **({"continuity": self.daily_continuity.as_dict(),
+                "jump_days": self.daily_continuity.as_dict()["jump_days"]}
+               if self.daily_continuity is not None else {}),
         }
 
 
@@ -279,9 +286,10 @@ def scaling_check(
         chow_denning_p=st.cd_p, ljung_box=frame(st.lb, LJUNG_BOX_LABELS), acf=frame(st.ac, ACF_LABELS),
         qq=frame({"theoretical": theo, "sample": samp}, _QQ_LABELS), drift=st.dr, verdicts=st.verdicts,
         n_returns=st.n, alpha=alpha, annualization=a, notes=st.notes, provenance=history.provenance(),
-        family_false_alarm=(continuity.five_property_false_alarm(family_false_alarm(st.n, alpha), alpha)
+        family_false_alarm=(continuity.five_property_false_alarm(family_false_alarm(st.n, alpha), alpha,
+                                                                 daily=st.intraday is None)
                             if len(st.verdicts) == 5 else family_false_alarm(st.n, alpha)),
-        intraday=st.intraday,
+        intraday=st.intraday, daily_continuity=st.daily_continuity,
     )
 
 
@@ -333,6 +341,7 @@ class _Statistics:
     dr: dict
     verdicts: tuple[Verdict, ...]
     intraday: IntradayPart | None = None
+    daily_continuity: ContinuityCheck | None = None
 
 
 def _statistics(history: PriceHistory, hs: tuple[int, ...], alpha: float, a: float, lb_lags: list[int],
@@ -409,12 +418,18 @@ def _statistics(history: PriceHistory, hs: tuple[int, ...], alpha: float, a: flo
     p_values = [cd_p, float(jb_p[0]), min(independence_p(lb)), float(dr["p_value"])]
     from volbench.scaling.continuity import (  # imports the intraday core
         continuity_verdict,
+        daily_continuity,
         intraday_part,
     )
 
-    part = intraday_part(history, alpha, a)  # None for daily bars: the four properties as before
+    part = intraday_part(history, alpha, a)  # None for daily bars: the low-power daily screen instead
+    daily, daily_reason = (None, None) if part is not None else daily_continuity(history, alpha)
     if part is not None and part.p_value is not None:
         p_values.append(part.p_value)
+    elif daily is not None:
+        p_values.append(daily.family_p_value)
+    elif daily_reason:
+        notes.append(f"continuous paths not tested: {daily_reason}")
     st = family_statuses(p_values, alpha)
     verdicts = (
         variance_verdict(cols, cd_stat, cd_p, fit, alpha, st[0]),
@@ -423,8 +438,11 @@ def _statistics(history: PriceHistory, hs: tuple[int, ...], alpha: float, a: flo
         drift_verdict(dr, alpha, st[3]),
     )
     if len(st) == 5:
-        verdicts += (continuity_verdict(part, st[4], alpha),)
-    return _Statistics(r, n, dropped, tuple(notes), cols, fit, cd_stat, cd_p, lb, ac, dr, verdicts, part)
+        verdicts = tuple(replace(v, message=v.message.replace("the four properties are judged",
+                                                              "the five properties are judged"))
+                         for v in verdicts)
+        verdicts += (continuity_verdict(part if part is not None else daily, st[4], alpha),)
+    return _Statistics(r, n, dropped, tuple(notes), cols, fit, cd_stat, cd_p, lb, ac, dr, verdicts, part, daily)
 
 
 def horizon_vol(result: ScalingResult, days: float) -> float | None:

@@ -5,8 +5,9 @@ Brownian motion has continuous paths. With intraday bars behind the daily series
 test of :mod:`volbench.intraday.jumps` (realized variance against bipower variation, per day) tests
 that property; its family p-value (the largest daily statistic over the days tested, Sidak) joins
 the other four properties' p-values in the scaling check's Holm family, so "rejected" on any of the
-five keeps its family bound alpha. A file of daily bars has no such test here: its check keeps the
-four properties exactly as before (the low-power daily jump screen is in ``volbench realized``).
+five keeps its family bound alpha. A file of daily bars gets the low-power jump screen on daily
+returns instead (:func:`volbench.intraday.jumps.lee_mykland_screen`, :func:`daily_continuity`), in
+the same Holm family, its verdict labelled low-power.
 Methods and sources: docs/METHODS.md, "Intraday data, realized measures and jumps".
 """
 
@@ -17,7 +18,13 @@ from dataclasses import dataclass, replace
 from volbench.data.history import PriceHistory
 from volbench.errors import VolbenchError
 from volbench.format import pct
-from volbench.intraday.jumps import JUMP_ALPHA, PROPERTY, ContinuityCheck, continuity_check
+from volbench.intraday.jumps import (
+    JUMP_ALPHA,
+    PROPERTY,
+    ContinuityCheck,
+    continuity_check,
+    lee_mykland_screen,
+)
 from volbench.intraday.signature import SignaturePlot, signature_plot
 from volbench.scaling.verdicts import Status, Verdict
 
@@ -56,9 +63,26 @@ def intraday_part(history: PriceHistory, alpha: float, annualization: float,
     return IntradayPart(cont, sig, unavailable)
 
 
-def continuity_verdict(part: IntradayPart, status: Status, alpha: float) -> Verdict:
+def daily_continuity(history: PriceHistory, alpha: float,
+                     jump_alpha: float = JUMP_ALPHA) -> tuple[ContinuityCheck | None, str | None]:
+    """The low-power jump screen on daily returns for a file of daily bars, or ``(None, reason)``.
+
+    Notes
+    -----
+    Lee & Mykland (2008), local volatility by bipower variation over the previous K = 16 returns,
+    the current return excluded; p-values from the simulated jump-free null, cached per length
+    (:func:`volbench.intraday.jumps.lee_mykland_screen`; docs/METHODS.md, "Intraday data, realized
+    measures and jumps").
+    """
+    try:
+        return lee_mykland_screen(history, alpha=jump_alpha, verdict_alpha=alpha), None
+    except VolbenchError as exc:
+        return None, str(exc)
+
+
+def continuity_verdict(part: IntradayPart | ContinuityCheck, status: Status, alpha: float) -> Verdict:
     """The continuity check's verdict with its status from the five-property Holm family."""
-    v = part.continuity.verdict
+    v = (part.continuity if isinstance(part, IntradayPart) else part).verdict
     msg = v.message
     if status == "doubtful":
         msg = msg.replace("Paths are not continuous", "Paths may not be continuous")
@@ -67,8 +91,13 @@ def continuity_verdict(part: IntradayPart, status: Status, alpha: float) -> Verd
     return replace(v, status=status, message=msg)
 
 
-def five_property_false_alarm(four: dict, alpha: float) -> dict:
+def five_property_false_alarm(four: dict, alpha: float, daily: bool = False) -> dict:
     """The family false-alarm record of the four daily properties, extended to the fifth.
+
+    With ``daily`` the fifth is the jump screen on daily returns: same combination, its family
+    p-value read from a simulated jump-free null, so its size is alpha up to simulation error
+    (tests/scaling/test_daily_continuity.py measures it and the five-property rate); it reads the
+    same returns as the normality test, so independence is an approximation there.
 
     Notes
     -----
@@ -84,8 +113,12 @@ def five_property_false_alarm(four: dict, alpha: float) -> dict:
     sentence = (f"On a perfectly Brownian series of about this length, at least one of the five properties is "
                 f"called doubtful or rejected about {pct(rate, 0)} of the time at level {alpha:g}, by chance alone; "
                 f"any 'rejected' about {pct(alpha, 0)} (Holm).")
+    if daily:
+        extra = ("; with the low-power jump screen on daily returns at its nominal size (simulated null), treated "
+                 "as independent of the four: 1 - (1 - rate) (1 - alpha)")
+    else:
+        extra = ("; with the continuity check at its nominal size, treated as independent of the four: "
+                 "1 - (1 - rate) (1 - alpha) (simulation measures the continuity verdict alone at about twice its "
+                 "level with 78 returns a day)")
     return {**four, "not_consistent": rate, "bonferroni_bound": min(1.0, 5 * alpha), "properties": 5,
-            "method": four["method"] + "; with the continuity check at its nominal size, treated as independent "
-                                       "of the four: 1 - (1 - rate) (1 - alpha) (simulation measures the "
-                                       "continuity verdict alone at about twice its level with 78 returns a day)",
-            "sentence": sentence}
+            "method": four["method"] + extra, "sentence": sentence}

@@ -10,7 +10,7 @@ import json
 from volbench.format import json_safe
 
 VERDICT_ORDER = ("variance_proportional_to_horizon", "normal_increments", "independent_increments",
-                 "negligible_drift")
+                 "negligible_drift", "continuous_paths")
 """The scaling verdicts in the order tables show them."""
 
 

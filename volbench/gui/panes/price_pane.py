@@ -13,6 +13,9 @@ from volbench.gui.panes.price_overlay import PriceOverlay
 from volbench.gui.state import WorkbenchState
 from volbench.gui.widgets import Card, Plot
 
+JUMP_MARK = "#D55E00"
+"""Colour of the jump-day marks (the intraday pane's)."""
+
 
 def epoch_seconds(dates: np.ndarray) -> np.ndarray:
     """datetime64 -> seconds since 1970 (what pyqtgraph's date axis reads)."""
@@ -35,6 +38,10 @@ class PricePane(Pane):
                                        symbolBrush=pg.mkBrush(palette.FLAGGED))
         self.plot.addItem(self.flagged)
         self.legend.addItem(self.flagged, "Flagged row")
+        # jump days of an intraday file's continuity check (scaling result), on the daily close
+        self.jumps = pg.PlotDataItem([], [], pen=None, symbol="t", symbolSize=11,
+                                     symbolPen=pg.mkPen(JUMP_MARK), symbolBrush=pg.mkBrush(JUMP_MARK))
+        self.plot.addItem(self.jumps)
         self.log_scale = QCheckBox("Log price scale")
         self.log_scale.setObjectName("price_log_check")
         self.log_scale.setToolTip("Plot prices on a logarithmic axis: equal percentage moves look equal")
@@ -61,7 +68,27 @@ class PricePane(Pane):
         self.card = Card(inner, "price_card")
         lay.addWidget(self.card)
         state.changed.connect(self._on_state)
+        results.updated.connect(self._on_results)
         self.render()
+
+    def _on_results(self, kinds) -> None:
+        if "scaling" in kinds:
+            self._mark_jumps()
+
+    def _mark_jumps(self) -> None:
+        """Mark the jump days the intraday continuity check listed (none for a file of daily bars)."""
+        h, r = self.state.loaded(), self.results.get("scaling")
+        self.legend.removeItem(self.jumps)
+        part = getattr(r, "intraday", None)
+        if h is None or part is None or part.continuity is None or r.name != h.name:
+            self.jumps.setData([], [])
+            return
+        days = part.continuity.jump_days["date"].to_numpy(dtype="datetime64[ns]")
+        dates = np.asarray(h.dates, dtype="datetime64[ns]")
+        at = np.searchsorted(dates, days)
+        ok = (at < h.n) & (dates[np.minimum(at, h.n - 1)] == days)
+        self.jumps.setData(epoch_seconds(days[ok]), h.close[at[ok]])
+        self.legend.addItem(self.jumps, f"Jump day (continuity check, {part.continuity.alpha:.0%} level)")
 
     def _on_log(self, on: bool) -> None:
         self.plot.getPlotItem().setLogMode(x=False, y=on)
@@ -96,6 +123,7 @@ class PricePane(Pane):
             self.as_of_line.hide()
         self.plot.getPlotItem().setTitle(f"{h.name}: {h.price_basis}, {h.n} rows, {h.first_date} to "
                                          f"{h.last_date}", color=palette.FOREGROUND, size="10pt")
+        self._mark_jumps()
         self.plot.enableAutoRange()
         errors = sum(f.severity == "error" for f in h.findings)
         self.caption.setText(
