@@ -8,9 +8,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from volbench.cli.common import _clean
 from volbench.data import load_prices
 from volbench.errors import VolbenchError
+from volbench.format import json_safe
 from volbench.scaling import (
     DEFAULT_HORIZONS,
     HORIZON_COLUMNS,
@@ -220,7 +220,7 @@ def test_as_dict_has_the_issue_shape_and_is_json_safe(history_from_returns):
                 "jarque_bera_p"):
         assert key in d["horizons"][0]
     assert set(d["verdicts"][0]) == {"property", "status", "statistic", "p_value", "message"}
-    text = json.dumps(_clean(d), allow_nan=False)
+    text = json.dumps(json_safe(d), allow_nan=False)
     assert json.loads(text)["horizons"][0]["z"] is None  # undefined at h = 1: null, not a number
     assert d["dropped"] == {"60": res.dropped[60]}
 

@@ -84,11 +84,8 @@ def parse_int_list(text: str, what: str) -> list[int]:
     return int_list(text, what)
 
 
-_clean = json_safe  # the one JSON-safe conversion (volbench.format)
-
-
 def print_json(obj) -> None:
-    json.dump(_clean(obj), sys.stdout, indent=2, allow_nan=False)
+    json.dump(json_safe(obj), sys.stdout, indent=2, allow_nan=False)
     sys.stdout.write("\n")
 
 

@@ -19,11 +19,10 @@ import pandas as pd
 from volbench import analysis
 from volbench.data.history import PriceHistory
 from volbench.estimators import REGISTRY
+from volbench.export.layout import BREAKEVENS_COLUMNS, EVENTS_COLUMNS, PRICE_BANDS_COLUMNS
 from volbench.export.sections import SectionResult, _finish, _note, _run
 from volbench.settings import Settings
 
-EVENTS_COLUMNS = ("series", "as_of", "row", "key", "label", "window", "vol", "ci_low", "ci_high", "n",
-                  "blended_vol", "variance", "variance_ci_low", "variance_ci_high", "expected_abs_move", "events", "events_in_life", "days", "note")
 EVENTS_PERCENT = ("vol", "ci_low", "ci_high", "blended_vol", "expected_abs_move")
 
 
@@ -61,14 +60,6 @@ def events_section(histories: Sequence[PriceHistory], settings: Settings,
     return _finish("events", results, failed, {"events": table}, {"events": EVENTS_PERCENT}, notes)
 
 
-BAND_EXPORT = ("series", "as_of", "days", "spot", "key", "label", "vol", "sigmas", "low_price", "high_price",
-               "low_move", "high_move", "promised", "observed", "observed_ci_low", "observed_ci_high",
-               "observed_below", "observed_above", "windows", "overlapping_observed", "overlapping_windows",
-               "promise_in_ci")
-BREAKEVEN_EXPORT = ("series", "as_of", "days", "spot", "key", "label", "vol", "option", "strike", "premium",
-                    "breakeven_move", "breakeven_low", "breakeven_high", "promised_share_beyond",
-                    "observed_share_beyond", "observed_ci_low", "observed_ci_high", "windows",
-                    "overlapping_share_beyond", "overlapping_windows", "promise_in_ci")
 BAND_PERCENT = ("vol", "low_move", "high_move", "promised", "observed", "observed_ci_low", "observed_ci_high",
                 "observed_below", "observed_above", "overlapping_observed")
 BREAKEVEN_PERCENT = ("vol", "breakeven_move", "promised_share_beyond", "observed_share_beyond", "observed_ci_low",
@@ -86,7 +77,7 @@ def promise_tables(comparisons: Mapping[str, Any]) -> tuple[dict[str, pd.DataFra
         b = p.bands.copy()
         for i, (k, v) in enumerate(front.items()):
             b.insert(i, k, v)
-        bands.append(b.reindex(columns=list(BAND_EXPORT)))
+        bands.append(b.reindex(columns=list(PRICE_BANDS_COLUMNS)))
         st = p.straddles.copy()
         st.insert(0, "option", "straddle")
         be = p.breakevens.rename(columns={"kind": "option"}).copy()
@@ -95,7 +86,7 @@ def promise_tables(comparisons: Mapping[str, Any]) -> tuple[dict[str, pd.DataFra
         for df in (st, be):
             for i, (k, v) in enumerate(front.items()):
                 df.insert(i, k, v)
-            bes.append(df.reindex(columns=list(BREAKEVEN_EXPORT)))
+            bes.append(df.reindex(columns=list(BREAKEVENS_COLUMNS)))
     tables, percent = {}, {}
     if bands:
         tables["price_bands"] = pd.concat(bands, ignore_index=True)

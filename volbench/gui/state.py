@@ -68,8 +68,8 @@ class LifeChoice:
             object.__setattr__(self, "read", read_holidays(self.holidays))
 
     def with_changes(self, **changes: Any) -> LifeChoice:
-        keep = {} if "holidays" in changes else {"read": self.read}
-        return replace(self, **keep, **changes) if keep else replace(self, read=None, **changes)
+        read = None if "holidays" in changes else self.read  # a new file is read in __post_init__
+        return replace(self, read=read, **changes)
 
     def settings(self) -> LifeSettings:
         if self.expiry is not None:

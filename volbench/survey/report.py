@@ -14,13 +14,10 @@ VERDICT_ORDER = ("variance_proportional_to_horizon", "normal_increments", "indep
 """The scaling verdicts in the order tables show them."""
 
 
-_clean = json_safe  # the one JSON-safe conversion (volbench.format)
-
-
 def survey_json(result) -> str:
     """The survey as indented JSON (the shape of docs and the issue: engine, workers, elapsed_s,
     settings, series)."""
-    return json.dumps(_clean(result.as_dict()), indent=2, allow_nan=False) + "\n"
+    return json.dumps(json_safe(result.as_dict()), indent=2, allow_nan=False) + "\n"
 
 
 def _keys():
